@@ -1,0 +1,223 @@
+package analyze
+
+// Schema is the value of Result.Schema for this version of the analysis JSON.
+const Schema = "capcycle.analysis/1"
+
+// Result is the analysis of one capture: the JSON object that "capcycle analyze --json"
+// prints and that the report is built from (so a report can be rebuilt from a saved JSON).
+//
+// The key names are a contract (see DEVELOPERS.md, "Analysis JSON"): add fields, never
+// rename or remove them. A value that cannot be determined is null (a nil pointer), never
+// a made-up number.
+type Result struct {
+	Schema    string  `json:"schema"`
+	Source    Source  `json:"source"`
+	Samples   int     `json:"samples"`
+	DurationS float64 `json:"duration_s"`
+
+	Cycles   []Cycle   `json:"cycles"`
+	Segments []Segment `json:"segments"`
+
+	Fit          Fit          `json:"fit"`
+	EquilibriumV *Estimate    `json:"equilibrium_v"`
+	Equilibrium  *Settling    `json:"equilibrium,omitempty"`
+	Capacitance  *Capacity    `json:"capacitance,omitempty"`
+	Noise        *Noise       `json:"noise,omitempty"`
+	Light        []LightPt    `json:"light,omitempty"`
+	Findings     []Finding    `json:"findings"`
+	Prediction   *Prediction  `json:"prediction"`
+	Declared     *Declared    `json:"declared,omitempty"`
+	Envelope     []EnvelopePt `json:"envelope,omitempty"`
+}
+
+// Source describes the capture the analysis read.
+type Source struct {
+	Path     string            `json:"path"`
+	Profile  string            `json:"profile,omitempty"`
+	StartRFC string            `json:"start,omitempty"` // RFC 3339, from the capture metadata
+	Meta     map[string]string `json:"meta,omitempty"`  // the capture's "# key: value" lines
+	GapsS    float64           `json:"gaps_s"`          // total time inside gaps
+	Lost     int               `json:"lost_samples"`    // samples the recorder counted as lost
+}
+
+// Estimate is a fitted or measured value with its standard error. SD is nil when the
+// uncertainty is unknown (for example, a declared value).
+type Estimate struct {
+	Value float64  `json:"value"`
+	SD    *float64 `json:"sd"`
+	// Lo95 and Hi95 bound the 95 % confidence interval when it is known.
+	Lo95 *float64 `json:"lo95,omitempty"`
+	Hi95 *float64 `json:"hi95,omitempty"`
+	// Origin says where the value comes from: "fitted", "measured", "declared" or "flag".
+	Origin string `json:"origin,omitempty"`
+}
+
+// Cycle is one fire and the reset that follows it.
+type Cycle struct {
+	Index   int      `json:"index"`
+	FireS   float64  `json:"fire_s"`   // onset of the fast fall, seconds from capture start
+	FireV   float64  `json:"fire_v"`   // the peak before the fall, volts
+	ResetS  float64  `json:"reset_s"`  // end of the fall, charging resumes
+	ResetV  float64  `json:"reset_v"`  // the trough, volts
+	ChargeS *float64 `json:"charge_s"` // from the previous reset to this fire; null for the first cycle
+	PulseS  float64  `json:"pulse_s"`  // reset_s - fire_s
+	EnergyJ *float64 `json:"energy_j"` // ½C(fire_v² − reset_v²), null when C is unknown
+	Kind    string   `json:"kind"`     // "full" or "chatter"
+	// Isc is the cell's short-circuit current (or, without C, Isc/C in V/s) fitted from this
+	// cycle's charging segment: a light-level trace.
+	LightA *float64 `json:"light_a,omitempty"`
+}
+
+// Segment is a stretch of the capture of one kind.
+type Segment struct {
+	Kind   string  `json:"kind"` // "charging", "firing", "dark-decay", "plateau", "saturated", "gap"
+	StartS float64 `json:"start_s"`
+	EndS   float64 `json:"end_s"`
+	StartV float64 `json:"start_v"`
+	EndV   float64 `json:"end_v"`
+}
+
+// Fit holds the fitted circuit.
+type Fit struct {
+	Trigger TriggerFit `json:"trigger"`
+	Load    LoadFit    `json:"load"`
+	Leak    LeakFit    `json:"leak"`
+	Cell    CellFit    `json:"cell"`
+}
+
+// TriggerFit is what the fires and resets say about the trigger.
+type TriggerFit struct {
+	Kind string    `json:"kind"` // "voltage", "timer", "plateau" or "unknown"
+	OnV  *Estimate `json:"on_v"`
+	OffV *Estimate `json:"off_v"`
+	// DriftVPerH is the slope of on_v over the day (volts per hour), with its SD.
+	OnDriftVPerH *Estimate `json:"on_drift_v_per_h,omitempty"`
+	PeriodS      *Estimate `json:"period_s,omitempty"` // mean interval between fires
+	PulseS       *Estimate `json:"pulse_s,omitempty"`
+}
+
+// LoadFit describes the discharge through the load.
+type LoadFit struct {
+	TauS *Estimate `json:"tau_s"`
+	Ohm  *Estimate `json:"ohm"` // needs the capacitance
+	// Resistive is false when the goodness of fit says the load is not a resistor (a motor).
+	Resistive *bool     `json:"resistive,omitempty"`
+	StartOhm  *Estimate `json:"start_ohm,omitempty"` // effective resistance early in the pulse
+	EndOhm    *Estimate `json:"end_ohm,omitempty"`   // and late in it
+	RMSResidV *float64  `json:"rms_resid_v,omitempty"`
+}
+
+// LeakFit describes the slow drains of the storage node without light.
+type LeakFit struct {
+	TauS       *Estimate `json:"tau_s"`
+	Ohm        *Estimate `json:"ohm"`
+	QuiescentA *Estimate `json:"quiescent_a"`
+	// ProbeOhm is the probe divider's known share, subtracted from Ohm and reported apart.
+	ProbeOhm *Estimate `json:"probe_ohm,omitempty"`
+	Method   string    `json:"method,omitempty"` // "dark-decay", "plateau" or ""
+}
+
+// CellFit holds the single-diode parameters recovered by capacitive-load I-V tracing.
+type CellFit struct {
+	IscA   *Estimate `json:"isc_a"`
+	VocV   *Estimate `json:"voc_v"`
+	I0A    *Estimate `json:"i0_a,omitempty"`
+	N      *Estimate `json:"n,omitempty"` // ideality factor times cells in series
+	RsOhm  *Estimate `json:"rs_ohm,omitempty"`
+	RshOhm *Estimate `json:"rsh_ohm,omitempty"`
+	MppV   *float64  `json:"mpp_v,omitempty"`
+	MppW   *float64  `json:"mpp_w,omitempty"`
+	// IV is the traced curve (volts, amperes) that the fit used, decimated.
+	IV [][2]float64 `json:"iv,omitempty"`
+}
+
+// Settling describes where the voltage levels off when it never reaches the trigger.
+type Settling struct {
+	Within1PctS *float64  `json:"within_1pct_s"` // time from the start of the approach to within 1 % of V_eq
+	TauS        *Estimate `json:"tau_s"`
+}
+
+// Capacity is the storage capacitance the analysis used, and where it came from.
+type Capacity struct {
+	F   Estimate `json:"f"`
+	Tol string   `json:"tolerance_code,omitempty"`
+}
+
+// Noise is the sample noise and resolution seen in the capture.
+type Noise struct {
+	RMSV  float64 `json:"rms_v"`
+	StepV float64 `json:"step_v"` // the smallest voltage step seen (ADC LSB)
+}
+
+// LightPt is one point of the light-level trace.
+type LightPt struct {
+	TS     float64 `json:"t_s"`
+	Level  float64 `json:"level"` // relative to the brightest stretch (0..1)
+	FiresH float64 `json:"fires_per_h"`
+}
+
+// EnvelopePt is one bin of the min/max envelope of the voltage, for plots of long captures.
+type EnvelopePt struct {
+	TS   float64 `json:"t_s"`
+	MinV float64 `json:"min_v"`
+	MaxV float64 `json:"max_v"`
+}
+
+// Finding is one diagnosis. Code is a short kebab-case word of our own (the list lives in
+// DEVELOPERS.md); Numbers carries the figures behind Message, with units in their keys.
+type Finding struct {
+	Code       string             `json:"code"`
+	Severity   string             `json:"severity"` // "info", "warn" or "fault"
+	Message    string             `json:"message"`
+	Suggestion string             `json:"suggestion,omitempty"`
+	Numbers    map[string]float64 `json:"numbers"`
+}
+
+// Declared is the profile's view of the circuit, kept for the parameter table.
+type Declared struct {
+	CapF       *float64 `json:"cap_f,omitempty"`
+	CapTol     string   `json:"cap_tolerance_code,omitempty"`
+	OnV        *float64 `json:"on_v,omitempty"`
+	OffV       *float64 `json:"off_v,omitempty"`
+	LoadOhm    *float64 `json:"load_ohm,omitempty"`
+	ProbeOhm   *float64 `json:"probe_ohm,omitempty"`
+	QuiescentA *float64 `json:"quiescent_a,omitempty"`
+	VocV       *float64 `json:"voc_v,omitempty"`
+	IscA       *float64 `json:"isc_a,omitempty"`
+}
+
+// Prediction compares measured cycles with the model's, nominal and fitted.
+type Prediction struct {
+	Cycles  []PredictedCycle `json:"cycles"`
+	Nominal *ErrorSummary    `json:"nominal"`
+	Fitted  *ErrorSummary    `json:"fitted"`
+	HeldOut *ErrorSummary    `json:"held_out,omitempty"`
+}
+
+// PredictedCycle is one measured cycle beside its two predictions.
+type PredictedCycle struct {
+	Index    int        `json:"index"`
+	Measured CycleFigs  `json:"measured"`
+	Nominal  *CycleFigs `json:"nominal"`
+	Fitted   *CycleFigs `json:"fitted"`
+}
+
+// CycleFigs are the figures compared for each cycle.
+type CycleFigs struct {
+	ChargeS *float64 `json:"charge_s"`
+	PulseS  *float64 `json:"pulse_s"`
+	FireV   *float64 `json:"fire_v"`
+	ResetV  *float64 `json:"reset_v"`
+	EnergyJ *float64 `json:"energy_j"`
+}
+
+// ErrorSummary sums up prediction errors of charge time (the headline figure) and the rest.
+type ErrorSummary struct {
+	N             int      `json:"n"`
+	BiasPct       *float64 `json:"bias_pct"`
+	MAPEPct       *float64 `json:"mape_pct"`
+	RMSS          *float64 `json:"rms_s"`
+	Within10Pct   *float64 `json:"within_10pct"` // share of cycles (0..1)
+	PulseMAPEPct  *float64 `json:"pulse_mape_pct,omitempty"`
+	EnergyMAPEPct *float64 `json:"energy_mape_pct,omitempty"`
+}
