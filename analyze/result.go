@@ -28,6 +28,22 @@ type Result struct {
 	Prediction   *Prediction  `json:"prediction"`
 	Declared     *Declared    `json:"declared,omitempty"`
 	Envelope     []EnvelopePt `json:"envelope,omitempty"`
+
+	// Traces are a few measured cycles, decimated, with time relative to the fire, for the
+	// overlay plot; ModelTrace is the fitted model's cycle on the same axis.
+	Traces     []Trace `json:"traces,omitempty"`
+	ModelTrace *Trace  `json:"model_trace,omitempty"`
+	// LeakTrace holds the dark-decay (or plateau-approach) points the leak fit used, and
+	// LeakModel the fitted curve over them.
+	LeakTrace *Trace `json:"leak_trace,omitempty"`
+	LeakModel *Trace `json:"leak_model,omitempty"`
+}
+
+// Trace is a short waveform: time in seconds (relative to a stated origin) and volts.
+type Trace struct {
+	Label string    `json:"label,omitempty"`
+	TS    []float64 `json:"t_s"`
+	V     []float64 `json:"v"`
 }
 
 // Source describes the capture the analysis read.
