@@ -1,0 +1,117 @@
+package capture
+
+// pow10 holds the powers of ten that float64 represents exactly (10^0 .. 10^22).
+var pow10 = [...]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10,
+	1e11, 1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22}
+
+// parseNumber parses the common decimal forms ("-12", "2.41513", ".5", "1e-3",
+// "4.7E+02", and "2,415" when decimal is ',') without allocating. It returns ok false for
+// anything else, or when the result might not be correctly rounded, so the caller falls
+// back to strconv.ParseFloat.
+//
+// The fast path is Clinger's: when the decimal mantissa m fits in 53 bits and the power
+// of ten p has |p| <= 22, both m and 10^p are exact doubles, so one IEEE multiplication
+// or division gives the correctly rounded result (W. D. Clinger, "How to read floating
+// point numbers accurately", PLDI 1990).
+func parseNumber(b []byte, decimal byte) (float64, bool) {
+	i, n := 0, len(b)
+	if n == 0 {
+		return 0, false
+	}
+	neg := false
+	switch b[0] {
+	case '-':
+		neg = true
+		i++
+	case '+':
+		i++
+	}
+	var mant uint64
+	digits, exp := 0, 0
+	sawDigit, sawDot := false, false
+	for ; i < n; i++ {
+		c := b[i]
+		switch {
+		case c >= '0' && c <= '9':
+			sawDigit = true
+			if mant == 0 && c == '0' {
+				if sawDot {
+					exp--
+				}
+				continue
+			}
+			if digits >= 19 {
+				return 0, false
+			}
+			mant = mant*10 + uint64(c-'0')
+			digits++
+			if sawDot {
+				exp--
+			}
+		case (c == '.' || c == decimal) && !sawDot:
+			sawDot = true
+		case c == 'e' || c == 'E':
+			if !sawDigit {
+				return 0, false
+			}
+			e, ok := parseExp(b[i+1:])
+			if !ok {
+				return 0, false
+			}
+			exp += e
+			i = n
+		default:
+			return 0, false
+		}
+	}
+	if !sawDigit {
+		return 0, false
+	}
+	if mant == 0 {
+		if neg {
+			return -0.0, true
+		}
+		return 0, true
+	}
+	if mant >= 1<<53 || exp < -22 || exp > 22 {
+		return 0, false
+	}
+	f := float64(mant)
+	if exp < 0 {
+		f /= pow10[-exp]
+	} else {
+		f *= pow10[exp]
+	}
+	if neg {
+		f = -f
+	}
+	return f, true
+}
+
+func parseExp(b []byte) (int, bool) {
+	if len(b) == 0 {
+		return 0, false
+	}
+	neg := false
+	switch b[0] {
+	case '-':
+		neg = true
+		b = b[1:]
+	case '+':
+		b = b[1:]
+	}
+	if len(b) == 0 || len(b) > 4 {
+		return 0, false
+	}
+	e := 0
+	for _, c := range b {
+		if c < '0' || c > '9' {
+			return 0, false
+		}
+		e = e*10 + int(c-'0')
+	}
+	if neg {
+		e = -e
+	}
+	return e, true
+}
