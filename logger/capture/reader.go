@@ -235,10 +235,13 @@ func (r *Reader) nextLine() (line []byte, complete bool, err error) {
 }
 
 // checkText rejects control bytes other than tab (a binary file).
-func (r *Reader) checkText(line []byte) error {
+func (r *Reader) checkText(line []byte) error { return r.checkTextAt(line, 1) }
+
+// checkTextAt is checkText for a field that starts at column col.
+func (r *Reader) checkTextAt(line []byte, col int) error {
 	for i, c := range line {
 		if (c < 0x20 && c != '\t') || c == 0x7f {
-			return r.errf(i+1, nil, ErrBinary)
+			return r.errf(col+i, nil, ErrBinary)
 		}
 	}
 	return nil
@@ -609,7 +612,7 @@ func (r *Reader) timeField(f []byte, col int) (float64, error) {
 	}
 	ts, err := time.Parse(time.RFC3339Nano, s)
 	if err != nil {
-		if err := r.checkText(g); err != nil {
+		if err := r.checkTextAt(g, col); err != nil {
 			return 0, err
 		}
 		return 0, r.errf(col, g, ErrBadTime)
@@ -660,7 +663,7 @@ func (r *Reader) number(f []byte, col int) (float64, error) {
 		if errors.As(err, &ne) && ne.Err == strconv.ErrRange {
 			return 0, r.errf(col, g, ErrNotFinite)
 		}
-		if err := r.checkText(g); err != nil {
+		if err := r.checkTextAt(g, col); err != nil {
 			return 0, err
 		}
 		for _, c := range g {

@@ -1,5 +1,7 @@
 package capture
 
+import "math"
+
 // pow10 holds the powers of ten that float64 represents exactly (10^0 .. 10^22).
 var pow10 = [...]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10,
 	1e11, 1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22}
@@ -69,7 +71,7 @@ func parseNumber(b []byte, decimal byte) (float64, bool) {
 	}
 	if mant == 0 {
 		if neg {
-			return -0.0, true
+			return math.Copysign(0, -1), true
 		}
 		return 0, true
 	}
