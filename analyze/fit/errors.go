@@ -32,3 +32,16 @@ func (e *StatusError) Unwrap() error { return ErrNotConverged }
 func inputErrorf(format string, args ...any) error {
 	return fmt.Errorf("%w: "+format, append([]any{ErrInput}, args...)...)
 }
+
+// errorf returns an error wrapping sentinel, with the message "fit: " + format.
+func errorf(sentinel error, format string, args ...any) error {
+	return &wrapped{msg: "fit: " + fmt.Sprintf(format, args...), err: sentinel}
+}
+
+type wrapped struct {
+	msg string
+	err error
+}
+
+func (w *wrapped) Error() string { return w.msg }
+func (w *wrapped) Unwrap() error { return w.err }
