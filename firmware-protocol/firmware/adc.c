@@ -1,0 +1,274 @@
+/*
+ * adc.c - the sample clock (Timer1) and the oversampled conversion blocks.
+ *
+ * Timing. Timer1 runs in CTC mode; each compare match A is one fast sample tick. Its
+ * interrupt stamps the tick with the device clock and starts a block of conversions; the
+ * ADC interrupt starts each following conversion of the block, so no conversion waits for
+ * the main loop. The sample's time is the tick, which is exact to the crystal.
+ *
+ * ADC clock. The prescaler is 128: 16 MHz / 128 = 125 kHz, inside the 50..200 kHz the
+ * datasheet asks for full 10-bit resolution (ATmega328P datasheet, ADC chapter, section
+ * "Prescaling and Conversion Timing"; from memory). A normal conversion takes 13 ADC
+ * clocks (104 us), the first after enabling the ADC 25 (same section, table "ADC
+ * Conversion Time"; from memory). A single conversion started by setting ADSC begins at
+ * the next ADC clock edge, so back-to-back conversions started from the ADC interrupt cost
+ * at most 14 ADC clocks = 112 us; adc_max_hz() budgets with that.
+ *
+ * Oversampling and decimation (Atmel application note AVR121, "Enhancing ADC resolution by
+ * oversampling"): for n extra bits, sum 4^n conversions and shift the sum right by n.
+ *
+ * Noise practice. DIDR0 disables the digital input buffers of ADC0..ADC3 (datasheet,
+ * "Digital Input Disable Register 0"). After every mux change the first conversion is
+ * discarded; after a reference change the ADC makes and discards a few conversions while
+ * the reference settles (the band-gap needs some tens of microseconds to start; datasheet,
+ * "Internal Voltage Reference"; from memory). The ADC noise reduction sleep mode is not
+ * used: it stops the I/O clock, and with it Timer1 and the USART that this design needs
+ * (datasheet, "Sleep Modes" table of active clock domains; from memory). The main loop
+ * sleeps in idle mode, which stops only the CPU clock.
+ */
+#include "adc.h"
+
+#include <avr/interrupt.h>
+#include <avr/io.h>
+#include <util/atomic.h>
+
+#define ADC_PRESCALER_BITS (_BV(ADPS2) | _BV(ADPS1) | _BV(ADPS0)) /* /128 */
+#define CONV_US_MAX 112u /* 14 ADC clocks at 125 kHz */
+
+#define QLEN 4 /* finished samples waiting for the main loop (power of two) */
+
+static volatile struct sample queue[QLEN];
+static volatile uint8_t q_head, q_tail;
+
+/* Device clock: whole microseconds plus a half-microsecond remainder. */
+static volatile uint32_t clock_us;
+static volatile uint8_t clock_half;
+static volatile uint32_t up_s;
+static volatile uint32_t up_acc_us;
+static uint16_t tick_half_us_lo; /* half-microseconds per tick, low 16 bits */
+static uint8_t tick_half_us_hi;  /* and high 8 bits (up to 2^24 half-us = 8.4 s) */
+
+static volatile uint32_t overruns;
+
+/* Block state, owned by the interrupts. */
+static volatile uint8_t running;
+static volatile uint8_t busy;
+static uint8_t n_ch;
+static uint8_t admux_ref = 0xff; /* none yet: the first configure settles */
+static uint8_t count_half;        /* half-microseconds per Timer1 count */
+static uint8_t cur_ch;
+static uint8_t cur_n;
+static uint8_t discard;
+static uint16_t acc;
+static struct sample cur;
+
+static uint8_t refs_bits(uint8_t ref)
+{
+	switch (ref) {
+	case REF_INT:
+		return _BV(REFS1) | _BV(REFS0); /* internal 1.1 V band-gap */
+	case REF_EXT:
+		return 0; /* AREF pin */
+	default:
+		return _BV(REFS0); /* AVcc, with the capacitor at AREF */
+	}
+}
+
+void adc_init(void)
+{
+	DIDR0 = _BV(ADC0D) | _BV(ADC1D) | _BV(ADC2D) | _BV(ADC3D);
+	ADCSRA = _BV(ADEN) | ADC_PRESCALER_BITS;
+	ADCSRB = 0;
+}
+
+uint16_t adc_max_hz(uint8_t nch)
+{
+	/* Conversions per sample: 4^OVS_BITS per channel, plus one discarded after each
+	 * mux change when more than one channel is on. */
+	uint16_t k = (uint16_t)(nch * OVS_N + (nch > 1 ? nch : 0));
+	/* Block time plus 64 us for the interrupts around it. */
+	uint32_t block_us = (uint32_t)k * CONV_US_MAX + 64u;
+	uint32_t adc_hz = 1000000UL / block_us;
+	/* Link: a sample frame is at most 31 + 5 * nch bytes, 10 bits a byte; keep 20 %
+	 * for the other frames. */
+	uint32_t link_hz = (BAUD / 10UL) * 4UL / 5UL / (31UL + 5UL * nch);
+	return (uint16_t)(adc_hz < link_hz ? adc_hz : link_hz);
+}
+
+/* Busy-wait conversions on the current ADMUX, results discarded. Interrupts off. */
+static void settle(uint8_t n)
+{
+	while (n--) {
+		ADCSRA = _BV(ADEN) | _BV(ADSC) | _BV(ADIF) | ADC_PRESCALER_BITS;
+		while (ADCSRA & _BV(ADSC))
+			;
+	}
+	ADCSRA = _BV(ADEN) | _BV(ADIF) | ADC_PRESCALER_BITS;
+}
+
+void adc_configure(uint16_t fast_hz, uint8_t nch, uint8_t ref)
+{
+	/* Smallest Timer1 prescaler whose compare value fits 16 bits. */
+	static const uint16_t presc[4] = {8, 64, 256, 1024};
+	static const uint8_t cs[4] = {_BV(CS11), _BV(CS11) | _BV(CS10), _BV(CS12),
+				      _BV(CS12) | _BV(CS10)};
+	uint8_t i;
+	uint32_t ticks = 0;
+	for (i = 0; i < 4; i++) {
+		uint32_t clk = F_CPU / presc[i];
+		ticks = (clk + fast_hz / 2) / fast_hz;
+		if (ticks <= 65536UL)
+			break;
+	}
+	if (i == 4) {
+		i = 3;
+		ticks = 65536UL;
+	}
+	/* One timer count is presc/16 us = presc/8 half-us. */
+	uint32_t half = ticks * (presc[i] / 8u);
+
+	ATOMIC_BLOCK(ATOMIC_FORCEON)
+	{
+		TIMSK1 = 0;
+		TCCR1B = 0;
+		/* Carry the elapsed part of the old period into the clock, so the clock
+		 * keeps true time across a rate change. */
+		uint32_t el_half = (uint32_t)TCNT1 * count_half + clock_half;
+		clock_us += el_half >> 1;
+		up_acc_us += el_half >> 1;
+		clock_half = (uint8_t)(el_half & 1);
+		count_half = (uint8_t)(presc[i] / 8u);
+		ADCSRA = _BV(ADEN) | _BV(ADIF) | ADC_PRESCALER_BITS; /* stop any block */
+		busy = 0;
+		q_head = q_tail = 0;
+		n_ch = nch;
+		uint8_t rb = refs_bits(ref);
+		if (rb != admux_ref) {
+			/* New reference: let it settle, discarding the conversions. */
+			admux_ref = rb;
+			ADMUX = rb;
+			settle(4);
+		}
+		tick_half_us_lo = (uint16_t)half;
+		tick_half_us_hi = (uint8_t)(half >> 16);
+		TCCR1A = 0;
+		TCCR1B = _BV(WGM12); /* CTC, clock still off */
+		TCNT1 = 0;
+		OCR1A = (uint16_t)(ticks - 1);
+		TCCR1B = _BV(WGM12) | cs[i];
+		TIFR1 = _BV(OCF1A);
+		TIMSK1 = _BV(OCIE1A);
+	}
+}
+
+void adc_run(uint8_t on)
+{
+	running = on;
+}
+
+/* Sample tick: advance the clock and start a conversion block. */
+ISR(TIMER1_COMPA_vect)
+{
+	uint32_t half = ((uint32_t)tick_half_us_hi << 16) | tick_half_us_lo;
+	uint32_t us = half >> 1;
+	if (half & 1) {
+		if (clock_half) {
+			us++;
+			clock_half = 0;
+		} else {
+			clock_half = 1;
+		}
+	}
+	clock_us += us;
+	up_acc_us += us;
+	while (up_acc_us >= 1000000UL) {
+		up_acc_us -= 1000000UL;
+		up_s++;
+	}
+	if (!running)
+		return;
+	if (busy) {
+		overruns++;
+		return;
+	}
+	busy = 1;
+	cur.t_us = clock_us;
+	cur_ch = 0;
+	cur_n = 0;
+	acc = 0;
+	/* With one channel the mux never changes, so nothing is discarded. */
+	discard = (n_ch > 1) ? 1 : 0;
+	ADMUX = admux_ref; /* channel 0 */
+	ADCSRA = _BV(ADEN) | _BV(ADSC) | _BV(ADIF) | _BV(ADIE) | ADC_PRESCALER_BITS;
+}
+
+ISR(ADC_vect)
+{
+	uint16_t v = ADC;
+	if (discard) {
+		discard = 0;
+	} else {
+		acc += v; /* at most 16 * 1023 for OVS_BITS = 2: fits 16 bits up to OVS_BITS 3 */
+		if (++cur_n == OVS_N) {
+			cur.c[cur_ch] = (uint16_t)(acc >> OVS_BITS);
+			acc = 0;
+			cur_n = 0;
+			if (++cur_ch == n_ch) {
+				uint8_t h = q_head;
+				uint8_t nh = (uint8_t)((h + 1) & (QLEN - 1));
+				if (nh == q_tail) {
+					overruns++;
+				} else {
+					queue[h].t_us = cur.t_us;
+					for (uint8_t k = 0; k < MAX_CH; k++)
+						queue[h].c[k] = cur.c[k];
+					q_head = nh;
+				}
+				busy = 0;
+				ADCSRA = _BV(ADEN) | _BV(ADIF) | ADC_PRESCALER_BITS;
+				return;
+			}
+			ADMUX = admux_ref | cur_ch;
+			discard = 1;
+		}
+	}
+	ADCSRA = _BV(ADEN) | _BV(ADSC) | _BV(ADIF) | _BV(ADIE) | ADC_PRESCALER_BITS;
+}
+
+uint8_t adc_ready(void)
+{
+	return q_head != q_tail;
+}
+
+uint8_t adc_pop(struct sample *s)
+{
+	uint8_t t = q_tail;
+	if (t == q_head)
+		return 0;
+	s->t_us = queue[t].t_us;
+	for (uint8_t k = 0; k < MAX_CH; k++)
+		s->c[k] = queue[t].c[k];
+	q_tail = (uint8_t)((t + 1) & (QLEN - 1));
+	return 1;
+}
+
+uint32_t adc_now_us(void)
+{
+	uint32_t v;
+	ATOMIC_BLOCK(ATOMIC_RESTORESTATE) { v = clock_us; }
+	return v;
+}
+
+uint32_t adc_uptime_s(void)
+{
+	uint32_t v;
+	ATOMIC_BLOCK(ATOMIC_RESTORESTATE) { v = up_s; }
+	return v;
+}
+
+uint32_t adc_overruns(void)
+{
+	uint32_t v;
+	ATOMIC_BLOCK(ATOMIC_RESTORESTATE) { v = overruns; }
+	return v;
+}

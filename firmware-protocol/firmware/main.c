@@ -1,0 +1,94 @@
+/*
+ * main.c - capcycle board firmware for ATmega328P boards at 16 MHz.
+ *
+ * The board samples ADC0..ADC(nch-1) on a timer, oversampled to EBITS bits, and sends the
+ * adaptive capture of PROTOCOL.md over the USART: slow averaged A frames while the
+ * voltage creeps, bursts of S frames around every fast change. See README.md.
+ *
+ * Interrupts do the timing (Timer1 compare A starts each conversion block, the ADC
+ * interrupt chains the conversions, the USART interrupts move the bytes); the main loop
+ * turns finished samples into frames, handles commands, and sleeps in idle mode.
+ */
+#include "config.h"
+
+#include <avr/interrupt.h>
+#include <avr/io.h>
+#include <avr/pgmspace.h>
+#include <avr/sleep.h>
+#include <avr/wdt.h>
+
+#include "adc.h"
+#include "capture.h"
+#include "cmd.h"
+#include "settings.h"
+#include "uart.h"
+
+/* MCUSR is read and cleared before main, and the watchdog stopped, so that a watchdog
+ * reset does not repeat while the program starts (ATmega328P datasheet, "Watchdog
+ * Timer": WDRF must be cleared before WDE can be; from memory). */
+static uint8_t mcusr_copy __attribute__((section(".noinit")));
+
+void early_reset_cause(void) __attribute__((naked, used, section(".init3")));
+void early_reset_cause(void)
+{
+	mcusr_copy = MCUSR;
+	MCUSR = 0;
+	wdt_disable();
+}
+
+static PGM_P cause_of(uint8_t m)
+{
+	if (m & _BV(PORF))
+		return PSTR("por");
+	if (m & _BV(BORF))
+		return PSTR("bod");
+	if (m & _BV(WDRF))
+		return PSTR("wdt");
+	if (m & _BV(EXTRF))
+		return PSTR("ext");
+	/* No flag: a boot loader cleared MCUSR before starting us (some do). */
+	return PSTR("unk");
+}
+
+int main(void)
+{
+	reset_cause = cause_of(mcusr_copy);
+	settings_load();
+	uart_init();
+	adc_init();
+	running = 1;
+	apply_settings();
+	wdt_enable(WDTO_1S);
+	sei();
+
+	send_id(1);
+	send_status();
+
+	uint32_t next_st = ST_PERIOD_S;
+	struct sample s;
+	for (;;) {
+		wdt_reset();
+		while (uart_rx_ready()) {
+			int16_t b = uart_get();
+			if (b >= 0)
+				cmd_byte((uint8_t)b);
+		}
+		while (adc_pop(&s))
+			cap_sample(&s);
+		cap_poll();
+		if (adc_uptime_s() >= next_st) {
+			next_st += ST_PERIOD_S;
+			send_status();
+		}
+		/* Sleep until the next interrupt unless work is waiting. */
+		cli();
+		if (!uart_rx_ready() && !adc_ready()) {
+			set_sleep_mode(SLEEP_MODE_IDLE);
+			sleep_enable();
+			sei();
+			sleep_cpu();
+			sleep_disable();
+		}
+		sei();
+	}
+}

@@ -1,0 +1,123 @@
+/*
+ * uart.c - USART0 at BAUD with U2X, 8N1, interrupt-driven rings.
+ *
+ * With U2X the baud rate is F_CPU / (8 * (UBRR + 1)) (ATmega328P datasheet, USART0
+ * chapter, "Equations for Calculating Baud Rate Register Setting"; from memory), so
+ * 16 MHz gives 1 Mbaud exactly with UBRR = 1, 500 kbaud with 3, 250 kbaud with 7.
+ */
+#include "config.h"
+#include "uart.h"
+
+#include <avr/interrupt.h>
+#include <avr/io.h>
+#include <avr/wdt.h>
+#include <util/atomic.h>
+
+#define UBRR_VALUE ((F_CPU + 4UL * BAUD) / (8UL * BAUD) - 1UL)
+
+static volatile uint8_t tx_buf[TX_SIZE];
+static volatile uint8_t tx_head; /* written by the main loop */
+static volatile uint8_t tx_tail; /* advanced by the UDRE interrupt */
+static volatile uint8_t tx_full_flag;
+
+static volatile uint8_t rx_buf[RX_SIZE];
+static volatile uint8_t rx_head, rx_tail;
+
+#if TX_SIZE != 256
+#error "uart.c uses 8-bit indices: TX_SIZE must be 256"
+#endif
+
+void uart_init(void)
+{
+	UBRR0H = (uint8_t)(UBRR_VALUE >> 8);
+	UBRR0L = (uint8_t)UBRR_VALUE;
+	UCSR0A = _BV(U2X0);
+	UCSR0C = _BV(UCSZ01) | _BV(UCSZ00); /* 8 data bits, no parity, 1 stop bit */
+	UCSR0B = _BV(RXEN0) | _BV(TXEN0) | _BV(RXCIE0);
+}
+
+uint16_t uart_tx_used(void)
+{
+	uint8_t h, t, f;
+	ATOMIC_BLOCK(ATOMIC_RESTORESTATE)
+	{
+		h = tx_head;
+		t = tx_tail;
+		f = tx_full_flag;
+	}
+	if (f)
+		return TX_SIZE;
+	return (uint8_t)(h - t);
+}
+
+uint16_t uart_tx_free(void)
+{
+	return TX_SIZE - uart_tx_used();
+}
+
+void uart_put_nowait(uint8_t b)
+{
+	uint8_t h = tx_head;
+	tx_buf[h] = b;
+	h++;
+	ATOMIC_BLOCK(ATOMIC_RESTORESTATE)
+	{
+		tx_head = h;
+		if (h == tx_tail)
+			tx_full_flag = 1;
+		UCSR0B |= _BV(UDRIE0);
+	}
+}
+
+void uart_put_wait(uint8_t b)
+{
+	while (uart_tx_free() == 0)
+		wdt_reset();
+	uart_put_nowait(b);
+}
+
+void uart_flush(void)
+{
+	while (uart_tx_used() != 0)
+		wdt_reset();
+	while (!(UCSR0A & _BV(UDRE0)))
+		;
+}
+
+ISR(USART_UDRE_vect)
+{
+	uint8_t t = tx_tail;
+	if (t == tx_head && !tx_full_flag) {
+		UCSR0B &= (uint8_t)~_BV(UDRIE0);
+		return;
+	}
+	UDR0 = tx_buf[t];
+	tx_tail = (uint8_t)(t + 1);
+	tx_full_flag = 0;
+}
+
+ISR(USART_RX_vect)
+{
+	uint8_t b = UDR0;
+	uint8_t h = rx_head;
+	uint8_t n = (uint8_t)((h + 1) & (RX_SIZE - 1));
+	if (n != rx_tail) { /* a full ring drops the byte; the command then fails its CRC */
+		rx_buf[h] = b;
+		rx_head = n;
+	}
+}
+
+uint8_t uart_rx_ready(void)
+{
+	return rx_head != rx_tail;
+}
+
+int16_t uart_get(void)
+{
+	uint8_t t = rx_tail;
+	if (t == rx_head)
+		return -1;
+	uint8_t b = rx_buf[t];
+	rx_tail = (uint8_t)((t + 1) & (RX_SIZE - 1));
+	return b;
+}
