@@ -109,7 +109,7 @@ func TestRTCFrance(t *testing.T) {
 		explicit  float64 // explicit-current RMSE recomputed in the file's notes (0: none given)
 		explicitH float64
 	}{
-		"best_known":                  {9.8602e-04, 0.5e-8, 7.753913e-04, 0.5e-10},
+		"best_known": {9.8602e-04, 0.5e-8, 7.753913e-04, 0.5e-10},
 		// Printed to 4-5 digits only; see the rounding check below.
 		"Newton_Easwarakhanthan_1986": {0.00970, -1, 0, 0},
 	}
