@@ -1,0 +1,174 @@
+package logger
+
+import (
+	"errors"
+	"fmt"
+	"time"
+
+	"capcycle/firmware-protocol/wire"
+	"capcycle/logger/capture"
+)
+
+// handshake asks for the identity, sends the settings the config asks for, and (first
+// time) creates the capture file from the board's identity. Samples that arrive before
+// it ends are not recorded.
+func (ss *session) handshake(rd *chunkReader, first bool) error {
+	if ss.s == nil {
+		ss.s = newStream(nil, 0, ss.cfg.Dividers)
+	}
+	s := ss.s
+	s.hold = true
+	defer func() { s.hold = false; s.onID, s.onReply = nil, nil }()
+
+	var ids int
+	var reply wire.Frame
+	s.onID = func(wire.Identity) { ids++ }
+	s.onReply = func(f wire.Frame) { reply = f }
+	haveAllCh := func() bool {
+		for k := 0; k < int(s.id.NCh) && k < wire.MaxChannels; k++ {
+			if !s.haveCh[k] {
+				return false
+			}
+		}
+		return true
+	}
+	// Ask for the identity, again each second until it comes.
+	deadline := ss.cfg.Now().Add(ss.cfg.Handshake)
+	for ids == 0 {
+		if err := ss.send(wire.CmdID{}); err != nil {
+			return err
+		}
+		until := ss.cfg.Now().Add(time.Second)
+		if until.After(deadline) {
+			until = deadline
+		}
+		if err := ss.await(rd, until, func() bool { return ids > 0 }); err != nil && !errors.Is(err, errWait) {
+			return err
+		}
+		if ids == 0 && !ss.cfg.Now().Before(deadline) {
+			return fmt.Errorf("%w on %s within %v (is it running capcycle firmware? for other firmware use text input)",
+				ErrHandshake, ss.path, ss.cfg.Handshake)
+		}
+	}
+	if err := ss.await(rd, ss.cfg.Now().Add(ss.cfg.Handshake), haveAllCh); err != nil && !errors.Is(err, errWait) {
+		return err
+	}
+	// Settings.
+	for _, cmd := range ss.commands(s.id) {
+		reply = nil
+		n := ids
+		if err := ss.send(cmd); err != nil {
+			return err
+		}
+		err := ss.await(rd, ss.cfg.Now().Add(ss.cfg.Handshake), func() bool { return reply != nil && ids > n && haveAllCh() })
+		if nak, ok := reply.(wire.Nak); ok {
+			return fmt.Errorf("logger: the board refused >%s: %s (code %d)", nak.Cmd, nak.Msg, nak.Code)
+		}
+		if err != nil {
+			return fmt.Errorf("logger: no reply to >%s from %s: %w", cmd.Tag(), ss.path, err)
+		}
+	}
+	nch := int(s.id.NCh)
+	want := ss.cfg.Channels
+	if want == 0 {
+		want = nch
+	}
+	if nch < want {
+		return fmt.Errorf("logger: the board sends %d channels, %d asked", nch, want)
+	}
+	if first {
+		s.ncol = want
+		s.vals = make([]float64, want)
+		if err := ss.openFile(ss.header(IdentityString(s.id), ss.channels(want))); err != nil {
+			return err
+		}
+		s.w = ss.w
+		return nil
+	}
+	if s.written {
+		return s.w.Meta(capture.KeyBoard, IdentityString(s.id))
+	}
+	return nil
+}
+
+// channels describes the recorded columns from the board's identity and CH frames.
+func (ss *session) channels(n int) []capture.Channel {
+	s := ss.s
+	cols := ss.cfg.columns(n)
+	out := make([]capture.Channel, n)
+	for k := range out {
+		c := s.ch[k]
+		out[k] = capture.Channel{Column: cols[k], ADC: k, Bits: int(s.id.EBits),
+			RefV: float64(s.id.RefUV) / 1e6, Divider: s.divider(k),
+			Gain: c.Gain.Float64(), OffsetV: float64(c.OffUV) / 1e6, CalFrom: "board"}
+	}
+	return out
+}
+
+// commands are the settings to send: only what differs from the board's identity.
+func (ss *session) commands(id wire.Identity) []wire.Frame {
+	c := &ss.cfg
+	var out []wire.Frame
+	if c.Channels > 0 && uint32(c.Channels) != id.NCh {
+		out = append(out, wire.CmdChan{N: uint32(c.Channels)})
+	}
+	if c.SlowHz > 0 || c.FastHz > 0 {
+		r := wire.CmdRate{SlowHz: id.SlowHz, FastHz: id.FastHz}
+		if c.SlowHz > 0 {
+			r.SlowHz = c.SlowHz
+		}
+		if c.FastHz > 0 {
+			r.FastHz = c.FastHz
+		}
+		if r.SlowHz != id.SlowHz || r.FastHz != id.FastHz {
+			out = append(out, r)
+		}
+	}
+	if b := c.Burst; b != nil && (b.Thr != id.Thr || b.Pre != id.Pre || b.Post != id.Post) {
+		post := b.Post
+		if post == 0 {
+			post = id.Post
+		}
+		out = append(out, wire.CmdBurst{Thr: b.Thr, Pre: b.Pre, Post: post})
+	}
+	if c.Ref != "" && wire.Ref(c.Ref) != id.Ref {
+		out = append(out, wire.CmdRef{Src: wire.Ref(c.Ref)})
+	}
+	return out
+}
+
+func (ss *session) send(f wire.Frame) error {
+	_, err := ss.port.Write(wire.Append(nil, f))
+	return err
+}
+
+var errWait = errors.New("logger: timed out waiting for the board")
+
+// await feeds the stream from rd until cond holds, the deadline passes (errWait), the
+// port fails, or the context ends.
+func (ss *session) await(rd *chunkReader, deadline time.Time, cond func() bool) error {
+	for !cond() {
+		d := deadline.Sub(ss.cfg.Now())
+		if d <= 0 {
+			return errWait
+		}
+		t := time.NewTimer(d)
+		select {
+		case c := <-rd.chunks:
+			t.Stop()
+			if c.err != nil {
+				return c.err
+			}
+			err := ss.s.feed(c.b, ss.hostS(ss.cfg.Now()))
+			rd.release(c)
+			if err != nil {
+				return err
+			}
+		case <-t.C:
+		case <-ss.ctx.Done():
+			t.Stop()
+			return ss.ctx.Err()
+		}
+	}
+	return nil
+}

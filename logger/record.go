@@ -1,0 +1,469 @@
+package logger
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"strings"
+	"time"
+
+	"capcycle/firmware-protocol/wire"
+	"capcycle/logger/capture"
+)
+
+// Input says what the port carries.
+type Input int
+
+// Inputs.
+const (
+	InputFrames Input = iota // the capcycle wire protocol (handshake, frames with CRCs)
+	InputText                // lines of numbers from other firmware, no handshake
+)
+
+// Config is one recording. The zero value of each field means its default; Out is
+// required. cmd/capcycle fills it from the profile and the flags.
+type Config struct {
+	Port  string // port path; "" picks the one board that answers a probe (InputFrames)
+	Mode  *Mode  // port settings; nil means the defaults of Mode
+	Open  Opener // opens ports; default Open (the real serial stack)
+	Input Input  // default InputFrames
+
+	Out    string // capture file path; required
+	Force  bool   // replace an existing Out
+	Append bool   // continue an existing Out (capture.Append)
+
+	Profile string   // profile name, for the header; "" leaves it out
+	Notes   []string // free "note" lines for the header
+
+	// Board settings (InputFrames). Zero keeps what the board has.
+	Channels int      // channels to record, 1..4; 0 records every channel the board sends
+	Columns  []string // column names after vcap_v; default ch1_v, ch2_v, ...
+	SlowHz   uint32
+	FastHz   uint32
+	Burst    *Burst    // nil keeps the board's burst settings
+	Ref      string    // "avcc", "int" or "ext"; "" keeps
+	Dividers []float64 // per channel divider ratio (ADC volts / node volts); 0 uses the board's
+
+	Text TextInput // conversion of InputText lines
+
+	Duration time.Duration // stop after this long; 0: no limit
+	Until    time.Time     // stop at this time; zero: no limit
+
+	Status   io.Writer     // live status; nil: none
+	Terminal bool          // Status is a terminal: a status line redrawn in place, <= 4 a second
+	LogEvery time.Duration // a plain status line this often when not a terminal; default 1 min
+
+	Now       func() time.Time // the host clock; default time.Now
+	RetryMin  time.Duration    // first wait before reopening a lost port; default 250 ms
+	RetryMax  time.Duration    // longest wait between reopen attempts; default 5 s
+	Silence   time.Duration    // no bytes for this long means the link is lost; default 15 s
+	Handshake time.Duration    // how long to wait for the identity and replies; default 3 s
+}
+
+// Burst is the adaptive-capture setting sent with ">burst".
+type Burst struct {
+	Thr, Pre, Post uint32
+}
+
+// TextInput converts lines of numbers to volts:
+// v = n / 2^Bits * VrefV / Divider * Scale (with Bits 0, n is already in volts).
+type TextInput struct {
+	Bits    int     // resolution of the counts; 0: the numbers are volts
+	VrefV   float64 // ADC reference, volts; required when Bits > 0
+	Divider float64 // divider ratio, ADC volts / node volts, (0, 1]; 0 means 1
+	Scale   float64 // a further factor; 0 means 1
+	Columns int     // numbers per line to record; 0: as many as the first good line has
+}
+
+// Summary is what a recording did.
+type Summary struct {
+	Out        string
+	Stats      capture.Stats
+	Clock      capture.Clock
+	Segments   int
+	Reconnects int
+	Cycles     int
+	Elapsed    time.Duration
+	Stop       string // why it stopped: "duration", "until", "cancelled", or "error"
+}
+
+// ErrNoBoard is returned when no port was given and no board answered a probe.
+var ErrNoBoard = errors.New("logger: no board answered; give the port")
+
+// ErrManyBoards is returned when no port was given and more than one board answered.
+var ErrManyBoards = errors.New("logger: more than one board answered; give the port")
+
+// ErrHandshake is wrapped by the error of a board that did not send its identity.
+var ErrHandshake = errors.New("logger: no identity frame from the board")
+
+func (c *Config) defaults() Config {
+	r := *c
+	if r.Open == nil {
+		r.Open = Open
+	}
+	if r.Now == nil {
+		r.Now = time.Now
+	}
+	if r.RetryMin <= 0 {
+		r.RetryMin = 250 * time.Millisecond
+	}
+	if r.RetryMax <= 0 {
+		r.RetryMax = 5 * time.Second
+	}
+	if r.Silence <= 0 {
+		r.Silence = 15 * time.Second
+	}
+	if r.Handshake <= 0 {
+		r.Handshake = 3 * time.Second
+	}
+	if r.LogEvery <= 0 {
+		r.LogEvery = time.Minute
+	}
+	return r
+}
+
+func (c *Config) check() error {
+	switch {
+	case c.Out == "":
+		return errors.New("logger: no output file")
+	case c.Force && c.Append:
+		return errors.New("logger: force and append exclude each other")
+	case c.Channels > wire.MaxChannels:
+		return fmt.Errorf("logger: %d channels asked; the board has at most %d", c.Channels, wire.MaxChannels)
+	}
+	for k, d := range c.Dividers {
+		if d < 0 || d > 1 {
+			return fmt.Errorf("logger: channel %d divider %g is not a ratio in (0, 1] (ADC volts over node volts)", k, d)
+		}
+	}
+	if c.Input == InputText {
+		t := c.Text
+		if t.Bits < 0 || t.Bits > 32 || t.Bits > 0 && t.VrefV <= 0 || t.Divider < 0 || t.Divider > 1 {
+			return fmt.Errorf("logger: text input needs bits in 0..32, a positive vref with bits, and a divider in (0, 1] (got bits %d vref %g divider %g)", t.Bits, t.VrefV, t.Divider)
+		}
+	}
+	return nil
+}
+
+// columns is the header's column names for n channels.
+func (c *Config) columns(n int) []string {
+	cols := []string{capture.ColVcap}
+	for k := 1; k < n; k++ {
+		if k-1 < len(c.Columns) && c.Columns[k-1] != "" {
+			cols = append(cols, c.Columns[k-1])
+		} else {
+			cols = append(cols, fmt.Sprintf("ch%d_v", k))
+		}
+	}
+	return cols
+}
+
+// session is one running recording.
+type session struct {
+	cfg      Config
+	ctx      context.Context
+	start    time.Time // host time at time_s 0 of this session's axis (Append: the file's)
+	begun    time.Time // when this session began
+	w        *capture.Writer
+	s        *stream
+	status   *statusLine
+	sum      Summary
+	deadline time.Time
+	port     Port
+	path     string
+	text     *textParser
+}
+
+// Record runs one recording until ctx is cancelled, Duration passes or Until comes, and
+// closes the file cleanly. A lost port is reopened with back-off and the recording goes
+// on in the same file; a failed write (disk full) stops it with the error, keeping what
+// was written.
+func Record(ctx context.Context, cfg *Config) (*Summary, error) {
+	if err := cfg.check(); err != nil {
+		return nil, err
+	}
+	ss := &session{cfg: cfg.defaults(), ctx: ctx}
+	ss.begun = ss.cfg.Now()
+	ss.deadline = stopTime(&ss.cfg, ss.begun)
+	ss.status = newStatusLine(ss.cfg.Status, ss.cfg.Terminal, ss.cfg.LogEvery)
+	ss.sum.Out = cfg.Out
+	err := ss.run()
+	return &ss.sum, err
+}
+
+func stopTime(c *Config, now time.Time) time.Time {
+	var d time.Time
+	if c.Duration > 0 {
+		d = now.Add(c.Duration)
+	}
+	if !c.Until.IsZero() && (d.IsZero() || c.Until.Before(d)) {
+		d = c.Until
+	}
+	return d
+}
+
+func (ss *session) run() error {
+	path := ss.cfg.Port
+	if path == "" {
+		if ss.cfg.Input == InputText {
+			return errors.New("logger: text input needs a port path")
+		}
+		p, err := SelectBoard(ss.ctx, ss.cfg.Open, ss.cfg.Mode)
+		if err != nil {
+			return err
+		}
+		path = p
+	}
+	ss.path = path
+	port, err := ss.cfg.Open(path, ss.cfg.Mode)
+	if err != nil {
+		return err
+	}
+	ss.port = port
+	rd := newChunkReader(port)
+	if ss.cfg.Input == InputText {
+		err = ss.openText()
+	} else {
+		err = ss.handshake(rd, true)
+	}
+	if err != nil {
+		rd.stop()
+		port.Close()
+		if ss.w != nil {
+			ss.w.Close(nil)
+		}
+		return err
+	}
+	err = ss.loop(rd)
+	return ss.finish(err)
+}
+
+// hostS is the host time now in seconds on the capture's axis.
+func (ss *session) hostS(now time.Time) float64 { return now.Sub(ss.start).Seconds() }
+
+func (ss *session) header(board string, chans []capture.Channel) *capture.Header {
+	src := "serial port=" + ss.path
+	if ss.cfg.Input == InputText {
+		src = "text port=" + ss.path
+	}
+	if ss.cfg.Mode != nil && ss.cfg.Mode.BaudRate > 0 {
+		src += fmt.Sprintf(" baud=%d", ss.cfg.Mode.BaudRate)
+	} else {
+		src += fmt.Sprintf(" baud=%d", defaultBaud)
+	}
+	h := &capture.Header{Start: ss.begun, Source: src, Board: board, Profile: ss.cfg.Profile,
+		Notes: ss.cfg.Notes, Channels: chans}
+	return h
+}
+
+// openFile creates or appends the capture; it sets ss.start, the time axis origin.
+func (ss *session) openFile(h *capture.Header) error {
+	if ss.cfg.Append {
+		if _, err := os.Stat(ss.cfg.Out); err == nil {
+			w, ex, err := capture.Append(ss.cfg.Out, ss.begun, nil)
+			if err != nil {
+				return err
+			}
+			if len(ex.Columns)-1 != len(h.Channels) {
+				w.Close(nil)
+				return fmt.Errorf("logger: %s has columns %s; this recording has %d channels",
+					ss.cfg.Out, strings.Join(ex.Columns, ","), len(h.Channels))
+			}
+			ss.w, ss.start = w, ex.Start
+			if h.Board != "" {
+				w.Meta(capture.KeyBoard, h.Board)
+			}
+			return nil
+		}
+	}
+	w, err := capture.Create(ss.cfg.Out, h, &capture.Options{Force: ss.cfg.Force})
+	if err != nil {
+		return err
+	}
+	ss.w, ss.start = w, ss.begun
+	return nil
+}
+
+func (ss *session) finish(loopErr error) error {
+	now := ss.cfg.Now()
+	ss.sum.Elapsed = now.Sub(ss.begun)
+	var st capture.Stats
+	if ss.s != nil {
+		st = ss.s.stats
+		ss.sum.Segments = ss.s.segment
+		ss.sum.Cycles = ss.s.fire.Cycles()
+		if ppm, ok := ss.s.drift.PPM(); ok && ss.cfg.Input == InputFrames {
+			ss.sum.Clock = capture.Clock{DriftPPM: ppm, FitS: ss.s.drift.SpanS(), Points: ss.s.drift.Points()}
+		}
+		if ss.s.written && ss.s.lastS > ss.hostS(now) {
+			now = ss.start.Add(time.Duration(ss.s.lastS * 1e9)) // the end is not before the last row
+		}
+	}
+	ss.sum.Stats = st
+	var clk *capture.Clock
+	if ss.sum.Clock.Points > 0 {
+		clk = &ss.sum.Clock
+	}
+	cerr := ss.w.Close(&capture.Trailer{End: now, EndS: ss.hostS(now), Stats: &st, Clock: clk})
+	ss.status.done(ss.snapshot(now))
+	if loopErr != nil {
+		ss.sum.Stop = "error"
+		return loopErr
+	}
+	if cerr != nil {
+		ss.sum.Stop = "error"
+		return cerr
+	}
+	return nil
+}
+
+// loop reads until a stop; it reconnects a lost port.
+func (ss *session) loop(rd *chunkReader) error {
+	tick := time.NewTicker(250 * time.Millisecond)
+	defer tick.Stop()
+	lastData := ss.cfg.Now()
+	for {
+		select {
+		case <-ss.ctx.Done():
+			ss.sum.Stop = "cancelled"
+			rd.stop()
+			ss.port.Close()
+			return nil
+		case c := <-rd.chunks:
+			now := ss.cfg.Now()
+			if c.err != nil {
+				rd.stop()
+				ss.port.Close()
+				var err error
+				if rd, err = ss.reconnect(c.err); err != nil || rd == nil {
+					return err
+				}
+				lastData = ss.cfg.Now()
+				continue
+			}
+			lastData = now
+			err := ss.consume(c.b, now)
+			rd.release(c)
+			if err != nil {
+				rd.stop()
+				ss.port.Close()
+				return err
+			}
+			if err := ss.w.Tick(now); err != nil {
+				rd.stop()
+				ss.port.Close()
+				return err
+			}
+		case <-tick.C:
+			now := ss.cfg.Now()
+			if err := ss.w.Tick(now); err != nil {
+				rd.stop()
+				ss.port.Close()
+				return err
+			}
+			ss.status.update(ss.snapshot(now), now)
+			if ss.stopDue(now) {
+				rd.stop()
+				ss.port.Close()
+				return nil
+			}
+			if now.Sub(lastData) > ss.cfg.Silence {
+				rd.stop()
+				ss.port.Close()
+				var err error
+				if rd, err = ss.reconnect(fmt.Errorf("logger: %s sent nothing for %v", ss.path, ss.cfg.Silence)); err != nil || rd == nil {
+					return err
+				}
+				lastData = ss.cfg.Now()
+			}
+		}
+	}
+}
+
+func (ss *session) stopDue(now time.Time) bool {
+	if !ss.deadline.IsZero() && !now.Before(ss.deadline) {
+		if ss.cfg.Duration > 0 && now.Sub(ss.begun) >= ss.cfg.Duration {
+			ss.sum.Stop = "duration"
+		} else {
+			ss.sum.Stop = "until"
+		}
+		return true
+	}
+	return false
+}
+
+func (ss *session) consume(b []byte, now time.Time) error {
+	if ss.text != nil {
+		return ss.text.feed(b, ss.hostS(now))
+	}
+	return ss.s.feed(b, ss.hostS(now))
+}
+
+// reconnect notes the gap and reopens the port with back-off until it answers, a stop
+// comes (it returns nil, nil) or a write fails.
+func (ss *session) reconnect(cause error) (*chunkReader, error) {
+	ss.s.openGap(capture.GapUnplugged, 0)
+	if err := ss.w.Flush(); err != nil {
+		return nil, err
+	}
+	wait := ss.cfg.RetryMin
+	for {
+		ss.status.update(ss.snapshot(ss.cfg.Now()), ss.cfg.Now())
+		timer := time.NewTimer(wait)
+		select {
+		case <-ss.ctx.Done():
+			timer.Stop()
+			ss.sum.Stop = "cancelled"
+			return nil, nil
+		case <-timer.C:
+		}
+		now := ss.cfg.Now()
+		if ss.stopDue(now) {
+			return nil, nil
+		}
+		if err := ss.w.Tick(now); err != nil {
+			return nil, err
+		}
+		wait = min(wait*2, ss.cfg.RetryMax)
+		port, err := ss.cfg.Open(ss.path, ss.cfg.Mode)
+		if err != nil {
+			continue
+		}
+		ss.port = port
+		rd := newChunkReader(port)
+		if ss.text == nil {
+			ss.s.reconnected()
+			if err := ss.handshake(rd, false); err != nil {
+				rd.stop()
+				port.Close()
+				var we *capture.WriteError
+				if errors.As(err, &we) {
+					return nil, err
+				}
+				continue
+			}
+		}
+		ss.sum.Reconnects++
+		_ = cause
+		return rd, nil
+	}
+}
+
+func (ss *session) snapshot(now time.Time) Snapshot {
+	sn := Snapshot{Elapsed: now.Sub(ss.begun), Port: ss.path}
+	if ss.w != nil {
+		sn.FileBytes = ss.w.Size()
+	}
+	if ss.s != nil {
+		st := ss.s.stats
+		sn.Samples, sn.Lost, sn.BadFrames = st.Samples, st.Lost, st.BadFrames
+		sn.VoltsNow, sn.HaveVolts = ss.s.nowV, ss.s.haveV
+		sn.Firing = ss.s.fire.Firing()
+		sn.Cycles = ss.s.fire.Cycles()
+		sn.LastPeriodS, sn.HavePeriod = ss.s.fire.LastPeriod()
+	}
+	sn.Reconnects = ss.sum.Reconnects
+	return sn
+}

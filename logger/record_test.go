@@ -1,0 +1,196 @@
+package logger
+
+import (
+	"bytes"
+	"context"
+	"errors"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"sync"
+	"testing"
+	"time"
+)
+
+// syncBuffer is a bytes.Buffer safe for the recorder's goroutine and the test's.
+type syncBuffer struct {
+	mu sync.Mutex
+	b  bytes.Buffer
+}
+
+func (s *syncBuffer) Write(p []byte) (int, error) {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	return s.b.Write(p)
+}
+
+func (s *syncBuffer) String() string {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	return s.b.String()
+}
+
+// recording runs Record in the background; wait for conditions on its status line.
+type recording struct {
+	t      *testing.T
+	status *syncBuffer
+	cancel context.CancelFunc
+	done   chan struct{}
+	sum    *Summary
+	err    error
+	cfg    *Config
+}
+
+func startRecording(t *testing.T, cfg *Config) *recording {
+	t.Helper()
+	ctx, cancel := context.WithCancel(context.Background())
+	r := &recording{t: t, status: &syncBuffer{}, cancel: cancel, done: make(chan struct{}), cfg: cfg}
+	cfg.Status, cfg.Terminal = r.status, true
+	if cfg.Out == "" {
+		cfg.Out = filepath.Join(t.TempDir(), "out.csv")
+	}
+	go func() {
+		r.sum, r.err = Record(ctx, cfg)
+		close(r.done)
+	}()
+	t.Cleanup(func() { cancel(); <-r.done })
+	return r
+}
+
+// waitFor polls the status line until it holds want (e.g. "100 samples").
+func (r *recording) waitFor(want string) {
+	r.t.Helper()
+	deadline := time.Now().Add(10 * time.Second)
+	for time.Now().Before(deadline) {
+		if strings.Contains(r.last(), want) {
+			return
+		}
+		select {
+		case <-r.done:
+			r.t.Fatalf("recording ended (%v) before %q; status %q", r.err, want, r.last())
+		case <-time.After(20 * time.Millisecond):
+		}
+	}
+	r.t.Fatalf("no %q in the status within 10 s; last %q", want, r.last())
+}
+
+func (r *recording) last() string {
+	s := r.status.String()
+	if i := strings.LastIndexByte(s, '\r'); i >= 0 {
+		s = s[i+1:]
+	}
+	return s
+}
+
+func (r *recording) stop() *Summary {
+	r.t.Helper()
+	r.cancel()
+	select {
+	case <-r.done:
+	case <-time.After(10 * time.Second):
+		r.t.Fatal("Record did not stop within 10 s of the cancel")
+	}
+	if r.err != nil {
+		r.t.Fatalf("Record: %v", r.err)
+	}
+	return r.sum
+}
+
+func ptyConfig(pb *ptyBoard) *Config {
+	return &Config{Port: pb.link, RetryMin: 20 * time.Millisecond, RetryMax: 100 * time.Millisecond,
+		Handshake: 2 * time.Second}
+}
+
+// volts of count c for the test board: c/4096 * 5 V / 0.5.
+func boardVolts(c uint16) float64 { return float64(c) / 4096 * 5 / 0.5 }
+
+func TestRecordOverPty(t *testing.T) {
+	pb := newPtyBoard(t)
+	cfg := ptyConfig(pb)
+	cfg.Profile = "wren"
+	r := startRecording(t, cfg)
+	r.waitFor("0 samples")
+	pb.write(pb.slow(nil, 200, func(i int) uint16 { return uint16(1000 + i) }))
+	r.waitFor("200 samples")
+	sum := r.stop()
+	if sum.Stats.Samples != 200 || sum.Stats.Lost != 0 || sum.Stats.BadFrames != 0 {
+		t.Errorf("stats %+v", sum.Stats)
+	}
+	ts, vs, rd := readCapture(t, cfg.Out)
+	if len(ts) != 200 {
+		t.Fatalf("%d rows, want 200", len(ts))
+	}
+	for i := range ts {
+		if want := boardVolts(uint16(1000 + i)); math.Abs(vs[i]-want) > 1e-5 {
+			t.Fatalf("row %d: %v V, want %v", i, vs[i], want)
+		}
+		if i > 0 {
+			// A rows are 100 ms apart on the device clock (slow_hz=10).
+			if d := ts[i] - ts[i-1]; math.Abs(d-0.1) > 1.5e-6 {
+				t.Fatalf("row %d: spacing %v s, want 0.1", i, d)
+			}
+		}
+	}
+	m := rd.Meta()
+	if m["profile"] != "wren" || !strings.Contains(m["board"], "board=test") ||
+		!strings.Contains(m["channel"], "divider=0.5") || m["format"] != "capcycle.capture/1" {
+		t.Errorf("metadata %v", m)
+	}
+	if got := string(pbCmds(pb)); !strings.HasPrefix(got, "id") {
+		t.Errorf("commands %q, want id first", got)
+	}
+}
+
+func pbCmds(pb *ptyBoard) string {
+	pb.mu.Lock()
+	defer pb.mu.Unlock()
+	return strings.Join(pb.cmds, ",")
+}
+
+func TestRecordSendsSettings(t *testing.T) {
+	pb := newPtyBoard(t)
+	cfg := ptyConfig(pb)
+	cfg.SlowHz, cfg.FastHz = 20, 1000
+	cfg.Burst = &Burst{Thr: 4, Pre: 16, Post: 8}
+	cfg.Channels = 2
+	cfg.Columns = []string{"vcell_v"}
+	r := startRecording(t, cfg)
+	r.waitFor("0 samples")
+	pb.write(pb.slow(nil, 10, func(i int) uint16 { return 2048 }))
+	r.waitFor("10 samples")
+	r.stop()
+	if got := pbCmds(pb); got != "id,chan,rate,burst" {
+		t.Errorf("commands %q", got)
+	}
+	b, _ := os.ReadFile(cfg.Out)
+	text := string(b)
+	if !strings.Contains(text, "time_s,vcap_v,vcell_v\n") || !strings.Contains(text, "slow_hz=20 fast_hz=1000 thr=4 pre=16 post=8") {
+		t.Errorf("capture:\n%s", text)
+	}
+}
+
+func TestRecordRefusedSetting(t *testing.T) {
+	pb := newPtyBoard(t)
+	cfg := ptyConfig(pb)
+	cfg.Channels = 9
+	_, err := Record(context.Background(), cfg)
+	if err == nil {
+		t.Fatal("9 channels accepted")
+	}
+}
+
+func TestRecordNoHandshake(t *testing.T) {
+	pb := newPtyBoard(t)
+	pb.quiet = true
+	cfg := ptyConfig(pb)
+	cfg.Handshake = 300 * time.Millisecond
+	cfg.Out = filepath.Join(t.TempDir(), "x.csv")
+	_, err := Record(context.Background(), cfg)
+	if !errors.Is(err, ErrHandshake) {
+		t.Fatalf("silent board: %v, want ErrHandshake", err)
+	}
+	if _, err := os.Stat(cfg.Out); err == nil {
+		t.Error("a capture was created without a handshake")
+	}
+}

@@ -1,0 +1,119 @@
+package logger
+
+import (
+	"fmt"
+	"io"
+	"strings"
+	"time"
+)
+
+// Snapshot is the live state of a recording, as the status line shows it.
+type Snapshot struct {
+	Elapsed     time.Duration
+	Port        string
+	VoltsNow    float64 // the last vcap_v written
+	HaveVolts   bool
+	Firing      bool // the simple fire detector says the capacitor is discharging
+	Cycles      int  // fires seen so far
+	LastPeriodS float64
+	HavePeriod  bool
+	Samples     int64 // rows written
+	Lost        int64 // samples lost to sequence gaps
+	BadFrames   int64 // damaged frames (or bad text lines) dropped
+	FileBytes   int64
+	Reconnects  int
+}
+
+// String is the status line: "2.415 V charging | 12 cycles, last 41.2 s | 30211 samples,
+// 0 lost, 0 bad | 1.2 MB | 01:02:03".
+func (s Snapshot) String() string {
+	var b strings.Builder
+	if s.HaveVolts {
+		state := "charging"
+		if s.Firing {
+			state = "firing"
+		}
+		fmt.Fprintf(&b, "%.3f V %s", s.VoltsNow, state)
+	} else {
+		b.WriteString("waiting for samples")
+	}
+	fmt.Fprintf(&b, " | %d cycles", s.Cycles)
+	if s.HavePeriod {
+		fmt.Fprintf(&b, ", last %.1f s", s.LastPeriodS)
+	}
+	fmt.Fprintf(&b, " | %d samples, %d lost, %d bad", s.Samples, s.Lost, s.BadFrames)
+	if s.Reconnects > 0 {
+		fmt.Fprintf(&b, ", %d reconnects", s.Reconnects)
+	}
+	fmt.Fprintf(&b, " | %s | %s", sizeString(s.FileBytes), clockString(s.Elapsed))
+	return b.String()
+}
+
+func sizeString(n int64) string {
+	switch {
+	case n >= 1<<30:
+		return fmt.Sprintf("%.2f GiB", float64(n)/(1<<30))
+	case n >= 1<<20:
+		return fmt.Sprintf("%.1f MiB", float64(n)/(1<<20))
+	case n >= 1<<10:
+		return fmt.Sprintf("%.1f KiB", float64(n)/(1<<10))
+	}
+	return fmt.Sprintf("%d B", n)
+}
+
+func clockString(d time.Duration) string {
+	s := int64(d / time.Second)
+	return fmt.Sprintf("%02d:%02d:%02d", s/3600, s/60%60, s%60)
+}
+
+// statusLine draws Snapshots: on a terminal one line redrawn in place at most 4 times a
+// second; elsewhere a plain line every `every`; with a nil writer, nothing.
+type statusLine struct {
+	w     io.Writer
+	term  bool
+	every time.Duration
+	last  time.Time
+}
+
+// minRedraw keeps a terminal's status line to at most 4 updates a second.
+const minRedraw = 250 * time.Millisecond
+
+func newStatusLine(w io.Writer, term bool, every time.Duration) *statusLine {
+	return &statusLine{w: w, term: term, every: every}
+}
+
+func (l *statusLine) update(s Snapshot, now time.Time) {
+	if l.w == nil {
+		return
+	}
+	if l.last.IsZero() {
+		l.last = now
+		if !l.term {
+			return
+		}
+	}
+	if l.term {
+		if now.Sub(l.last) < minRedraw && !l.last.Equal(now) {
+			return
+		}
+		l.last = now
+		fmt.Fprintf(l.w, "\r%s\x1b[K", s)
+		return
+	}
+	if now.Sub(l.last) >= l.every {
+		l.last = now
+		fmt.Fprintf(l.w, "record: %s\n", s)
+	}
+}
+
+// done prints the last state and ends the line.
+func (l *statusLine) done(s Snapshot) {
+	if l.w == nil {
+		return
+	}
+	if l.term {
+		fmt.Fprintf(l.w, "\r%s\x1b[K\n", s)
+		return
+	}
+	fmt.Fprintf(l.w, "record: %s\n", s)
+}
