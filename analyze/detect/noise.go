@@ -1,0 +1,93 @@
+package detect
+
+import (
+	"math"
+	"slices"
+)
+
+var nan = math.NaN()
+
+// NoiseSD estimates the white-noise standard deviation of samples v at times t from the
+// median absolute value of their second differences, made exact for non-uniform
+// spacing: e_i = (v_i - (a v_{i-1} + b v_{i+1})) / sqrt(1 + a^2 + b^2), with a and b the
+// linear-interpolation weights, has the noise's variance for white noise and ignores
+// any straight-line trend. SD = 1.4826 * median|e| (the MAD's consistency factor for a
+// normal distribution). scratch is reused when large enough; the result is 0 for fewer
+// than 3 points.
+func NoiseSD(t, v, scratch []float64) float64 {
+	e := secondDiffs(t, v, scratch[:0])
+	if len(e) == 0 {
+		return 0
+	}
+	return 1.4826 * medianInPlace(e)
+}
+
+func secondDiffs(t, v, e []float64) []float64 {
+	for i := 1; i+1 < len(v); i++ {
+		h := t[i+1] - t[i-1]
+		if !(h > 0) {
+			continue
+		}
+		a := (t[i+1] - t[i]) / h
+		b := 1 - a
+		d := (v[i] - (a*v[i-1] + b*v[i+1])) / math.Sqrt(1+a*a+b*b)
+		e = append(e, math.Abs(d))
+	}
+	return e
+}
+
+func medianInPlace(x []float64) float64 {
+	if len(x) == 0 {
+		return 0
+	}
+	slices.Sort(x)
+	n := len(x)
+	if n%2 == 1 {
+		return x[n/2]
+	}
+	return (x[n/2-1] + x[n/2]) / 2
+}
+
+// ADCStep estimates the quantisation step of samples v: the typical size of the smallest
+// non-zero differences between neighbours, accepted only when at least 90 % of the
+// samples lie on a grid of that step (within a tenth of it). It returns 0 when the samples show no step (no
+// quantisation, or noise far above it). scratch is reused when large enough.
+func ADCStep(v, scratch []float64) float64 {
+	d := scratch[:0]
+	zeros := 0
+	for i := 1; i < len(v); i++ {
+		x := math.Abs(v[i] - v[i-1])
+		if x == 0 {
+			zeros++
+			continue
+		}
+		d = append(d, x)
+	}
+	if len(d) < 8 {
+		return 0
+	}
+	slices.Sort(d)
+	q := d[len(d)/100]
+	var sum float64
+	var n int
+	for _, x := range d {
+		if x > 1.3*q {
+			break
+		}
+		sum += x
+		n++
+	}
+	step := sum / float64(n)
+	// Quantised samples sit on a grid of that step (an offset aside).
+	good := 0
+	for _, x := range v {
+		r := (x - v[0]) / step
+		if math.Abs(r-math.Round(r)) < 0.1 {
+			good++
+		}
+	}
+	if float64(good) < 0.9*float64(len(v)) {
+		return 0
+	}
+	return step
+}

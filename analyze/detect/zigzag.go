@@ -1,0 +1,249 @@
+package detect
+
+import "math"
+
+// zig advances the zigzag with one sample whose decision value s.m is the median of 3.
+//
+// Rising: ext is the running maximum, seg holds the samples from the last turn to ext,
+// tail those after ext. A sample MinSwingV below ext turns the swing: the rise from the
+// last turn to ext is done, and a fall begins at ext. Falling is the mirror image. A
+// fall's end is provisional until the rise after it proves itself (it lasts longer than
+// twice the fall, or climbs half the fall's height): a rebound that falls back below the
+// trough, or turns down first, was a spike inside the pulse (a motor's commutation), and
+// the fall goes on.
+func (d *Detector) zig(s sample) {
+	h := d.swingMin
+	switch d.mode {
+	case 0:
+		if d.seg.empty() {
+			d.lo, d.hi = s, s
+		}
+		d.seg.add(s.t, s.v)
+		if s.m < d.lo.m {
+			d.lo = s
+		}
+		if s.m > d.hi.m {
+			d.hi = s
+		}
+		switch {
+		case s.m >= d.lo.m+h && s.m > d.hi.m-h:
+			d.mode, d.last, d.ext = 1, d.lo, s
+		case s.m <= d.hi.m-h:
+			d.mode, d.last, d.ext = -1, d.hi, s
+		}
+		return
+	case 1:
+		if d.prov && (s.m < d.provTrough.m || s.m < d.ext.m-h) {
+			d.revert(s)
+			return
+		}
+		if s.m > d.ext.m {
+			d.ext = s
+			d.seg.appendFrom(&d.tail, 0)
+			d.tail.reset()
+			d.seg.add(s.t, s.v)
+		} else {
+			d.tail.add(s.t, s.v)
+			if s.m < d.ext.m-h {
+				d.turn(s)
+				return
+			}
+		}
+		if d.prov {
+			f := &d.provSwing
+			if s.t-f.EndS > math.Max(2*f.FallS(), 3*d.dtTyp) || d.ext.m-f.EndV > 0.5*f.AmplitudeV() {
+				d.confirm()
+			}
+		}
+	case -1:
+		if s.m < d.ext.m {
+			d.ext = s
+			d.seg.appendFrom(&d.tail, 0)
+			d.tail.reset()
+			d.seg.add(s.t, s.v)
+			return
+		}
+		d.tail.add(s.t, s.v)
+		if s.m > d.ext.m+h {
+			d.turn(s)
+		}
+	}
+}
+
+// turn ends the swing from d.last to d.ext and starts the next one at d.ext.
+func (d *Detector) turn(s sample) {
+	sw := d.makeSwing(d.mode > 0, false, false)
+	if d.mode < 0 {
+		// The fall waits in provSeg until the rise after it proves itself.
+		d.prov = true
+		d.provSwing = sw
+		d.provTrough = d.ext
+		d.seg, d.provSeg = d.provSeg, d.seg
+	} else {
+		d.emit(&sw, &d.seg)
+	}
+	d.seg.reset()
+	d.seg.add(d.ext.t, d.ext.v)
+	d.seg.appendFrom(&d.tail, 0)
+	d.tail.reset()
+	d.last = d.ext
+	d.ext = s
+	d.mode = -d.mode
+}
+
+// confirm emits the provisional fall.
+func (d *Detector) confirm() {
+	d.prov = false
+	d.emit(&d.provSwing, &d.provSeg)
+	d.provSeg.reset()
+}
+
+// revert takes back a provisional fall's end: the rebound was part of the pulse.
+func (d *Detector) revert(s sample) {
+	d.prov = false
+	trough := d.provTrough
+	up := d.seg
+	upTail := d.tail
+	d.seg, d.provSeg = d.provSeg, up
+	d.tail = upTail
+	// tail after the trough: the rise's samples (its first point is the trough) and its tail
+	var tmp decim = newDecim(d.limit)
+	tmp.appendFrom(&up, 1)
+	tmp.appendFrom(&upTail, 0)
+	d.tail.reset()
+	d.tail.appendFrom(&tmp, 0)
+	d.tail.add(s.t, s.v)
+	d.provSeg.reset()
+	d.mode = -1
+	d.last = sample{t: d.provSwing.StartS, v: d.provSwing.StartV, m: d.provSwing.StartV}
+	d.ext = trough
+	if s.m < trough.m {
+		d.ext = s
+		d.seg.appendFrom(&d.tail, 0)
+		d.tail.reset()
+	}
+}
+
+// makeSwing describes the swing from d.last to d.ext from the points in d.seg.
+func (d *Detector) makeSwing(up, open, gap bool) Swing {
+	d.ptsBuf = d.seg.points(d.ptsBuf)
+	pts := d.ptsBuf
+	n := 0
+	for _, p := range pts {
+		n += p.N
+	}
+	sw := Swing{Up: up, Open: open, Gap: gap,
+		StartS: d.last.t, StartV: d.last.m, EndS: d.ext.t, EndV: d.ext.m,
+		OnsetS: d.last.t, OnsetV: d.last.m, Samples: n}
+	h := d.swingMin
+	if up {
+		// time spent within h of the top at the end
+		k := len(pts) - 1
+		for k > 0 && pts[k-1].V >= sw.EndV-h {
+			k--
+		}
+		if len(pts) > 0 {
+			sw.FlatS = sw.EndS - pts[k].T
+		}
+		sw.EndSlopeVPerS = endSlope(pts, sw.StartS+0.8*(sw.EndS-sw.StartS))
+		return sw
+	}
+	// Fall: the onset is the last sample still at the starting level (within 4 noise SDs,
+	// at least one ADC step) before the voltage drops away.
+	c := math.Max(4*d.sdEff(), d.step)
+	k := 0
+	for k+1 < len(pts) && pts[k+1].V >= sw.StartV-c {
+		k++
+	}
+	if len(pts) > 0 {
+		// The fire voltage is the mean of the samples at the starting level.
+		var sum float64
+		var w int
+		for _, p := range pts[:k+1] {
+			sum += p.V * float64(p.N)
+			w += p.N
+		}
+		sw.OnsetS, sw.OnsetV = pts[k].T, sum/float64(w)
+	}
+	j := 0
+	for j+1 < len(pts) && pts[j+1].V >= sw.StartV-h {
+		j++
+	}
+	if len(pts) > 0 {
+		sw.FlatS = pts[j].T - sw.StartS
+	}
+	return sw
+}
+
+// endSlope is the least-squares slope of the points after time from (NaN for fewer than 3).
+func endSlope(pts []Point, from float64) float64 {
+	var st, sv, stt, stv, w float64
+	cnt := 0
+	for _, p := range pts {
+		if p.T < from {
+			continue
+		}
+		cnt++
+		wt := float64(p.N)
+		w += wt
+		st += wt * p.T
+		sv += wt * p.V
+	}
+	if cnt < 3 {
+		return math.NaN()
+	}
+	mt, mv := st/w, sv/w
+	for _, p := range pts {
+		if p.T < from {
+			continue
+		}
+		wt := float64(p.N)
+		stt += wt * (p.T - mt) * (p.T - mt)
+		stv += wt * (p.T - mt) * (p.V - mv)
+	}
+	if stt == 0 {
+		return math.NaN()
+	}
+	return stv / stt
+}
+
+func (d *Detector) emit(sw *Swing, seg *decim) {
+	d.swings = append(d.swings, *sw)
+	if d.cfg.OnSwing != nil {
+		d.ptsBuf = seg.points(d.ptsBuf)
+		d.cfg.OnSwing(len(d.swings)-1, &d.swings[len(d.swings)-1], d.ptsBuf)
+	}
+}
+
+// endZigzag closes the swing in progress (at a gap or at the end) and starts afresh.
+func (d *Detector) endZigzag(gap bool) {
+	if d.prov {
+		d.confirm()
+	}
+	switch d.mode {
+	case 0:
+		if !d.seg.empty() {
+			// Never moved by a full swing: one open swing, rising or falling by its ends.
+			d.ptsBuf = d.seg.points(d.ptsBuf)
+			p := d.ptsBuf
+			d.last = sample{t: p[0].T, v: p[0].V, m: p[0].V}
+			d.ext = sample{t: p[len(p)-1].T, v: p[len(p)-1].V, m: p[len(p)-1].V}
+			sw := d.makeSwing(d.ext.m >= d.last.m, true, gap)
+			d.emit(&sw, &d.seg)
+		}
+	default:
+		// The swing to the running extreme, then what came after it as a last open swing.
+		if !d.tail.empty() {
+			d.seg.appendFrom(&d.tail, 0)
+		}
+		d.ptsBuf = d.seg.points(d.ptsBuf)
+		p := d.ptsBuf
+		endP := p[len(p)-1]
+		d.ext = sample{t: endP.T, v: endP.V, m: endP.V}
+		sw := d.makeSwing(d.mode > 0, true, gap)
+		d.emit(&sw, &d.seg)
+	}
+	d.mode = 0
+	d.seg.reset()
+	d.tail.reset()
+}
