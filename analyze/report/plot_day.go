@@ -1,0 +1,291 @@
+package report
+
+import (
+	"math"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+
+	"capcycle/analyze"
+)
+
+// dayFigure is "the day at a glance": the voltage as a min/max band with the fires
+// marked and the gaps shaded, the light level, and the fires per hour, on one time axis.
+// It returns an empty figure and the reason when the Result has no envelope.
+func dayFigure(r *analyze.Result, o *Options) (figure, string) {
+	env := MergeEnvelope(r.Envelope, o.maxBins())
+	if len(env) < 2 {
+		return figure{}, "The analysis carries no voltage envelope, so the day cannot be drawn."
+	}
+	span := math.Max(r.DurationS, env[len(env)-1].TS)
+	div, tu := timeAxis(span)
+	xmax := span / div
+
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, e := range env {
+		lo, hi = math.Min(lo, e.MinV), math.Max(hi, e.MaxV)
+	}
+	on, _, haveOn := triggerOn(r)
+	if haveOn {
+		hi = math.Max(hi, on)
+	}
+	pad := 0.06 * math.Max(hi-lo, 0.1)
+	ylo, yhi := math.Max(0, lo-pad), hi+pad
+
+	pv := newPlot("", "capacitor voltage (V)")
+	pv.X.Min, pv.X.Max, pv.Y.Min, pv.Y.Max = 0, xmax, ylo, yhi
+	var legend []legendItem
+
+	// Gaps first, so everything else draws over them; each wide gap is named in text.
+	var gapThumb plot.Thumbnailer
+	var gapLabels plotter.XYLabels
+	for _, s := range r.Segments {
+		if s.Kind != "gap" {
+			continue
+		}
+		g, err := rect(s.StartS/div, s.EndS/div, ylo, yhi, colGapFill)
+		if err != nil {
+			continue
+		}
+		pv.Add(g)
+		gapThumb = g
+		if (s.EndS-s.StartS)/span > 0.03 {
+			gapLabels.XYs = append(gapLabels.XYs, plotter.XY{X: (s.StartS + s.EndS) / 2 / div, Y: yhi - pad/2})
+			gapLabels.Labels = append(gapLabels.Labels, "gap")
+		}
+	}
+
+	// The band: one polygon per unbroken run of bins.
+	var bandThumb plot.Thumbnailer
+	brk := breakStep(env)
+	for _, run := range envelopeRuns(env, r.Segments, brk) {
+		pts := make(plotter.XYs, 0, 2*len(run))
+		for _, e := range run {
+			pts = append(pts, plotter.XY{X: e.TS / div, Y: e.MaxV})
+		}
+		for i := len(run) - 1; i >= 0; i-- {
+			pts = append(pts, plotter.XY{X: run[i].TS / div, Y: run[i].MinV})
+		}
+		if len(run) == 1 { // a lone bin: give it some width so it shows
+			w := brk / 6 / div
+			pts = plotter.XYs{{X: pts[0].X - w, Y: run[0].MaxV}, {X: pts[0].X + w, Y: run[0].MaxV},
+				{X: pts[0].X + w, Y: run[0].MinV}, {X: pts[0].X - w, Y: run[0].MinV}}
+		}
+		poly, err := plotter.NewPolygon(pts)
+		if err != nil {
+			continue
+		}
+		poly.Color = colBand
+		poly.LineStyle.Color = colBlue
+		poly.LineStyle.Width = vg.Points(0.5)
+		pv.Add(poly)
+		bandThumb = poly
+	}
+	if bandThumb != nil {
+		legend = append(legend, legendItem{"voltage, lowest to highest in each bin", []plot.Thumbnailer{bandThumb}})
+	}
+
+	if haveOn {
+		l, err := line([]float64{0, xmax}, []float64{on, on}, colVermil, 0.9, dashTrig)
+		if err == nil {
+			pv.Add(l)
+			legend = append(legend, legendItem{"trigger on " + num(on, "V"), []plot.Thumbnailer{l}})
+		}
+	}
+	if off, _, ok := triggerOff(r); ok {
+		l, err := line([]float64{0, xmax}, []float64{off, off}, colInk, 0.9, dashDotted)
+		if err == nil {
+			pv.Add(l)
+			legend = append(legend, legendItem{"release " + num(off, "V"), []plot.Thumbnailer{l}})
+		}
+	}
+
+	// Fires: one marker per pixel-wide bin that holds a fire, at the highest fire voltage.
+	fx, fy := fireMarks(r.Cycles, span, 300)
+	if len(fx) > 0 {
+		s, err := scatter(scaled(fx, div), fy, draw.TriangleGlyph{}, colVermil, 2.6)
+		if err == nil {
+			pv.Add(s)
+			legend = append(legend, legendItem{"fire", []plot.Thumbnailer{s}})
+		}
+	}
+	if gapThumb != nil {
+		legend = append(legend, legendItem{"gap: no samples", []plot.Thumbnailer{gapThumb}})
+		if len(gapLabels.Labels) > 0 {
+			if gl, err := plotter.NewLabels(gapLabels); err == nil {
+				for i := range gl.TextStyle {
+					gl.TextStyle[i] = textStyle(fontTick, colMuted, draw.XCenter, draw.YCenter)
+				}
+				pv.Add(gl)
+			}
+		}
+	}
+
+	plots := []*plot.Plot{pv}
+	weights := []float64{3}
+	caption := "Voltage across the storage capacitor over the whole capture, drawn as the lowest and highest value in each time bin"
+	if len(r.Light) > 0 {
+		pl := newPlot("", "light (relative)")
+		pl.X.Min, pl.X.Max, pl.Y.Min, pl.Y.Max = 0, xmax, 0, 1.05
+		var lx, ly []float64
+		for _, p := range r.Light {
+			lx = append(lx, p.TS/div)
+			ly = append(ly, p.Level)
+		}
+		lx, ly = MinMax(lx, ly, o.maxPoints())
+		if l, err := line(lx, ly, colOrange, 1.2, nil); err == nil {
+			pl.Add(l)
+			legend = append(legend, legendItem{"light level (1 = brightest stretch)", []plot.Thumbnailer{l}})
+		}
+		plots = append(plots, pl)
+		weights = append(weights, 1.3)
+		caption += "; below it, the light level the charging rate implies"
+	}
+	if fph := firesPerHour(r.Cycles, span); len(fph) > 0 {
+		pf := newPlot("", "full fires per hour")
+		pf.X.Min, pf.X.Max, pf.Y.Min = 0, xmax, 0
+		var ymax float64
+		var barThumb plot.Thumbnailer
+		for _, b := range fph {
+			ymax = math.Max(ymax, b.rate)
+			if b.rate == 0 {
+				continue
+			}
+			bar, err := rect(b.t0/div, b.t1/div, 0, b.rate, colPurple)
+			if err != nil {
+				continue
+			}
+			bar.LineStyle.Color = colInk
+			bar.LineStyle.Width = vg.Points(0.4)
+			pf.Add(bar)
+			barThumb = bar
+		}
+		pf.Y.Max = math.Max(1, ymax*1.1)
+		if barThumb != nil {
+			legend = append(legend, legendItem{"full fires per hour", []plot.Thumbnailer{barThumb}})
+		}
+		plots = append(plots, pf)
+		weights = append(weights, 1.3)
+		caption += "; and the full fires counted in each bin, as a rate per hour"
+	}
+	plots[len(plots)-1].X.Label.Text = "time since the capture started (" + tu + ")"
+	caption += "."
+
+	h := vg.Points(190 + 70*float64(len(plots)-1))
+	alt := "Capacitor voltage over the capture with fires marked"
+	svg, err := renderSVG("day", figW, h, alt, func(dc draw.Canvas) error {
+		stack(legendRows(dc, legend), plots, weights, vg.Points(4))
+		return nil
+	})
+	if err != nil {
+		return figure{Err: err.Error()}, ""
+	}
+	return figure{SVG: svg, Alt: alt, Caption: caption}, ""
+}
+
+// envelopeRuns splits the envelope where bins are not neighbours: a step longer than brk,
+// or a gap segment between them.
+func envelopeRuns(env []analyze.EnvelopePt, segs []analyze.Segment, brk float64) [][]analyze.EnvelopePt {
+	var runs [][]analyze.EnvelopePt
+	start := 0
+	for i := 1; i <= len(env); i++ {
+		if i == len(env) || env[i].TS-env[i-1].TS > brk || gapBetween(segs, env[i-1].TS, env[i].TS) {
+			runs = append(runs, env[start:i])
+			start = i
+		}
+	}
+	return runs
+}
+
+func gapBetween(segs []analyze.Segment, t0, t1 float64) bool {
+	for _, s := range segs {
+		if s.Kind == "gap" && s.StartS >= t0 && s.EndS <= t1 {
+			return true
+		}
+	}
+	return false
+}
+
+// fireMarks bins the fires into n bins over span and returns one point per bin that
+// holds a fire: at the bin's first fire time and the highest fire voltage in it.
+func fireMarks(cycles []analyze.Cycle, span float64, n int) (x, y []float64) {
+	if span <= 0 || len(cycles) == 0 {
+		return nil, nil
+	}
+	if len(cycles) <= n {
+		for _, c := range cycles {
+			x = append(x, c.FireS)
+			y = append(y, c.FireV)
+		}
+		return x, y
+	}
+	bins := make(map[int]int) // bin -> index into x/y
+	for _, c := range cycles {
+		b := int(c.FireS / span * float64(n))
+		if j, ok := bins[b]; ok {
+			y[j] = math.Max(y[j], c.FireV)
+			continue
+		}
+		bins[b] = len(x)
+		x = append(x, c.FireS)
+		y = append(y, c.FireV)
+	}
+	return x, y
+}
+
+type rateBin struct{ t0, t1, rate float64 }
+
+// firesPerHour counts the full fires in bins of one hour (ten minutes for captures
+// under three hours) and gives each bin's count as a rate per hour. The last bin may be
+// short; its rate is scaled to its length.
+func firesPerHour(cycles []analyze.Cycle, span float64) []rateBin {
+	if span <= 0 || len(cycles) == 0 {
+		return nil
+	}
+	w := 3600.0
+	if span < 3*3600 {
+		w = 600
+	}
+	n := int(math.Ceil(span / w))
+	counts := make([]int, n)
+	for _, c := range cycles {
+		if c.Kind == "chatter" {
+			continue
+		}
+		i := int(c.FireS / w)
+		if i >= 0 && i < n {
+			counts[i]++
+		}
+	}
+	out := make([]rateBin, n)
+	for i := range n {
+		t0, t1 := float64(i)*w, math.Min(float64(i+1)*w, span)
+		out[i] = rateBin{t0, t1, float64(counts[i]) * 3600 / (t1 - t0)}
+	}
+	return out
+}
+
+// triggerOn returns the trigger's turn-on voltage: fitted when the analysis found it,
+// else declared in the profile.
+func triggerOn(r *analyze.Result) (v float64, origin string, ok bool) {
+	if e := r.Fit.Trigger.OnV; e != nil {
+		return e.Value, "fitted", true
+	}
+	if r.Declared != nil && r.Declared.OnV != nil {
+		return *r.Declared.OnV, "declared", true
+	}
+	return 0, "", false
+}
+
+// triggerOff is triggerOn for the release voltage.
+func triggerOff(r *analyze.Result) (v float64, origin string, ok bool) {
+	if e := r.Fit.Trigger.OffV; e != nil {
+		return e.Value, "fitted", true
+	}
+	if r.Declared != nil && r.Declared.OffV != nil {
+		return *r.Declared.OffV, "declared", true
+	}
+	return 0, "", false
+}

@@ -1,0 +1,187 @@
+package report
+
+import (
+	"fmt"
+	"html/template"
+	"strings"
+
+	"capcycle/analyze"
+)
+
+// Sentence is the report's one-sentence verdict, kept as parts so that every number in
+// it can be traced to the field of the analysis JSON it shows.
+type Sentence struct {
+	Parts []Part
+}
+
+// Part is a stretch of a Sentence: plain text, or a number shown as Text that comes
+// from the analysis JSON at Path (dotted keys, as in "fit.trigger.on_v.value"; counts
+// read "len(cycles)" or "count(cycles.kind=full)").
+type Part struct {
+	Text  string
+	Path  string  // empty for plain text
+	Value float64 // the JSON value behind Text, when Path is set
+}
+
+// String returns the sentence as plain text.
+func (s Sentence) String() string {
+	var b strings.Builder
+	for _, p := range s.Parts {
+		b.WriteString(p.Text)
+	}
+	return b.String()
+}
+
+// HTML returns the sentence with each number in a span that names its JSON source in
+// data-json (and, as a tooltip, in title).
+func (s Sentence) HTML() template.HTML {
+	var b strings.Builder
+	for _, p := range s.Parts {
+		if p.Path == "" {
+			b.WriteString(template.HTMLEscapeString(p.Text))
+			continue
+		}
+		fmt.Fprintf(&b, `<span class="n" data-json="%s" title="%s">%s</span>`,
+			template.HTMLEscapeString(p.Path), template.HTMLEscapeString(p.Path), template.HTMLEscapeString(p.Text))
+	}
+	return template.HTML(b.String())
+}
+
+type sentence struct{ parts []Part }
+
+func (s *sentence) text(t string) { s.parts = append(s.parts, Part{Text: t}) }
+func (s *sentence) num(path string, v float64, shown string) {
+	s.parts = append(s.parts, Part{Text: shown, Path: path, Value: v})
+}
+func (s *sentence) count(path string, n int) {
+	s.num(path, float64(n), fmt.Sprint(n))
+}
+
+// Verdict sums up r in one sentence, leading with a word a builder can act on:
+//
+//   - "Works": full cycles and no warnings;
+//   - "Works, with warnings" / "Fires, with faults": full cycles, and findings of that
+//     severity (listed below the verdict in the report);
+//   - "Chatters": fires, but none of them a full cycle;
+//   - "Stalls": no fire at all; the settling voltage follows when it is known;
+//   - "No data": no samples.
+func Verdict(r *analyze.Result) Sentence {
+	var s sentence
+	full, chatter := 0, 0
+	for _, c := range r.Cycles {
+		if c.Kind == "chatter" {
+			chatter++
+		} else {
+			full++
+		}
+	}
+	faults, warns := 0, 0
+	for _, f := range r.Findings {
+		switch f.Severity {
+		case "fault":
+			faults++
+		case "warn":
+			warns++
+		}
+	}
+	switch {
+	case r.Samples == 0:
+		s.text("No data: the capture holds no samples.")
+		return Sentence{s.parts}
+	case len(r.Cycles) == 0:
+		s.text("Stalls: no fire in ")
+		s.num("duration_s", r.DurationS, dur(r.DurationS))
+		if r.EquilibriumV != nil {
+			s.text("; the voltage settles at ")
+			s.num("equilibrium_v.value", r.EquilibriumV.Value, num(r.EquilibriumV.Value, "V"))
+			if on, origin, ok := triggerOn(r); ok {
+				path := "fit.trigger.on_v.value"
+				if origin == "declared" {
+					path = "declared.on_v"
+				}
+				if r.EquilibriumV.Value < on {
+					s.text(", below the ")
+				} else {
+					s.text(", though the ")
+				}
+				s.num(path, on, num(on, "V"))
+				s.text(" trigger (" + origin + ")")
+				if r.EquilibriumV.Value >= on {
+					s.text(" is lower")
+				}
+			}
+		} else {
+			s.text(", and where the voltage settles could not be determined")
+		}
+	case full == 0:
+		s.text("Chatters: ")
+		s.count("len(cycles)", len(r.Cycles))
+		s.text(" fires in ")
+		s.num("duration_s", r.DurationS, dur(r.DurationS))
+		s.text(", none of them a full cycle")
+	default:
+		switch {
+		case faults > 0:
+			s.text("Fires, with faults: ")
+		case warns > 0:
+			s.text("Works, with warnings: ")
+		default:
+			s.text("Works: ")
+		}
+		s.count("count(cycles.kind=full)", full)
+		s.text(plural(full, " full cycle", " full cycles") + " in ")
+		s.num("duration_s", r.DurationS, dur(r.DurationS))
+		if chatter > 0 {
+			s.text(" (and ")
+			s.count("count(cycles.kind=chatter)", chatter)
+			s.text(" chatter)")
+		}
+		if e := r.Fit.Trigger.PeriodS; e != nil {
+			s.text(", one every ")
+			s.num("fit.trigger.period_s.value", e.Value, dur(e.Value))
+			s.text(" on average")
+		}
+		on, off := r.Fit.Trigger.OnV, r.Fit.Trigger.OffV
+		if on != nil {
+			s.text(", firing at ")
+			s.num("fit.trigger.on_v.value", on.Value, num(on.Value, "V"))
+		}
+		if off != nil {
+			if on != nil {
+				s.text(" and resetting at ")
+			} else {
+				s.text(", resetting at ")
+			}
+			s.num("fit.trigger.off_v.value", off.Value, num(off.Value, "V"))
+		}
+		if p := r.Prediction; p != nil && p.Fitted != nil && p.Fitted.MAPEPct != nil {
+			s.text("; the fitted model predicts the charge time to within ")
+			s.num("prediction.fitted.mape_pct", *p.Fitted.MAPEPct, num(*p.Fitted.MAPEPct, "%"))
+			s.text(" on average")
+		}
+	}
+	if faults+warns > 0 {
+		s.text("; see ")
+		if faults > 0 {
+			s.count("count(findings.severity=fault)", faults)
+			s.text(plural(faults, " fault", " faults"))
+		}
+		if faults > 0 && warns > 0 {
+			s.text(" and ")
+		}
+		if warns > 0 {
+			s.count("count(findings.severity=warn)", warns)
+			s.text(plural(warns, " warning", " warnings"))
+		}
+		s.text(" below")
+	}
+	s.text(".")
+	return Sentence{s.parts}
+}
+
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return one
+	}
+	return many
+}
