@@ -120,11 +120,17 @@ void cap_poll(void)
 {
 	if (state == SLOW)
 		return;
-	while (r_count && out_begin(PSTR("S"), (uint8_t)S_ROOM(cfg.nch))) {
+	/* One frame a call: the main loop handles new samples in between, so a long
+	 * pre-trigger ring never holds up the sample queue. */
+	if (r_count && out_begin(PSTR("S"), (uint8_t)S_ROOM(cfg.nch)))
 		send_s_from_tail();
-	}
 	if (state == ENDING && r_count == 0)
 		send_e();
+}
+
+uint8_t cap_pending(void)
+{
+	return state == ENDING || (state == BURST && r_count);
 }
 
 void cap_flush(void)

@@ -20,6 +20,8 @@ void cap_reset(void);
 void cap_sample(const struct sample *s);
 /* Send waiting burst frames as the transmit queue allows; call from the main loop. */
 void cap_poll(void);
+/* 1 while burst frames wait to be sent (E included). */
+uint8_t cap_pending(void);
 /* Send every waiting burst S frame, waiting for room. */
 void cap_flush(void);
 /* If a burst is running, send its E (after cap_flush) and return to slow capture. */

@@ -82,7 +82,7 @@ int main(void)
 		}
 		/* Sleep until the next interrupt unless work is waiting. */
 		cli();
-		if (!uart_rx_ready() && !adc_ready()) {
+		if (!uart_rx_ready() && !adc_ready() && !cap_pending()) {
 			set_sleep_mode(SLEEP_MODE_IDLE);
 			sleep_enable();
 			sei();

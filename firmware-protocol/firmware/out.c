@@ -7,6 +7,7 @@
 #include "out.h"
 #include "uart.h"
 
+#include <stdlib.h>
 #include <util/crc16.h>
 
 uint32_t out_drops;
@@ -38,16 +39,15 @@ static void put_P(PGM_P s)
 		put((uint8_t)c);
 }
 
+/* avr-libc's ultoa converts base 10 without 32-bit division (a few hundred cycles where
+ * a loop of divisions by ten takes thousands): a burst of S frames must keep up with
+ * the sample clock. */
 static void put_dec(uint32_t v)
 {
-	char d[10];
-	uint8_t n = 0;
-	do {
-		d[n++] = (char)('0' + v % 10u);
-		v /= 10u;
-	} while (v);
-	while (n)
-		put((uint8_t)d[--n]);
+	char d[11];
+	ultoa(v, d, 10);
+	for (char *p = d; *p; p++)
+		put((uint8_t)*p);
 }
 
 uint8_t out_begin(PGM_P tag, uint8_t room)
