@@ -42,7 +42,8 @@ func (f *ExpFit) At(t float64) float64 {
 // The starting rate k comes from three equal time windows: for an exponential their
 // integrals S1, S2, S3 satisfy (S3 − S2)/(S2 − S1) = e^(−k·w) for windows of length w,
 // exactly, whatever the sampling. That estimate and a few multiples of 1/span are each
-// tried with v0 and A solved linearly, and the best two are refined.
+// tried with v0 and A solved linearly; the best is refined, and the second best too if
+// the first does not converge to an approach.
 //
 // If the data do not approach an asymptote (k ≤ 0: a straight line or a curve bending
 // away), ExpApproach returns the fit with an error wrapping ErrNotIdentifiable; τ and v∞
@@ -83,6 +84,9 @@ func ExpApproach(t, v []float64) (*ExpFit, error) {
 		}
 		if best == nil || (err == nil && bestErr != nil) || ((err == nil) == (bestErr == nil) && res.RSS < best.RSS) {
 			best, bestErr = res, err
+		}
+		if bestErr == nil && best.X[2] > 0 {
+			break // the best start converged to an approach: no need for the second
 		}
 	}
 	f := expFromResult(best, t0, len(t))

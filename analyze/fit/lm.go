@@ -3,11 +3,20 @@ package fit
 import (
 	"math"
 
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/floats"
+	"gonum.org/v1/gonum/lapack/lapack64"
 	"gonum.org/v1/gonum/mat"
 )
 
 const eps = 0x1p-52 // float64 machine epsilon
+
+// stuckCosine is the largest gradient cosine (see Settings.GTol) at which the FTol and
+// XTol tests may end the fit. At a minimum the cosine is at rounding level (about 1e-8
+// with finite differences); a point where the steps are merely damped to nothing has a
+// cosine of order one (common practice, no source).
+const stuckCosine = 1e-4
 
 // Solve minimises the weighted sum of squared residuals of p from the starting point x0
 // by the Levenberg-Marquardt method with Moré's scaling, and returns the solution with
@@ -18,8 +27,8 @@ const eps = 0x1p-52 // float64 machine epsilon
 //
 //	min ‖J·δ + r‖² + λ‖D·δ‖²
 //
-// through a QR factorisation of the stacked matrix [J; √λ·D] (never the normal
-// equations), where D_j is the largest Euclidean norm that column j of the Jacobian has
+// through QR factorisations (never the normal equations): J = Q·R once per iteration,
+// then [R; √λ·D] for each trial λ, as MINPACK does. D_j is the largest Euclidean norm that column j of the Jacobian has
 // had so far (Moré 1978, "The Levenberg-Marquardt algorithm: implementation and theory",
 // Lecture Notes in Mathematics 630, section 6). The step is accepted when the gain ratio
 // ρ = (actual reduction)/(predicted reduction) exceeds 1e-4, and λ follows the gain
@@ -81,6 +90,7 @@ outer:
 			break
 		}
 		gnorm := gradientCosine(lm.j, r, cn, f2)
+		lm.factor(r)
 		if gnorm <= set.GTol {
 			status = GTolReached
 			break
@@ -90,7 +100,7 @@ outer:
 				status = FuncEvalLimit
 				break outer
 			}
-			lm.step(delta, r, d, lambda)
+			lm.step(delta, d, lambda)
 			dx := scaledNorm(d, delta)
 			xn := scaledNorm(d, x)
 			mat.NewVecDense(p.M, jd).MulVec(lm.j, mat.NewVecDense(n, delta))
@@ -120,6 +130,10 @@ outer:
 				switch {
 				case f2 == 0 || f2 <= eps*eps*f2start:
 					status = ZeroResidual
+				case gnorm > stuckCosine && f2 > eps*f2start:
+					// Tiny steps far from a stationary point mean heavy damping, not
+					// convergence: keep going. (When the residuals have fallen to
+					// rounding level, their direction means nothing.)
 				case math.Abs(actRel) <= set.FTol && predRel <= set.FTol && rho <= 2:
 					status = FTolReached
 				case dx <= set.XTol*xn:
@@ -248,23 +262,95 @@ func allFinite(v []float64) bool {
 	return true
 }
 
-// stepper solves the damped subproblem; it owns the Jacobian and the work matrices.
+// stepper solves the damped subproblem. The Jacobian is factorised once per iteration,
+// J = Q·R (Householder QR, LAPACK dgeqrf), and each trial λ then solves only the small
+// 2N×N problem [R; √λ·D]·δ ≈ [−(Qᵀr)₁..N; 0], as in MINPACK's lmpar/qrsolv (Moré 1978).
 type stepper struct {
-	m, n int
-	j    *mat.Dense // the weighted Jacobian at the current point
-	aug  *mat.Dense // [J; √λ·D]
-	rhs  *mat.Dense // [−r; 0]
-	sol  *mat.Dense
-	qr   mat.QR
+	m, n  int
+	j     *mat.Dense // the weighted Jacobian at the current point
+	qr    blas64.General
+	tau   []float64
+	work  []float64
+	c     blas64.General // m×1 work vector for Qᵀ·b
+	qtr   []float64      // (Qᵀr)₁..N
+	qb    []float64      // (Qᵀ·r_vv)₁..N for accelerate
+	small *mat.Dense     // [R; √λ·D]
+	srhs  *mat.Dense
+	sol   *mat.Dense
+	sqr   mat.QR
 }
 
 func newStepper(m, n int) *stepper {
-	return &stepper{
+	s := &stepper{
 		m: m, n: n,
-		j:   mat.NewDense(m, n, nil),
-		aug: mat.NewDense(m+n, n, nil),
-		rhs: mat.NewDense(m+n, 1, nil),
-		sol: mat.NewDense(n, 1, nil),
+		j:     mat.NewDense(m, n, nil),
+		qr:    blas64.General{Rows: m, Cols: n, Stride: n, Data: make([]float64, m*n)},
+		tau:   make([]float64, n),
+		c:     blas64.General{Rows: m, Cols: 1, Stride: 1, Data: make([]float64, m)},
+		qtr:   make([]float64, n),
+		qb:    make([]float64, n),
+		small: mat.NewDense(2*n, n, nil),
+		srhs:  mat.NewDense(2*n, 1, nil),
+		sol:   mat.NewDense(n, 1, nil),
+	}
+	var q [1]float64
+	lapack64.Geqrf(s.qr, s.tau, q[:], -1)
+	lw := int(q[0])
+	lapack64.Ormqr(blas.Left, blas.Trans, s.qr, s.tau, s.c, q[:], -1)
+	s.work = make([]float64, max(lw, int(q[0]), 1))
+	return s
+}
+
+// factor factorises the current Jacobian and forms Qᵀr.
+func (s *stepper) factor(r []float64) {
+	copy(s.qr.Data, s.j.RawMatrix().Data)
+	lapack64.Geqrf(s.qr, s.tau, s.work, len(s.work))
+	s.qt(s.qtr, r)
+}
+
+// qt writes the first N entries of Qᵀ·b into dst.
+func (s *stepper) qt(dst, b []float64) {
+	copy(s.c.Data, b)
+	lapack64.Ormqr(blas.Left, blas.Trans, s.qr, s.tau, s.c, s.work, len(s.work))
+	copy(dst, s.c.Data[:s.n])
+}
+
+// step writes into delta the minimiser of ‖J·δ + r‖² + λ‖D·δ‖², and leaves the small
+// factorisation in place for accelerate.
+func (s *stepper) step(delta, d []float64, lambda float64) {
+	n := s.n
+	sl := math.Sqrt(lambda)
+	for i := 0; i < n; i++ {
+		for c := 0; c < n; c++ {
+			rv := 0.0
+			if c >= i {
+				rv = s.qr.Data[i*s.qr.Stride+c]
+			}
+			s.small.Set(i, c, rv)
+			s.small.Set(n+i, c, 0)
+		}
+		s.small.Set(n+i, i, sl*d[i])
+	}
+	s.sqr.Factorize(s.small)
+	s.solve(delta, s.qtr)
+}
+
+// solve writes into dst the least-squares solution of [R; √λ·D]·x ≈ [−qb; 0].
+func (s *stepper) solve(dst, qb []float64) {
+	n := s.n
+	for i := 0; i < n; i++ {
+		s.srhs.Set(i, 0, -qb[i])
+		s.srhs.Set(n+i, 0, 0)
+	}
+	if err := s.sqr.SolveTo(s.sol, false, s.srhs); err != nil {
+		// Only possible if λ·D² underflows; a zero step makes the caller raise λ.
+		for i := range dst {
+			dst[i] = 0
+		}
+		return
+	}
+	for i := range dst {
+		dst[i] = s.sol.At(i, 0)
 	}
 }
 
@@ -286,17 +372,10 @@ func (s *stepper) accelerate(ev *evaluator, v, a, x, r, jv, d []float64, lambda 
 		return false
 	}
 	for i := range r {
-		s.rhs.Set(i, 0, -(2/h)*((ev.rp[i]-r[i])/h-jv[i]))
+		ev.rp[i] = (2 / h) * ((ev.rp[i]-r[i])/h - jv[i])
 	}
-	for i := 0; i < s.n; i++ {
-		s.rhs.Set(s.m+i, 0, 0)
-	}
-	if err := s.qr.SolveTo(s.sol, false, s.rhs); err != nil {
-		return false
-	}
-	for i := range a {
-		a[i] = s.sol.At(i, 0)
-	}
+	s.qt(s.qb, ev.rp)
+	s.solve(a, s.qb)
 	vn := scaledNorm(d, v)
 	if vn == 0 || 2*scaledNorm(d, a) > alpha*vn {
 		return false
@@ -305,31 +384,4 @@ func (s *stepper) accelerate(ev *evaluator, v, a, x, r, jv, d []float64, lambda 
 		v[i] += a[i] / 2
 	}
 	return true
-}
-
-// step writes into delta the minimiser of ‖J·δ + r‖² + λ‖D·δ‖².
-func (s *stepper) step(delta, r, d []float64, lambda float64) {
-	s.aug.Slice(0, s.m, 0, s.n).(*mat.Dense).Copy(s.j)
-	sl := math.Sqrt(lambda)
-	for i := 0; i < s.n; i++ {
-		for c := 0; c < s.n; c++ {
-			s.aug.Set(s.m+i, c, 0)
-		}
-		s.aug.Set(s.m+i, i, sl*d[i])
-		s.rhs.Set(s.m+i, 0, 0)
-	}
-	for i := 0; i < s.m; i++ {
-		s.rhs.Set(i, 0, -r[i])
-	}
-	s.qr.Factorize(s.aug)
-	if err := s.qr.SolveTo(s.sol, false, s.rhs); err != nil {
-		// Only possible if λ·D² underflows; a zero step makes the caller raise λ.
-		for i := range delta {
-			delta[i] = 0
-		}
-		return
-	}
-	for i := range delta {
-		delta[i] = s.sol.At(i, 0)
-	}
 }
