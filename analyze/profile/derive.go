@@ -1,0 +1,202 @@
+package profile
+
+import (
+	"fmt"
+	"math"
+
+	"capcycle/analyze/units"
+)
+
+// Derived holds figures that follow from a profile. A figure that cannot be worked out
+// from what the profile gives is NaN; the doc of each field says what it needs.
+type Derived struct {
+	Channels []ChannelFigures // one per profile channel, in order
+
+	// The probe on the storage capacitor (the vcap channel and any other divider on it).
+	ProbeRatio   float64 // divider ratio of the vcap channel
+	ProbeLoadOhm float64 // resistance the vcap divider puts across the capacitor, Ω (+Inf for none)
+	ProbeAtV     float64 // voltage at which ProbeLoadA is given: Trigger.OnV, or Storage.RatedV without one
+	ProbeLoadA   float64 // current the vcap divider draws at ProbeAtV, A
+	ProbeTauS    float64 // CapF·ProbeLoadOhm: how fast the probe alone would drain the capacitor, s
+
+	// Energy.
+	CapMinF, CapMaxF float64 // capacitance range allowed by the tolerance letter, F
+	StoredAtOnJ      float64 // ½·C·Von², J; needs OnV
+	EnergyPerPulseJ  float64 // ½·C·(Von²−Voff²), J; needs OnV and OffV
+	EnergyMinJ       float64 // EnergyPerPulseJ at CapMinF
+	EnergyMaxJ       float64 // EnergyPerPulseJ at CapMaxF
+
+	// Leakage.
+	LeakLimitA    float64 // datasheet leakage limit of an aluminium electrolytic at rated voltage (see ElectrolyticLeakLimitA); NaN for supercapacitors
+	LeakLimitRule string  // the rule LeakLimitA comes from, or why there is none
+
+	// Trigger.
+	HoldDrainA float64 // hold release: quiescent current plus any vhold divider current at the threshold, A
+	HoldTimeS  float64 // hold release: HoldF·HysteresisV/HoldDrainA, the time the trigger stays on, s
+
+	// Charging at the cell's rated short-circuit current (no losses): lower bounds.
+	FirstChargeMinS float64 // CapF·OnV/IscA: from 0 V to the first fire, s; needs OnV
+	RechargeMinS    float64 // CapF·(OnV−OffV)/IscA: from release to the next fire, s; needs OnV and OffV
+	DrainAtOnA      float64 // steady drain at OnV besides the load: probe + quiescent + leakage (measured, scaled to OnV), A
+
+	Warnings []string // things in the profile that deserve a second look
+}
+
+// ChannelFigures are the derived figures of one ADC channel.
+type ChannelFigures struct {
+	Node       Node
+	ADC        int
+	Ratio      float64 // divider ratio
+	LoadOhm    float64 // resistance the divider puts across its node, Ω (+Inf for none)
+	SourceOhm  float64 // Thevenin resistance the ADC pin sees (top ∥ bottom + series), Ω
+	FullScaleV float64 // node voltage at the top of the ADC range, V
+	LSBV       float64 // node voltage per ADC count, V
+	ExpectedV  float64 // highest voltage expected at the node (rated voltage, cell Voc, ...), V
+	LoadA      float64 // divider current at ExpectedV, A
+}
+
+// adcSourceOhmMax is the source impedance the ATmega328P-class ADC is designed for
+// ("optimized for an output impedance of approximately 10 kΩ or less"; from memory of the
+// ATmega328P datasheet, ADC section). Above it, a capacitor at the pin is needed.
+const adcSourceOhmMax = 10e3
+
+// Derive computes the derived figures of p. p must come from Load or Parse.
+func Derive(p *Profile) Derived {
+	nan := math.NaN()
+	d := Derived{
+		StoredAtOnJ: nan, EnergyPerPulseJ: nan, EnergyMinJ: nan, EnergyMaxJ: nan,
+		HoldDrainA: nan, HoldTimeS: nan, FirstChargeMinS: nan, RechargeMinS: nan, DrainAtOnA: nan,
+	}
+	s, t := p.Storage, p.Trigger
+	warn := func(format string, a ...any) { d.Warnings = append(d.Warnings, fmt.Sprintf(format, a...)) }
+
+	for _, ch := range p.Channels {
+		d.Channels = append(d.Channels, channelFigures(p, ch))
+	}
+	d.ProbeLoadOhm, d.ProbeRatio = math.Inf(1), 1
+	for _, ch := range p.Channels {
+		if ch.Node == NodeVcap {
+			d.ProbeRatio, d.ProbeLoadOhm = ch.Ratio(), ch.LoadOhm()
+		}
+	}
+	d.ProbeAtV = t.OnV
+	if d.ProbeAtV == 0 {
+		d.ProbeAtV = s.RatedV
+	}
+	d.ProbeLoadA = d.ProbeAtV / d.ProbeLoadOhm
+	d.ProbeTauS = s.CapF * d.ProbeLoadOhm
+
+	d.CapMinF, d.CapMaxF = s.Tolerance.Range(s.CapF)
+	pulse := func(c float64) float64 { return 0.5 * c * (t.OnV*t.OnV - t.OffV*t.OffV) }
+	if t.OnV > 0 {
+		d.StoredAtOnJ = 0.5 * s.CapF * t.OnV * t.OnV
+		d.FirstChargeMinS = s.CapF * t.OnV / p.Cell.IscA
+		if t.OffV > 0 {
+			d.EnergyPerPulseJ, d.EnergyMinJ, d.EnergyMaxJ = pulse(s.CapF), pulse(d.CapMinF), pulse(d.CapMaxF)
+			d.RechargeMinS = s.CapF * (t.OnV - t.OffV) / p.Cell.IscA
+		}
+	}
+
+	if s.Kind == Electrolytic {
+		d.LeakLimitA, d.LeakLimitRule = ElectrolyticLeakLimitA(s.CapF, s.RatedV)
+	} else {
+		d.LeakLimitA, d.LeakLimitRule = nan, "no datasheet rule for supercapacitors here: measure the leakage (leak_a)"
+	}
+	if s.LeakA > 0 && d.LeakLimitA > 0 && s.LeakA > d.LeakLimitA {
+		warn("measured leakage %s is above the datasheet limit %s even though it was measured at %s, below the rated %s: the capacitor may be damaged or not yet re-formed",
+			units.Format(s.LeakA, units.Ampere), units.Format(d.LeakLimitA, units.Ampere), units.Format(s.LeakV, units.Volt), units.Format(s.RatedV, units.Volt))
+	}
+
+	if t.Kind == Voltage && t.Release == ReleaseHold {
+		d.HoldDrainA = t.QuiescentA
+		for _, ch := range p.Channels {
+			if ch.Node == NodeVhold {
+				d.HoldDrainA += (t.OnV - t.DiodeV) / ch.LoadOhm()
+			}
+		}
+		d.HoldTimeS = t.HoldF * t.HysteresisV / d.HoldDrainA
+		if d.HoldDrainA > 1.5*t.QuiescentA {
+			warn("the vhold divider draws more than half as much again as the supervisor: it shortens the hold time to %s",
+				units.Format(d.HoldTimeS, units.Second))
+		}
+	}
+
+	if t.OnV > 0 {
+		drain := t.OnV/d.ProbeLoadOhm + t.QuiescentA
+		if s.LeakA > 0 && s.LeakV > 0 {
+			drain += s.LeakA * t.OnV / s.LeakV // leakage taken as resistive between the two voltages
+		}
+		d.DrainAtOnA = drain
+		if p.Cell.VocV <= t.OnV {
+			warn("the cell's open-circuit voltage %s is not above on_v %s: the circuit can never fire",
+				units.Format(p.Cell.VocV, units.Volt), units.Format(t.OnV, units.Volt))
+		}
+		if t.QuiescentA > 0 && d.ProbeLoadA > t.QuiescentA {
+			warn("the probe draws %s at %s, more than the trigger's quiescent current %s: it is a real load on the circuit (larger divider resistors draw less)",
+				units.Format(d.ProbeLoadA, units.Ampere), units.Format(d.ProbeAtV, units.Volt), units.Format(t.QuiescentA, units.Ampere))
+		}
+	}
+	if t.Kind != Voltage && p.Cell.VocV > s.RatedV {
+		warn("the cell's open-circuit voltage %s is above the capacitor's rated %s and a %s trigger does not stop the charge at a voltage",
+			units.Format(p.Cell.VocV, units.Volt), units.Format(s.RatedV, units.Volt), t.Kind)
+	}
+	for i, f := range d.Channels {
+		if f.ExpectedV > f.FullScaleV {
+			warn("channel[%d] (%s): the node may reach %s but the ADC full scale is %s: readings clip, and the pin may go above the ADC reference (never let it exceed the reference or the supply, or go below 0 V)",
+				i, f.Node, units.Format(f.ExpectedV, units.Volt), units.Format(f.FullScaleV, units.Volt))
+		}
+		if f.SourceOhm > adcSourceOhmMax {
+			warn("channel[%d] (%s): the ADC pin sees %s, above the ~10 kΩ the converter is designed for; fit a capacitor (e.g. 100 nF) from the pin to ground",
+				i, f.Node, units.Format(f.SourceOhm, units.Ohm))
+		}
+	}
+	return d
+}
+
+func channelFigures(p *Profile, ch Channel) ChannelFigures {
+	f := ChannelFigures{Node: ch.Node, ADC: ch.ADC, Ratio: ch.Ratio(), LoadOhm: ch.LoadOhm()}
+	f.SourceOhm = ch.SeriesOhm + ch.TopOhm
+	if ch.BottomOhm > 0 {
+		f.SourceOhm = ch.SeriesOhm + ch.TopOhm*ch.BottomOhm/(ch.TopOhm+ch.BottomOhm)
+	}
+	f.FullScaleV = ch.Gain*p.ADC.ReferenceV/f.Ratio + ch.OffsetV
+	f.LSBV = ch.Gain * p.ADC.ReferenceV / math.Ldexp(1, p.ADC.Bits) / f.Ratio
+	switch ch.Node {
+	case NodeVcap, NodeVload:
+		f.ExpectedV = p.Storage.RatedV
+	case NodeVcell:
+		f.ExpectedV = p.Cell.VocV
+	case NodeVhold:
+		f.ExpectedV = p.Storage.RatedV - p.Trigger.DiodeV
+	}
+	f.LoadA = f.ExpectedV / f.LoadOhm
+	return f
+}
+
+// ElectrolyticLeakLimitA returns the datasheet DC leakage limit of an aluminium
+// electrolytic capacitor of rated capacitance capF (F) and rated voltage ratedV (V), in
+// amperes, and the rule used. The rule, with C in µF, V the rated voltage and I in µA,
+// measured at rated voltage and 20 °C after 2 minutes, is (source: a general-purpose
+// radial aluminium electrolytic series datasheet, quoted in
+// testdata/al_electrolytic_leakage_spec.txt):
+//
+//	6.3 V to 100 V:   I = 0.01·C·V or 3 µA, whichever is greater
+//	160 V to 450 V:   I = 0.06·C·V + 10 µA
+//
+// The low-voltage rule is also used below 6.3 V (an extrapolation, said in the rule
+// text). Between 100 V and 160 V and above 450 V it returns NaN. The limit is for the
+// rated voltage; the leakage at a lower working voltage is usually much smaller.
+func ElectrolyticLeakLimitA(capF, ratedV float64) (float64, string) {
+	cuF := capF * 1e6
+	switch {
+	case ratedV <= 100:
+		rule := "0.01·C·V or 3 µA, whichever is greater (C in µF, rated V, after 2 min at 20 °C)"
+		if ratedV < 6.3 {
+			rule += "; the rule is stated for 6.3 V to 100 V and is extrapolated here"
+		}
+		return math.Max(0.01*cuF*ratedV, 3) * 1e-6, rule
+	case ratedV >= 160 && ratedV <= 450:
+		return (0.06*cuF*ratedV + 10) * 1e-6, "0.06·C·V + 10 µA (C in µF, rated V, after 2 min at 20 °C)"
+	}
+	return math.NaN(), fmt.Sprintf("no datasheet rule at hand for a rated voltage of %s", units.Format(ratedV, units.Volt))
+}
