@@ -35,8 +35,6 @@ static uint16_t s_lo[MAX_CH], s_hi[MAX_CH];
 static uint16_t w_lo, w_hi, w_n;
 static uint32_t end_t;
 
-#define S_ROOM(n) (31u + 5u * (n))
-#define A_ROOM(n) (37u + 18u * (n))
 
 uint8_t cap_slots(uint8_t nch)
 {
@@ -86,19 +84,19 @@ void cap_reset(void)
 	slow_restart();
 }
 
-static void send_s_from_tail(void)
+/* Encode the ring's oldest sample as an S frame in out_line; returns its length. */
+static uint8_t encode_tail(void)
 {
 	uint8_t *p = slot(0);
 	uint32_t t;
-	uint16_t c;
-	out_u32(tail_seq); /* caller began the frame */
+	uint16_t c[MAX_CH];
 	memcpy(&t, p, 4);
-	out_u32(t);
-	for (uint8_t k = 0; k < cfg.nch; k++) {
-		memcpy(&c, p + 4 + 2 * k, 2);
-		out_u32(c);
-	}
-	out_end();
+	memcpy(c, p + 4, 2u * cfg.nch);
+	return frame_sample(out_line, OUT_LINE, tail_seq, t, cfg.nch, c);
+}
+
+static void pop_tail(void)
+{
 	tail_seq++;
 	if (++r_tail == n_slots)
 		r_tail = 0;
@@ -107,10 +105,10 @@ static void send_s_from_tail(void)
 
 static void send_e(void)
 {
-	out_begin(PSTR("E"), 0);
-	out_u32(seq);
-	out_u32(end_t);
-	out_end();
+	out_begin(FRAME_P("E"));
+	frame_u32(&out_f, seq);
+	frame_u32(&out_f, end_t);
+	out_end_wait();
 	state = SLOW;
 	r_tail = 0;
 	r_count = 0;
@@ -122,8 +120,8 @@ void cap_poll(void)
 		return;
 	/* One frame a call: the main loop handles new samples in between, so a long
 	 * pre-trigger ring never holds up the sample queue. */
-	if (r_count && out_begin(PSTR("S"), (uint8_t)S_ROOM(cfg.nch)))
-		send_s_from_tail();
+	if (r_count && out_try(encode_tail()))
+		pop_tail();
 	if (state == ENDING && r_count == 0)
 		send_e();
 }
@@ -136,8 +134,8 @@ uint8_t cap_pending(void)
 void cap_flush(void)
 {
 	while (state != SLOW && r_count) {
-		out_begin(PSTR("S"), 0);
-		send_s_from_tail();
+		out_wait(encode_tail());
+		pop_tail();
 	}
 }
 
@@ -153,21 +151,13 @@ void cap_end(void)
 
 static void send_a(void)
 {
-	uint32_t s = seq++;
+	uint16_t mean[MAX_CH];
 	uint16_t n = s_n;
-	if (!out_begin(PSTR("A"), (uint8_t)A_ROOM(cfg.nch))) {
+	for (uint8_t k = 0; k < cfg.nch; k++)
+		mean[k] = (uint16_t)((s_sum[k] + n / 2u) / n); /* rounded half up */
+	uint8_t len = frame_average(out_line, OUT_LINE, seq++, s_t0, n, cfg.nch, mean, s_lo, s_hi);
+	if (!out_try(len))
 		out_drops++; /* the seq gap shows it too */
-		return;
-	}
-	out_u32(s);
-	out_u32(s_t0);
-	out_u32(n);
-	for (uint8_t k = 0; k < cfg.nch; k++) {
-		out_u32((s_sum[k] + n / 2u) / n);
-		out_u32(s_lo[k]);
-		out_u32(s_hi[k]);
-	}
-	out_end();
 }
 
 static void slow_add(const struct sample *s)
@@ -201,11 +191,11 @@ static void start_burst(const struct sample *s)
 {
 	slow_restart(); /* the partial slow interval is dropped */
 	uint8_t pre = r_count;
-	out_begin(PSTR("B"), 0);
-	out_u32(seq);
-	out_u32(s->t_us);
-	out_u32(pre);
-	out_end();
+	out_begin(FRAME_P("B"));
+	frame_u32(&out_f, seq);
+	frame_u32(&out_f, s->t_us);
+	frame_u32(&out_f, pre);
+	out_end_wait();
 	tail_seq = seq;
 	seq += pre;
 	state = BURST;

@@ -37,9 +37,9 @@ static const char str_q[] PROGMEM = "?";
 
 static void reply_ok(const char *tag)
 {
-	out_begin(PSTR("OK"), 0);
-	out_kv_str(PSTR("cmd"), tag);
-	out_end();
+	out_begin(FRAME_P("OK"));
+	frame_key_str(&out_f, PSTR("cmd"), tag);
+	out_end_wait();
 }
 
 static void reply_er(const char *tag, uint8_t code)
@@ -51,14 +51,14 @@ static void reply_er(const char *tag, uint8_t code)
 	static const char m5[] PROGMEM = "eeprom";
 	static const char m6[] PROGMEM = "crc";
 	static PGM_P const msgs[] PROGMEM = {m1, m2, m3, m4, m5, m6};
-	out_begin(PSTR("ER"), 0);
+	out_begin(FRAME_P("ER"));
 	if (tag)
-		out_kv_str(PSTR("cmd"), tag);
+		frame_key_str(&out_f, PSTR("cmd"), tag);
 	else
-		out_kv_str_P(PSTR("cmd"), str_q);
-	out_kv_u32(PSTR("code"), code);
-	out_kv_str_P(PSTR("msg"), (PGM_P)pgm_read_word(&msgs[code - 1]));
-	out_end();
+		frame_key_pstr(&out_f, PSTR("cmd"), str_q);
+	frame_key_u32(&out_f, PSTR("code"), code);
+	frame_key_pstr(&out_f, PSTR("msg"), (PGM_P)pgm_read_word(&msgs[code - 1]));
+	out_end_wait();
 }
 
 static PGM_P ref_name(uint8_t r)
@@ -72,43 +72,43 @@ static PGM_P ref_name(uint8_t r)
 
 void send_id(uint8_t boot)
 {
-	out_begin(PSTR("ID"), 0);
-	out_kv_u32(PSTR("proto"), PROTO_VERSION);
-	out_kv_str_P(PSTR("fw"), PSTR(FW_VERSION));
-	out_kv_str_P(PSTR("board"), PSTR(BOARD_NAME));
-	out_kv_u32(PSTR("bits"), ADC_BITS);
-	out_kv_u32(PSTR("ebits"), EBITS);
-	out_kv_str_P(PSTR("ref"), ref_name(cfg.ref));
-	out_kv_u32(PSTR("ref_uv"), cfg.ref_uv[cfg.ref]);
-	out_kv_u32(PSTR("nch"), cfg.nch);
-	out_kv_u32(PSTR("clk_hz"), F_CPU);
-	out_kv_u32(PSTR("max_hz"), adc_max_hz(cfg.nch));
-	out_kv_u32(PSTR("slow_hz"), cfg.slow_hz);
-	out_kv_u32(PSTR("fast_hz"), cfg.fast_hz);
-	out_kv_u32(PSTR("thr"), cfg.thr);
-	out_kv_u32(PSTR("pre"), cfg.pre);
-	out_kv_u32(PSTR("post"), cfg.post);
-	out_kv_u32(PSTR("boot"), boot);
-	out_end();
+	out_begin(FRAME_P("ID"));
+	frame_key_u32(&out_f, PSTR("proto"), PROTO_VERSION);
+	frame_key_pstr(&out_f, PSTR("fw"), PSTR(FW_VERSION));
+	frame_key_pstr(&out_f, PSTR("board"), PSTR(BOARD_NAME));
+	frame_key_u32(&out_f, PSTR("bits"), ADC_BITS);
+	frame_key_u32(&out_f, PSTR("ebits"), EBITS);
+	frame_key_pstr(&out_f, PSTR("ref"), ref_name(cfg.ref));
+	frame_key_u32(&out_f, PSTR("ref_uv"), cfg.ref_uv[cfg.ref]);
+	frame_key_u32(&out_f, PSTR("nch"), cfg.nch);
+	frame_key_u32(&out_f, PSTR("clk_hz"), F_CPU);
+	frame_key_u32(&out_f, PSTR("max_hz"), adc_max_hz(cfg.nch));
+	frame_key_u32(&out_f, PSTR("slow_hz"), cfg.slow_hz);
+	frame_key_u32(&out_f, PSTR("fast_hz"), cfg.fast_hz);
+	frame_key_u32(&out_f, PSTR("thr"), cfg.thr);
+	frame_key_u32(&out_f, PSTR("pre"), cfg.pre);
+	frame_key_u32(&out_f, PSTR("post"), cfg.post);
+	frame_key_u32(&out_f, PSTR("boot"), boot);
+	out_end_wait();
 	for (uint8_t k = 0; k < cfg.nch; k++) {
-		out_begin(PSTR("CH"), 0);
-		out_kv_u32(PSTR("ch"), k);
-		out_kv_micro(PSTR("div"), cfg.div[k]);
-		out_kv_micro(PSTR("gain"), cfg.gain[k]);
-		out_kv_i32(PSTR("off_uv"), cfg.off_uv[k]);
-		out_end();
+		out_begin(FRAME_P("CH"));
+		frame_key_u32(&out_f, PSTR("ch"), k);
+		frame_key_micro(&out_f, PSTR("div"), cfg.div[k]);
+		frame_key_micro(&out_f, PSTR("gain"), cfg.gain[k]);
+		frame_key_i32(&out_f, PSTR("off_uv"), cfg.off_uv[k]);
+		out_end_wait();
 	}
 }
 
 void send_status(void)
 {
-	out_begin(PSTR("ST"), 0);
-	out_kv_u32(PSTR("up_s"), adc_uptime_s());
-	out_kv_u32(PSTR("ovr"), adc_overruns());
-	out_kv_u32(PSTR("drop"), out_drops);
-	out_kv_str_P(PSTR("reset"), reset_cause);
-	out_kv_u32(PSTR("run"), running);
-	out_end();
+	out_begin(FRAME_P("ST"));
+	frame_key_u32(&out_f, PSTR("up_s"), adc_uptime_s());
+	frame_key_u32(&out_f, PSTR("ovr"), adc_overruns());
+	frame_key_u32(&out_f, PSTR("drop"), out_drops);
+	frame_key_pstr(&out_f, PSTR("reset"), reset_cause);
+	frame_key_u32(&out_f, PSTR("run"), running);
+	out_end_wait();
 }
 
 void apply_settings(void)

@@ -1,35 +1,32 @@
 /*
- * out.h - writes protocol frames (PROTOCOL.md, "Frame syntax") straight into the
- * transmit queue, computing the CRC-16/XMODEM on the way.
+ * out.h - device frames, built with the shared encoder (frame.h) in one line buffer and
+ * queued for the USART.
  *
- * Tags and keys are program-memory strings (PSTR), so they cost no RAM.
+ *     out_begin(FRAME_P("ST"));
+ *     frame_key_u32(&out_f, FRAME_P("up_s"), 12);
+ *     out_end_wait();
  */
 #ifndef CAPCYCLE_OUT_H
 #define CAPCYCLE_OUT_H
 
 #include <stdint.h>
-#include <avr/pgmspace.h>
 
-/* Begin a device frame "!TAG". With room > 0 the frame is a data frame: it is begun
- * only when `room` bytes (an upper bound of its length) are free in the transmit queue
- * now, and out_begin returns 0 otherwise (the caller decides: retry later, or count a
- * drop in out_drops). With room == 0
- * the frame waits for space byte by byte and out_begin returns 1. */
-uint8_t out_begin(PGM_P tag, uint8_t room);
-/* " 123" (positional unsigned field). */
-void out_u32(uint32_t v);
-/* " key=123". */
-void out_kv_u32(PGM_P key, uint32_t v);
-/* " key=-12". */
-void out_kv_i32(PGM_P key, int32_t v);
-/* " key=text" (text from program memory). */
-void out_kv_str_P(PGM_P key, PGM_P text);
-/* " key=text" (text from RAM, printable without spaces). */
-void out_kv_str(PGM_P key, const char *text);
-/* " key=1.0012": a decimal given as a count of millionths, shortest form. */
-void out_kv_micro(PGM_P key, int32_t micro);
-/* " *CRC\n". */
-void out_end(void);
+#include "frame.h"
+
+/* The longest frame the firmware sends is ID, under 180 bytes. */
+#define OUT_LINE 184
+
+extern char out_line[OUT_LINE];
+extern frame_t out_f;
+
+/* Begin a device frame with tag (a FRAME_P string) in out_line. */
+#define out_begin(tag) frame_begin(&out_f, out_line, OUT_LINE, FRAME_DEVICE, (tag))
+/* Finish the frame begun with out_begin and queue it, waiting for room. */
+void out_end_wait(void);
+/* Queue out_line[0..n) only if it fits in the transmit queue now; 1 if queued. */
+uint8_t out_try(uint8_t n);
+/* Queue out_line[0..n), waiting for room. */
+void out_wait(uint8_t n);
 
 /* Frames dropped because the transmit queue was full. */
 extern uint32_t out_drops;
