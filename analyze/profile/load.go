@@ -103,6 +103,9 @@ func (c *conv) unknownKeys(md toml.MetaData) {
 			continue
 		}
 		msg := fmt.Sprintf("unknown key %q", k[len(k)-1])
+		if t := md.Type(k...); t == "Hash" || t == "ArrayHash" {
+			msg = fmt.Sprintf("unknown table %q", k[len(k)-1])
+		}
 		if s := suggest(path); s != "" {
 			msg += fmt.Sprintf(" (did you mean %q?)", s)
 		} else if len(k) == 1 {
