@@ -120,7 +120,10 @@ func profileCheck(args []string, e *env) error {
 		if errors.As(err, &pe) {
 			return inputError(err)
 		}
-		return inputError(fmt.Errorf("%s: %w", fs.Arg(0), errors.Unwrap(err)))
+		if u := errors.Unwrap(err); u != nil {
+			err = u // the *fs.PathError names the file
+		}
+		return inputError(err)
 	}
 	printProfile(e.stdout, fs.Arg(0), p, profile.Derive(p))
 	return nil
