@@ -30,6 +30,35 @@ func (f *ExpFit) At(t float64) float64 {
 	return expModel(x[0], x[1], x[2], t-f.T0)
 }
 
+// Settle returns how long after T0 the fitted curve takes to come within frac (for
+// example 0.01) of its asymptote, |v − v∞| ≤ frac·|v∞|, that is
+//
+//	t = τ·ln(|v0 − v∞| / (frac·|v∞|)),
+//
+// with its standard error by the delta method; 0 if v0 is already that close, NaN
+// values if the fit has no asymptote.
+func (f *ExpFit) Settle(frac float64) Value {
+	x, c := f.Result.X, f.Result.Cov
+	v0, a, k := x[0], x[1], x[2]
+	if !(k > 0) || !(frac > 0) {
+		return Value{math.NaN(), math.NaN()}
+	}
+	vinf := v0 + a/k
+	d := math.Abs(a / k) // |v0 − v∞|
+	tol := frac * math.Abs(vinf)
+	if d <= tol {
+		return Value{0, 0}
+	}
+	t := math.Log(d/tol) / k
+	// t(v0, A, k) = [ln|A/k| − ln(frac) − ln|v0 + A/k|]/k; partial derivatives:
+	g := []float64{
+		-1 / (k * vinf),
+		(1/a - 1/(k*vinf)) / k,
+		(-1/k+a/(k*k*vinf))/k - t/k,
+	}
+	return Value{t, math.Sqrt(quadForm(c, g))}
+}
+
 // ExpApproach fits v(t) = v∞ + (v0 − v∞)·exp(−(t − t0)/τ), with t0 = t[0], to the
 // samples (t, v): the discharge through a load while the cell keeps charging, a dark
 // decay towards an offset, or the approach to an equilibrium. The samples need not be

@@ -196,3 +196,30 @@ func TestResidualPatternKnownNoise(t *testing.T) {
 		t.Errorf("smooth misfit not flagged: %+v", p)
 	}
 }
+
+func TestSettle(t *testing.T) {
+	rng := rand.New(rand.NewPCG(41, 42))
+	// A cell charging a capacitor towards 2.1 V from 0.8 V with τ = 30 s: within 1 % of
+	// 2.1 V after 30·ln(1.3/0.021) = 123.8 s (the RC time-constant rule,
+	// 1 − e^(−n), common practice).
+	want := 30 * math.Log(1.3/0.021)
+	var settles []float64
+	var sds []float64
+	for range 200 {
+		tt, v := expData(rng, 300, 60, 0.8, 2.1, 30, 3e-3, 0, false)
+		f, err := ExpApproach(tt, v)
+		if err != nil {
+			t.Fatal(err)
+		}
+		s := f.Settle(0.01)
+		settles, sds = append(settles, s.Value), append(sds, s.SD)
+	}
+	mean, spread := stat.Mean(settles, nil), stat.StdDev(settles, nil)
+	t.Logf("settle %.3f s (true %.3f), spread %.3f, mean reported SD %.3f", mean, want, spread, stat.Mean(sds, nil))
+	if math.Abs(mean-want) > 4*spread/math.Sqrt(200) {
+		t.Errorf("mean settle time %g, want %g", mean, want)
+	}
+	if r := stat.Mean(sds, nil) / spread; r < 0.85 || r > 1.15 {
+		t.Errorf("reported SD %g, spread %g", stat.Mean(sds, nil), spread)
+	}
+}

@@ -146,6 +146,9 @@ func TestInterval(t *testing.T) {
 	if lo != res.Lo[0] || hi != res.Hi[0] {
 		t.Errorf("Interval %g %g, fields %g %g", lo, hi, res.Lo[0], res.Hi[0])
 	}
+	if vlo, vhi := (Value{res.X[0], res.SE[0]}).Interval(res.DoF, 0.95); vlo != lo || vhi != hi {
+		t.Errorf("Value.Interval %g %g, Result.Interval %g %g", vlo, vhi, lo, hi)
+	}
 	if c := res.Corr(0, 1); !(c < -0.9 && c >= -1) {
 		t.Errorf("corr(b1, b2) = %g: b1 and b2 of Misra1a are strongly anti-correlated", c)
 	}

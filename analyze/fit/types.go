@@ -1,7 +1,10 @@
 package fit
 
 import (
+	"math"
+
 	"gonum.org/v1/gonum/mat"
+	"gonum.org/v1/gonum/stat/distuv"
 )
 
 // Problem is a nonlinear least-squares problem: find the parameters x that minimise
@@ -173,4 +176,15 @@ type Result struct {
 type Value struct {
 	Value float64 `json:"value"`
 	SD    float64 `json:"sd"`
+}
+
+// Interval returns the two-sided Student-t confidence interval Value ∓ t·SD at the
+// given level (for example 0.95) with dof degrees of freedom (Result.DoF of the fit
+// the value came from). NaN when dof < 1 or the level is outside (0, 1).
+func (v Value) Interval(dof int, level float64) (lo, hi float64) {
+	if dof < 1 || !(level > 0 && level < 1) {
+		return math.NaN(), math.NaN()
+	}
+	q := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(dof)}.Quantile(0.5 + level/2)
+	return v.Value - q*v.SD, v.Value + q*v.SD
 }
