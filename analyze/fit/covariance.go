@@ -16,6 +16,13 @@ const nullShare = 0.05
 func covariance(res *Result, ev *evaluator, j *mat.Dense, r []float64, set Settings) {
 	m, n := j.Dims()
 	ev.jacobian(j, res.X, r, true)
+	for k, at := range res.AtBound {
+		if at {
+			for i := 0; i < m; i++ {
+				j.Set(i, k, 0) // held on its bound: not estimated
+			}
+		}
+	}
 	res.SD = math.NaN()
 	if res.DoF > 0 {
 		res.SD = math.Sqrt(res.RSS / float64(res.DoF))

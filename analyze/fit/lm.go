@@ -36,6 +36,11 @@ const stuckCosine = 1e-4
 // "Damping parameter in Marquardt's method", IMM-REP-1999-05). The predicted reduction is
 // ‖J·δ‖² + 2λ‖D·δ‖², which follows from the step equations and never cancels.
 //
+// With bounds (Problem.Lower, Upper) a parameter that sits on a bound while the step
+// points outwards is held there and the step re-solved for the others; a step that
+// crosses a bound is projected back onto the box, and its predicted reduction is then
+// taken from the linear model for the projected step.
+//
 // Solve returns an error wrapping ErrInput (and a nil Result) for a malformed problem or
 // a non-finite start. When the solver stops without meeting a convergence test it
 // returns the best point found together with a *StatusError (errors.Is ErrNotConverged).
@@ -46,6 +51,7 @@ func Solve(p Problem, x0 []float64, s *Settings) (*Result, error) {
 	}
 	set := defaults(s, n, p.Jac != nil)
 	ev := newEvaluator(p, n, set)
+	bd := newBounds(p, n)
 
 	x := append([]float64(nil), x0...)
 	r := make([]float64, p.M)
@@ -89,7 +95,7 @@ outer:
 			status = ZeroResidual
 			break
 		}
-		gnorm := gradientCosine(lm.j, r, cn, f2)
+		gnorm := gradientCosine(lm.j, r, cn, f2, x, bd)
 		lm.factor(r)
 		if gnorm <= set.GTol {
 			status = GTolReached
@@ -101,17 +107,27 @@ outer:
 				break outer
 			}
 			lm.step(delta, d, lambda)
+			frozen := bd != nil && bd.freeze(lm, x, delta, r, d, lambda)
 			dx := scaledNorm(d, delta)
 			xn := scaledNorm(d, x)
-			mat.NewVecDense(p.M, jd).MulVec(lm.j, mat.NewVecDense(n, delta))
+			jdv := mat.NewVecDense(p.M, jd)
+			jdv.MulVec(lm.j, mat.NewVecDense(n, delta))
 			pred := floats.Dot(jd, jd) + 2*lambda*dx*dx
 			rho := -1.0
 			accelOK := true
-			if !set.NoAccel {
+			if !set.NoAccel && !frozen {
 				accelOK = lm.accelerate(ev, delta, accel, x, r, jd, d, lambda)
 			}
 			if accelOK {
 				floats.AddTo(xt, x, delta)
+				if bd != nil && bd.clamp(xt) {
+					// A projected step: predict from the linear model for the step taken.
+					floats.SubTo(delta, xt, x)
+					dx = scaledNorm(d, delta)
+					jdv.MulVec(lm.j, mat.NewVecDense(n, delta))
+					floats.Add(jd, r)
+					pred = f2 - floats.Dot(jd, jd)
+				}
 				ev.eval(rt, xt)
 				ft2 := floats.Dot(rt, rt)
 				if !math.IsNaN(ft2) && !math.IsInf(ft2, 0) && pred > 0 {
@@ -165,6 +181,12 @@ outer:
 	res.FuncEvals = ev.evals
 	res.Residuals = make([]float64, p.M)
 	ev.raw(res.Residuals, x)
+	res.AtBound = make([]bool, n)
+	if bd != nil {
+		for k := range x {
+			res.AtBound[k] = x[k] <= bd.lo[k] || x[k] >= bd.hi[k]
+		}
+	}
 	covariance(res, ev, lm.j, r, set)
 	return res, status.Err()
 }
@@ -183,6 +205,20 @@ func checkProblem(p Problem, x0 []float64) error {
 	}
 	if !allFinite(x0) {
 		return inputErrorf("starting point is not finite: %v", x0)
+	}
+	for name, b := range map[string][]float64{"Lower": p.Lower, "Upper": p.Upper} {
+		if b != nil && len(b) != n {
+			return inputErrorf("Problem.%s has %d entries for %d parameters", name, len(b), n)
+		}
+	}
+	for k := range x0 {
+		lo, hi := bound(p.Lower, k, math.Inf(-1)), bound(p.Upper, k, math.Inf(1))
+		if math.IsNaN(lo) || math.IsNaN(hi) || lo > hi {
+			return inputErrorf("bounds of parameter %d are [%v, %v]", k, lo, hi)
+		}
+		if x0[k] < lo || x0[k] > hi {
+			return inputErrorf("starting value %v of parameter %d is outside [%v, %v]", x0[k], k, lo, hi)
+		}
 	}
 	for i, w := range p.Weights {
 		if !(w >= 0) || math.IsInf(w, 0) {
@@ -227,8 +263,9 @@ func defaults(s *Settings, n int, analytic bool) Settings {
 	return set
 }
 
-// gradientCosine returns max_j |J_jᵀ r| / (‖J_j‖·‖r‖) over the non-zero columns.
-func gradientCosine(j *mat.Dense, r, cn []float64, f2 float64) float64 {
+// gradientCosine returns max_j |J_jᵀ r| / (‖J_j‖·‖r‖) over the non-zero columns,
+// leaving out parameters held at a bound by a gradient that pushes them outwards.
+func gradientCosine(j *mat.Dense, r, cn []float64, f2 float64, x []float64, bd *bounds) float64 {
 	m, n := j.Dims()
 	fn := math.Sqrt(f2)
 	g := 0.0
@@ -239,6 +276,10 @@ func gradientCosine(j *mat.Dense, r, cn []float64, f2 float64) float64 {
 		s := 0.0
 		for i := 0; i < m; i++ {
 			s += j.At(i, c) * r[i]
+		}
+		// The descent direction for x_c is −s.
+		if bd != nil && ((x[c] <= bd.lo[c] && s > 0) || (x[c] >= bd.hi[c] && s < 0)) {
+			continue
 		}
 		g = math.Max(g, math.Abs(s)/(cn[c]*fn))
 	}

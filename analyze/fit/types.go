@@ -29,6 +29,12 @@ type Problem struct {
 	// Weights, if not nil, holds the M weights w_i ≥ 0 (typically 1/σ_i²). Nil means all
 	// weights are 1.
 	Weights []float64
+
+	// Lower and Upper, if not nil, hold N bounds Lower_j ≤ x_j ≤ Upper_j (use ±Inf for
+	// a free side). The solver then takes projected steps, holding a parameter on its
+	// bound while the gradient pushes it outwards (a projected Levenberg-Marquardt
+	// method). Nil means unbounded. The starting point must lie inside the box.
+	Lower, Upper []float64
 }
 
 // Settings control the solver. The zero value, and a nil *Settings, mean the defaults
@@ -166,6 +172,10 @@ type Result struct {
 	Rank         int       // numerical rank of the Jacobian at X
 	Identifiable []bool    // per parameter: false when it lies in the Jacobian's null space
 	Cond         float64   // condition number of the column-scaled Jacobian at X
+	// AtBound marks parameters that end on a bound of Problem.Lower or Upper. Their
+	// SE, Lo, Hi and covariance are NaN, and the other parameters' covariance is the
+	// one with them held fixed.
+	AtBound []bool
 
 	Iterations int // Jacobian evaluations
 	FuncEvals  int // residual evaluations, finite differences included
