@@ -30,6 +30,8 @@
 
 #include <avr/interrupt.h>
 #include <avr/io.h>
+#include <avr/pgmspace.h>
+#include <string.h>
 #include <util/atomic.h>
 
 #define ADC_PRESCALER_BITS (_BV(ADPS2) | _BV(ADPS1) | _BV(ADPS0)) /* /128 */
@@ -40,13 +42,12 @@
 static volatile struct sample queue[QLEN];
 static volatile uint8_t q_head, q_tail;
 
-/* Device clock: whole microseconds plus a half-microsecond remainder. */
+/* Device clock: whole microseconds plus a half-microsecond remainder. A tick is
+ * tick_us microseconds, plus half a microsecond when tick_half is set. */
 static volatile uint32_t clock_us;
 static volatile uint8_t clock_half;
-static volatile uint32_t up_s;
-static volatile uint32_t up_acc_us;
-static uint16_t tick_half_us_lo; /* half-microseconds per tick, low 16 bits */
-static uint8_t tick_half_us_hi;  /* and high 8 bits (up to 2^24 half-us = 8.4 s) */
+static uint32_t tick_us;
+static uint8_t tick_half;
 
 static volatile uint32_t overruns;
 
@@ -81,18 +82,20 @@ void adc_init(void)
 	ADCSRB = 0;
 }
 
+/* Conversions per sample: 4^OVS_BITS per channel, plus one discarded after each mux
+ * change when more than one channel is on. A block costs that many conversions of at
+ * most CONV_US_MAX plus 64 us for the interrupts around it. The link carries a sample
+ * frame of at most 31 + 5 * nch bytes in 10 bit times a byte; 20 % is kept for the other
+ * frames. max_hz is the lower of the two. */
+#define CONVS(n) ((n) * OVS_N + ((n) > 1 ? (n) : 0))
+#define ADC_HZ(n) (1000000UL / (CONVS(n) * CONV_US_MAX + 64UL))
+#define LINK_HZ(n) ((BAUD / 10UL) * 4UL / 5UL / (31UL + 5UL * (n)))
+#define MAX_HZ(n) (ADC_HZ(n) < LINK_HZ(n) ? ADC_HZ(n) : LINK_HZ(n))
+static const uint16_t max_hz_tab[MAX_CH] PROGMEM = {MAX_HZ(1), MAX_HZ(2), MAX_HZ(3), MAX_HZ(4)};
+
 uint16_t adc_max_hz(uint8_t nch)
 {
-	/* Conversions per sample: 4^OVS_BITS per channel, plus one discarded after each
-	 * mux change when more than one channel is on. */
-	uint16_t k = (uint16_t)(nch * OVS_N + (nch > 1 ? nch : 0));
-	/* Block time plus 64 us for the interrupts around it. */
-	uint32_t block_us = (uint32_t)k * CONV_US_MAX + 64u;
-	uint32_t adc_hz = 1000000UL / block_us;
-	/* Link: a sample frame is at most 31 + 5 * nch bytes, 10 bits a byte; keep 20 %
-	 * for the other frames. */
-	uint32_t link_hz = (BAUD / 10UL) * 4UL / 5UL / (31UL + 5UL * nch);
-	return (uint16_t)(adc_hz < link_hz ? adc_hz : link_hz);
+	return pgm_read_word(&max_hz_tab[nch - 1]);
 }
 
 /* Busy-wait conversions on the current ADMUX, results discarded. Interrupts off. */
@@ -108,24 +111,15 @@ static void settle(uint8_t n)
 
 void adc_configure(uint16_t fast_hz, uint8_t nch, uint8_t ref)
 {
-	/* Smallest Timer1 prescaler whose compare value fits 16 bits. */
-	static const uint16_t presc[4] = {8, 64, 256, 1024};
-	static const uint8_t cs[4] = {_BV(CS11), _BV(CS11) | _BV(CS10), _BV(CS12),
-				      _BV(CS12) | _BV(CS10)};
-	uint8_t i;
-	uint32_t ticks = 0;
-	for (i = 0; i < 4; i++) {
-		uint32_t clk = F_CPU / presc[i];
-		ticks = (clk + fast_hz / 2) / fast_hz;
-		if (ticks <= 65536UL)
-			break;
+	/* Timer1 prescaler 8 (0.5 us a count) down to 31 Hz, else 256 (16 us a count). */
+	uint8_t cs = _BV(CS11), half_per_count = 1;
+	uint32_t ticks = (F_CPU / 8 + fast_hz / 2) / fast_hz;
+	if (ticks > 65536UL) {
+		cs = _BV(CS12);
+		half_per_count = 32;
+		ticks = (F_CPU / 256 + fast_hz / 2) / fast_hz;
 	}
-	if (i == 4) {
-		i = 3;
-		ticks = 65536UL;
-	}
-	/* One timer count is presc/16 us = presc/8 half-us. */
-	uint32_t half = ticks * (presc[i] / 8u);
+	uint32_t half = ticks * half_per_count;
 
 	ATOMIC_BLOCK(ATOMIC_FORCEON)
 	{
@@ -135,9 +129,8 @@ void adc_configure(uint16_t fast_hz, uint8_t nch, uint8_t ref)
 		 * keeps true time across a rate change. */
 		uint32_t el_half = (uint32_t)TCNT1 * count_half + clock_half;
 		clock_us += el_half >> 1;
-		up_acc_us += el_half >> 1;
 		clock_half = (uint8_t)(el_half & 1);
-		count_half = (uint8_t)(presc[i] / 8u);
+		count_half = half_per_count;
 		ADCSRA = _BV(ADEN) | _BV(ADIF) | ADC_PRESCALER_BITS; /* stop any block */
 		busy = 0;
 		q_head = q_tail = 0;
@@ -149,13 +142,13 @@ void adc_configure(uint16_t fast_hz, uint8_t nch, uint8_t ref)
 			ADMUX = rb;
 			settle(4);
 		}
-		tick_half_us_lo = (uint16_t)half;
-		tick_half_us_hi = (uint8_t)(half >> 16);
+		tick_us = half >> 1;
+		tick_half = (uint8_t)(half & 1);
 		TCCR1A = 0;
 		TCCR1B = _BV(WGM12); /* CTC, clock still off */
 		TCNT1 = 0;
 		OCR1A = (uint16_t)(ticks - 1);
-		TCCR1B = _BV(WGM12) | cs[i];
+		TCCR1B = _BV(WGM12) | cs;
 		TIFR1 = _BV(OCF1A);
 		TIMSK1 = _BV(OCIE1A);
 	}
@@ -169,22 +162,10 @@ void adc_run(uint8_t on)
 /* Sample tick: advance the clock and start a conversion block. */
 ISR(TIMER1_COMPA_vect)
 {
-	uint32_t half = ((uint32_t)tick_half_us_hi << 16) | tick_half_us_lo;
-	uint32_t us = half >> 1;
-	if (half & 1) {
-		if (clock_half) {
-			us++;
-			clock_half = 0;
-		} else {
-			clock_half = 1;
-		}
-	}
-	clock_us += us;
-	up_acc_us += us;
-	while (up_acc_us >= 1000000UL) {
-		up_acc_us -= 1000000UL;
-		up_s++;
-	}
+	uint32_t c = clock_us + tick_us;
+	if (tick_half && (clock_half ^= 1) == 0)
+		c++;
+	clock_us = c;
 	if (!running)
 		return;
 	if (busy) {
@@ -192,7 +173,7 @@ ISR(TIMER1_COMPA_vect)
 		return;
 	}
 	busy = 1;
-	cur.t_us = clock_us;
+	cur.t_us = c;
 	cur_ch = 0;
 	cur_n = 0;
 	acc = 0;
@@ -219,9 +200,7 @@ ISR(ADC_vect)
 				if (nh == q_tail) {
 					overruns++;
 				} else {
-					queue[h].t_us = cur.t_us;
-					for (uint8_t k = 0; k < MAX_CH; k++)
-						queue[h].c[k] = cur.c[k];
+					memcpy((void *)&queue[h], &cur, sizeof cur);
 					q_head = nh;
 				}
 				busy = 0;
@@ -245,9 +224,7 @@ uint8_t adc_pop(struct sample *s)
 	uint8_t t = q_tail;
 	if (t == q_head)
 		return 0;
-	s->t_us = queue[t].t_us;
-	for (uint8_t k = 0; k < MAX_CH; k++)
-		s->c[k] = queue[t].c[k];
+	memcpy(s, (const void *)&queue[t], sizeof *s);
 	q_tail = (uint8_t)((t + 1) & (QLEN - 1));
 	return 1;
 }
@@ -256,13 +233,6 @@ uint32_t adc_now_us(void)
 {
 	uint32_t v;
 	ATOMIC_BLOCK(ATOMIC_RESTORESTATE) { v = clock_us; }
-	return v;
-}
-
-uint32_t adc_uptime_s(void)
-{
-	uint32_t v;
-	ATOMIC_BLOCK(ATOMIC_RESTORESTATE) { v = up_s; }
 	return v;
 }
 

@@ -29,8 +29,6 @@ uint8_t adc_pop(struct sample *s);
 uint8_t adc_ready(void);
 /* The device clock in microseconds (wraps at 2^32). */
 uint32_t adc_now_us(void);
-/* Whole seconds since reset. */
-uint32_t adc_uptime_s(void);
 /* Samples missed because the previous block was not finished or the queue was full. */
 uint32_t adc_overruns(void);
 /* Highest fast rate for nch channels, from the conversion time and the link. */

@@ -14,10 +14,11 @@
 #include "settings.h"
 #include "uart.h"
 
+#include <stddef.h>
 #include <string.h>
-#include <util/crc16.h>
 
 uint8_t running;
+uint32_t uptime_s;
 PGM_P reset_cause;
 
 enum { E_UNKNOWN = 1, E_RANGE = 2, E_SYNTAX = 3, E_BUSY = 4, E_EEPROM = 5, E_CRC = 6 };
@@ -31,7 +32,6 @@ static char *fkey[MAX_FIELDS];
 static char *fval[MAX_FIELDS];
 static uint8_t nfields;
 
-static const char str_q[] PROGMEM = "?";
 
 /* ---- replies ---- */
 
@@ -52,10 +52,7 @@ static void reply_er(const char *tag, uint8_t code)
 	static const char m6[] PROGMEM = "crc";
 	static PGM_P const msgs[] PROGMEM = {m1, m2, m3, m4, m5, m6};
 	out_begin(FRAME_P("ER"));
-	if (tag)
-		frame_key_str(&out_f, PSTR("cmd"), tag);
-	else
-		frame_key_pstr(&out_f, PSTR("cmd"), str_q);
+	frame_key_str(&out_f, PSTR("cmd"), tag ? tag : "?");
 	frame_key_u32(&out_f, PSTR("code"), code);
 	frame_key_pstr(&out_f, PSTR("msg"), (PGM_P)pgm_read_word(&msgs[code - 1]));
 	out_end_wait();
@@ -103,7 +100,7 @@ void send_id(uint8_t boot)
 void send_status(void)
 {
 	out_begin(FRAME_P("ST"));
-	frame_key_u32(&out_f, PSTR("up_s"), adc_uptime_s());
+	frame_key_u32(&out_f, PSTR("up_s"), uptime_s);
 	frame_key_u32(&out_f, PSTR("ovr"), adc_overruns());
 	frame_key_u32(&out_f, PSTR("drop"), out_drops);
 	frame_key_pstr(&out_f, PSTR("reset"), reset_cause);
@@ -121,294 +118,192 @@ void apply_settings(void)
 
 /* ---- numbers (PROTOCOL.md, "Numbers") ---- */
 
-static uint8_t parse_u32(const char *s, uint32_t *out)
+/* Parse a number into *out (which must stay below 2^31 in size): an integer, with a
+ * leading "-" if neg, or with frac = 6 a decimal to millionths (up to 6 fraction
+ * digits). */
+static uint8_t parse_num(const char *s, uint8_t frac, uint8_t neg, int32_t *out)
 {
+	uint8_t minus = 0, nd = 0, nf = 0, dot = 0;
 	uint32_t v = 0;
-	if (!*s || (s[0] == '0' && s[1]))
-		return 0;
-	for (; *s; s++) {
-		if (*s < '0' || *s > '9')
-			return 0;
-		uint8_t d = (uint8_t)(*s - '0');
-		if (v > (0xFFFFFFFFUL - d) / 10u)
-			return 0;
-		v = v * 10u + d;
-	}
-	*out = v;
-	return 1;
-}
-
-static uint8_t parse_i32(const char *s, int32_t *out)
-{
-	uint8_t neg = (*s == '-');
-	uint32_t v;
-	if (!parse_u32(s + neg, &v) || v > 0x7FFFFFFFUL)
-		return 0;
-	*out = neg ? -(int32_t)v : (int32_t)v;
-	return 1;
-}
-
-/* Decimal to millionths: "-1.0012" -> -1001200. */
-static uint8_t parse_micro(const char *s, int32_t *out)
-{
-	uint8_t neg = (*s == '-');
-	s += neg;
-	uint32_t ip = 0, fp = 0;
-	uint8_t nd = 0, nf = 0;
-	for (; *s >= '0' && *s <= '9'; s++, nd++) {
-		ip = ip * 10u + (uint8_t)(*s - '0');
-		if (ip > 2000u)
-			return 0;
-	}
-	if (!nd)
-		return 0;
-	if (*s == '.') {
+	if (neg && *s == '-') {
+		minus = 1;
 		s++;
-		for (; *s >= '0' && *s <= '9'; s++, nf++) {
-			if (nf == 6)
-				return 0;
-			fp = fp * 10u + (uint8_t)(*s - '0');
+	}
+	if (s[0] == '0' && s[1] >= '0' && s[1] <= '9')
+		return 0; /* no leading zeros */
+	for (; *s; s++) {
+		if (*s == '.' && frac && !dot && nd) {
+			dot = 1;
+			continue;
 		}
-		if (!nf)
+		if (*s < '0' || *s > '9' || (dot && ++nf > frac))
+			return 0;
+		nd++;
+		v = v * 10u + (uint8_t)(*s - '0');
+		if (v > 0x7FFFFFFUL)
 			return 0;
 	}
-	if (*s)
+	if (!nd || (dot && !nf))
 		return 0;
-	while (nf++ < 6)
-		fp *= 10u;
-	int32_t v = (int32_t)(ip * 1000000UL + fp);
-	*out = neg ? -v : v;
+	for (; nf < frac; nf++) {
+		if (v > 0x7FFFFFFFUL / 10u)
+			return 0;
+		v *= 10u;
+	}
+	*out = minus ? -(int32_t)v : (int32_t)v;
 	return 1;
 }
 
-/* ---- fields ---- */
+/* ---- settings commands, table-driven ---- */
 
-static const char *field(PGM_P key)
+enum { C_RATE, C_CHAN, C_BURST, C_REF, C_CAL };
+enum { K_U8, K_U16, K_U32, K_I32, K_MICRO };
+
+struct param {
+	char key[8];
+	uint8_t cmd;
+	uint8_t kind;
+	uint8_t off;     /* offset in struct settings; per-channel arrays add 4 * ch */
+	uint8_t per_ch;
+	int32_t min, max;
+};
+
+#define OFF(f) ((uint8_t)offsetof(struct settings, f))
+
+static const struct param params[] PROGMEM = {
+	{"slow_hz", C_RATE, K_U16, OFF(slow_hz), 0, 1, 65535},
+	{"fast_hz", C_RATE, K_U16, OFF(fast_hz), 0, 1, 65535},
+	{"n", C_CHAN, K_U8, OFF(nch), 0, 1, MAX_CH},
+	{"thr", C_BURST, K_U16, OFF(thr), 0, 0, 65535},
+	{"pre", C_BURST, K_U8, OFF(pre), 0, 0, 255},
+	{"post", C_BURST, K_U16, OFF(post), 0, 1, 65535},
+	{"ref_uv", C_REF, K_U32, OFF(ref_uv), 0, 0, 6000000L},
+	{"div", C_CAL, K_MICRO, OFF(div), 1, 1, 1000000L},
+	{"gain", C_CAL, K_MICRO, OFF(gain), 1, 1, 10000000L},
+	{"off_uv", C_CAL, K_I32, OFF(off_uv), 1, -100000000L, 100000000L},
+};
+
+static const char cmd_names[] PROGMEM = "rate\0chan\0burst\0ref\0cal\0";
+
+/* Index of tag in a "\0"-separated program-memory list, or -1. */
+static int8_t lookup(PGM_P list, const char *tag)
 {
-	for (uint8_t i = 0; i < nfields; i++)
-		if (strcmp_P(fkey[i], key) == 0)
-			return fval[i];
-	return 0;
+	for (int8_t i = 0; pgm_read_byte(list); i++) {
+		if (strcmp_P(tag, list) == 0)
+			return i;
+		list += strlen_P(list) + 1;
+	}
+	return -1;
 }
 
-/* Look up an unsigned field: 1 found and valid, 0 absent, -1 bad. */
-static int8_t get_u32(PGM_P key, uint32_t *v)
+/* Apply the fields of settings command c to n; 0 or an error code. */
+static uint8_t set_fields(uint8_t c, struct settings *n)
 {
-	const char *s = field(key);
-	if (!s)
-		return 0;
-	return parse_u32(s, v) ? 1 : -1;
-}
-
-static int8_t get_micro(PGM_P key, int32_t *v)
-{
-	const char *s = field(key);
-	if (!s)
-		return 0;
-	return parse_micro(s, v) ? 1 : -1;
-}
-
-static int8_t get_i32(PGM_P key, int32_t *v)
-{
-	const char *s = field(key);
-	if (!s)
-		return 0;
-	return parse_i32(s, v) ? 1 : -1;
-}
-
-/* ---- commands ---- */
-
-/* Returns 0 when accepted, else an error code. `changed` is set for settings. */
-static uint8_t do_rate(struct settings *n)
-{
-	uint32_t slow = n->slow_hz, fast = n->fast_hz;
-	int8_t a = get_u32(PSTR("slow_hz"), &slow);
-	int8_t b = get_u32(PSTR("fast_hz"), &fast);
-	if (a < 0 || b < 0 || (a == 0 && b == 0))
+	uint8_t ch = 0, have = (c == C_CAL || c == C_REF) ? 0 : 1;
+	int32_t val[MAX_FIELDS];
+	int8_t which[MAX_FIELDS];
+	/* Check every value first, so a refused command changes nothing. */
+	for (uint8_t i = 0; i < nfields; i++) {
+		which[i] = -1;
+		if (c == C_CAL && strcmp_P(fkey[i], PSTR("ch")) == 0) {
+			if (!parse_num(fval[i], 0, 0, &val[i]))
+				return E_SYNTAX;
+			if (val[i] >= MAX_CH)
+				return E_RANGE;
+			ch = (uint8_t)val[i];
+			have = 1;
+			continue;
+		}
+		if (c == C_REF && strcmp_P(fkey[i], PSTR("src")) == 0) {
+			int8_t r = lookup(PSTR("avcc\0int\0ext\0"), fval[i]);
+			if (r < 0)
+				return E_RANGE;
+			n->ref = (uint8_t)r;
+			have = 1;
+			continue;
+		}
+		for (uint8_t k = 0; k < sizeof params / sizeof params[0]; k++) {
+			struct param p;
+			memcpy_P(&p, &params[k], sizeof p);
+			if (p.cmd != c || strcmp(fkey[i], p.key) != 0)
+				continue;
+			if (!parse_num(fval[i], p.kind == K_MICRO ? 6 : 0, p.kind >= K_I32, &val[i]))
+				return E_SYNTAX;
+			if (val[i] < p.min || val[i] > p.max)
+				return E_RANGE;
+			which[i] = (int8_t)k;
+		}
+	}
+	if (!have)
 		return E_SYNTAX;
-	if (fast < 1 || fast > adc_max_hz(n->nch) || slow < 1 || slow > fast || fast % slow)
+	for (uint8_t i = 0; i < nfields; i++) {
+		if (which[i] < 0)
+			continue; /* ch, src, or a key this firmware does not know */
+		struct param p;
+		memcpy_P(&p, &params[(uint8_t)which[i]], sizeof p);
+		if (c == C_REF) {
+			if (val[i]) /* ref_uv=0 keeps the stored calibration of the source */
+				n->ref_uv[n->ref] = (uint32_t)val[i];
+			continue;
+		}
+		uint8_t *dst = (uint8_t *)n + p.off + (p.per_ch ? 4u * ch : 0u);
+		memcpy(dst, &val[i], p.kind == K_U8 ? 1 : p.kind == K_U16 ? 2 : 4);
+	}
+	/* The rules between settings (PROTOCOL.md, "Host commands"). */
+	uint8_t slots = cap_slots(n->nch);
+	if (c == C_CHAN && n->pre + 2u > slots)
+		n->pre = (uint8_t)(slots - 2u); /* fewer ring slots with more channels */
+	if (n->fast_hz > adc_max_hz(n->nch) || n->slow_hz > n->fast_hz ||
+	    n->fast_hz % n->slow_hz || n->pre + 2u > slots)
 		return E_RANGE;
-	n->slow_hz = (uint16_t)slow;
-	n->fast_hz = (uint16_t)fast;
-	return 0;
-}
-
-static uint8_t do_chan(struct settings *n)
-{
-	uint32_t v;
-	if (get_u32(PSTR("n"), &v) != 1)
-		return E_SYNTAX;
-	if (v < 1 || v > MAX_CH || n->fast_hz > adc_max_hz((uint8_t)v) ||
-	    n->pre + 2u > cap_slots((uint8_t)v))
-		return E_RANGE;
-	n->nch = (uint8_t)v;
-	return 0;
-}
-
-static uint8_t do_burst(struct settings *n)
-{
-	uint32_t thr = n->thr, pre = n->pre, post = n->post;
-	int8_t a = get_u32(PSTR("thr"), &thr);
-	int8_t b = get_u32(PSTR("pre"), &pre);
-	int8_t c = get_u32(PSTR("post"), &post);
-	if (a < 0 || b < 0 || c < 0 || (a == 0 && b == 0 && c == 0))
-		return E_SYNTAX;
-	if (thr > 65535u || pre + 2u > cap_slots(n->nch) || post < 1 || post > 65535u)
-		return E_RANGE;
-	n->thr = (uint16_t)thr;
-	n->pre = (uint8_t)pre;
-	n->post = (uint16_t)post;
-	return 0;
-}
-
-static uint8_t do_ref(struct settings *n)
-{
-	const char *src = field(PSTR("src"));
-	uint32_t uv = 0;
-	uint8_t r;
-	if (!src || get_u32(PSTR("ref_uv"), &uv) < 0)
-		return E_SYNTAX;
-	if (strcmp_P(src, PSTR("avcc")) == 0)
-		r = REF_AVCC;
-	else if (strcmp_P(src, PSTR("int")) == 0)
-		r = REF_INT;
-	else if (strcmp_P(src, PSTR("ext")) == 0)
-		r = REF_EXT;
-	else
-		return E_RANGE;
-	if (uv > 6000000UL)
-		return E_RANGE;
-	n->ref = r;
-	if (uv)
-		n->ref_uv[r] = uv;
-	return 0;
-}
-
-static uint8_t do_cal(struct settings *n)
-{
-	uint32_t ch;
-	int32_t div, gain, off;
-	if (get_u32(PSTR("ch"), &ch) != 1)
-		return E_SYNTAX;
-	if (ch >= MAX_CH)
-		return E_RANGE;
-	div = n->div[ch];
-	gain = n->gain[ch];
-	off = n->off_uv[ch];
-	int8_t a = get_micro(PSTR("div"), &div);
-	int8_t b = get_micro(PSTR("gain"), &gain);
-	int8_t c = get_i32(PSTR("off_uv"), &off);
-	if (a < 0 || b < 0 || c < 0 || (a == 0 && b == 0 && c == 0))
-		return E_SYNTAX;
-	if (div <= 0 || div > 1000000L || gain <= 0 || gain > 10000000L ||
-	    off < -100000000L || off > 100000000L)
-		return E_RANGE;
-	n->div[ch] = div;
-	n->gain[ch] = gain;
-	n->off_uv[ch] = off;
 	return 0;
 }
 
 static void handle(void)
 {
-	char *tag;
-	uint8_t code = 0;
-
-	/* CRC suffix " *XXXX": optional for commands. */
-	if (len >= 7 && line[len - 6] == ' ' && line[len - 5] == '*') {
-		uint16_t want = 0;
-		for (uint8_t i = len - 4; i < len; i++) {
-			char c = line[i];
-			uint8_t d;
-			if (c >= '0' && c <= '9')
-				d = (uint8_t)(c - '0');
-			else if (c >= 'A' && c <= 'F')
-				d = (uint8_t)(c - 'A' + 10);
-			else {
-				reply_er(0, E_SYNTAX);
-				return;
-			}
-			want = (uint16_t)(want << 4 | d);
-		}
-		uint16_t crc = 0;
-		for (uint8_t i = 1; i < len - 6; i++)
-			crc = _crc_xmodem_update(crc, (uint8_t)line[i]);
-		len -= 6;
-		line[len] = 0;
-		if (crc != want) {
-			/* The tag may be damaged too: echo it only if it reads as one. */
-			char *sp = strchr(line + 1, ' ');
-			if (sp)
-				*sp = 0;
-			uint8_t ok = line[1] != 0 && strlen(line + 1) <= 8;
-			for (char *p = line + 1; *p; p++)
-				if (*p < 'a' || *p > 'z')
-					ok = 0;
-			reply_er(ok ? line + 1 : 0, E_CRC);
-			return;
-		}
-	}
+	uint8_t code = 0, body;
+	uint8_t v = frame_verify(line, len, &body);
+	line[1 + body] = 0;
 
 	/* Split: tag, then key=value fields. */
-	tag = line + 1;
-	nfields = 0;
+	char *tag = line + 1;
 	char *p = tag;
-	while (*p && *p != ' ')
+	nfields = 0;
+	while (*p >= 'a' && *p <= 'z')
 		p++;
 	uint8_t tlen = (uint8_t)(p - tag);
-	uint8_t tag_ok = tlen >= 1 && tlen <= 8;
-	for (uint8_t i = 0; i < tlen; i++)
-		if (tag[i] < 'a' || tag[i] > 'z')
-			tag_ok = 0;
-	while (*p == ' ') {
+	if (tlen < 1 || tlen > 8 || (*p && *p != ' '))
+		tag = 0;
+	while (*p == ' ' && !code) {
 		*p++ = 0;
-		if (nfields == MAX_FIELDS || !*p) {
+		if (nfields == MAX_FIELDS)
 			code = E_SYNTAX;
-			break;
-		}
 		fkey[nfields] = p;
 		while (*p && *p != ' ' && *p != '=')
 			p++;
-		if (*p != '=' || p == fkey[nfields]) {
+		if (*p != '=' || p == fkey[nfields])
 			code = E_SYNTAX;
-			break;
-		}
 		*p++ = 0;
 		fval[nfields] = p;
 		while (*p && *p != ' ')
 			p++;
-		if (p == fval[nfields]) {
+		if (p == fval[nfields])
 			code = E_SYNTAX;
-			break;
-		}
 		nfields++;
 	}
-	if (!tag_ok) {
-		reply_er(0, E_SYNTAX);
-		return;
-	}
-	tag[tlen] = 0;
+	if (v == FRAME_BAD_CRC)
+		code = E_CRC;
+	if (!tag)
+		code = code ? code : E_SYNTAX;
 	if (code) {
 		reply_er(tag, code);
 		return;
 	}
 
-	struct settings n = cfg;
-	uint8_t settings = 1;
-	if (strcmp_P(tag, PSTR("rate")) == 0)
-		code = do_rate(&n);
-	else if (strcmp_P(tag, PSTR("chan")) == 0)
-		code = do_chan(&n);
-	else if (strcmp_P(tag, PSTR("burst")) == 0)
-		code = do_burst(&n);
-	else if (strcmp_P(tag, PSTR("ref")) == 0)
-		code = do_ref(&n);
-	else if (strcmp_P(tag, PSTR("cal")) == 0)
-		code = do_cal(&n);
-	else
-		settings = 0;
-
-	if (settings) {
+	int8_t c = lookup(cmd_names, tag);
+	if (c >= 0) {
+		struct settings n = cfg;
+		code = set_fields((uint8_t)c, &n);
 		if (code) {
 			reply_er(tag, code);
 			return;
@@ -422,30 +317,36 @@ static void handle(void)
 		return;
 	}
 
-	if (strcmp_P(tag, PSTR("id")) == 0) {
+	switch (lookup(PSTR("id\0status\0start\0stop\0save\0"), tag)) {
+	case 0:
 		reply_ok(tag);
 		send_id(0);
-	} else if (strcmp_P(tag, PSTR("status")) == 0) {
+		break;
+	case 1:
 		reply_ok(tag);
 		send_status();
-	} else if (strcmp_P(tag, PSTR("start")) == 0) {
+		break;
+	case 2:
 		reply_ok(tag);
 		if (!running) {
 			running = 1;
 			apply_settings();
 		}
-	} else if (strcmp_P(tag, PSTR("stop")) == 0) {
+		break;
+	case 3:
 		cap_flush();
 		reply_ok(tag);
 		cap_end();
 		running = 0;
 		adc_run(0);
-	} else if (strcmp_P(tag, PSTR("save")) == 0) {
+		break;
+	case 4:
 		if (settings_save())
 			reply_ok(tag);
 		else
 			reply_er(tag, E_EEPROM);
-	} else {
+		break;
+	default:
 		reply_er(tag, E_UNKNOWN);
 	}
 }

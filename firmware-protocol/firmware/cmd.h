@@ -15,6 +15,8 @@ void send_status(void);
 /* Apply cfg to the ADC and the capture (after boot or a settings change). */
 void apply_settings(void);
 
+/* Whole seconds of device time since reset. */
+extern uint32_t uptime_s;
 /* 1 while sampling. */
 extern uint8_t running;
 /* Cause of the last reset, a program-memory string ("por", "ext", "bod", "wdt"). */

@@ -64,7 +64,8 @@ int main(void)
 	send_id(1);
 	send_status();
 
-	uint32_t next_st = ST_PERIOD_S;
+	uint32_t next_sec_us = 1000000UL;
+	uint8_t st_count = 0;
 	struct sample s;
 	for (;;) {
 		wdt_reset();
@@ -76,9 +77,14 @@ int main(void)
 		while (adc_pop(&s))
 			cap_sample(&s);
 		cap_poll();
-		if (adc_uptime_s() >= next_st) {
-			next_st += ST_PERIOD_S;
-			send_status();
+		/* Uptime in whole seconds of the device clock; ST every ST_PERIOD_S. */
+		if ((int32_t)(adc_now_us() - next_sec_us) >= 0) {
+			next_sec_us += 1000000UL;
+			uptime_s++;
+			if (++st_count == ST_PERIOD_S) {
+				st_count = 0;
+				send_status();
+			}
 		}
 		/* Sleep until the next interrupt unless work is waiting. */
 		cli();

@@ -8,6 +8,7 @@
 #include "adc.h"
 
 #include <avr/eeprom.h>
+#include <avr/pgmspace.h>
 #include <avr/wdt.h>
 #include <stddef.h>
 #include <string.h>
@@ -28,25 +29,26 @@ static uint16_t crc_of(const struct settings *s)
 	return c;
 }
 
+/* The defaults of PROTOCOL.md (the ID and CH examples). */
+static const struct settings defaults PROGMEM = {
+	.magic = MAGIC,
+	.layout = LAYOUT,
+	.nch = 1,
+	.ref = REF_AVCC,
+	.slow_hz = 10,
+	.fast_hz = 500,
+	.thr = 8,
+	.pre = 32,
+	.post = 32,
+	/* AVcc and AREF as 5 V, the band-gap nominal 1.1 V: calibrate with >ref. */
+	.ref_uv = {5000000UL, 1100000UL, 5000000UL},
+	.div = {333333, 333333, 333333, 333333},
+	.gain = {1000000, 1000000, 1000000, 1000000},
+};
+
 void settings_defaults(void)
 {
-	memset(&cfg, 0, sizeof cfg);
-	cfg.magic = MAGIC;
-	cfg.layout = LAYOUT;
-	cfg.nch = 1;
-	cfg.ref = REF_AVCC;
-	cfg.slow_hz = 10;
-	cfg.fast_hz = 500;
-	cfg.thr = 8;
-	cfg.pre = 32;
-	cfg.post = 32;
-	cfg.ref_uv[REF_AVCC] = 5000000UL;
-	cfg.ref_uv[REF_INT] = 1100000UL; /* band-gap, nominal 1.1 V */
-	cfg.ref_uv[REF_EXT] = 5000000UL;
-	for (uint8_t k = 0; k < MAX_CH; k++) {
-		cfg.div[k] = 333333;
-		cfg.gain[k] = 1000000;
-	}
+	memcpy_P(&cfg, &defaults, sizeof cfg);
 }
 
 uint8_t settings_load(void)
