@@ -152,7 +152,7 @@ func firstGuessS(c *model.Circuit, g, start float64) float64 {
 	}
 	capF := c.Storage.CapF + c.Storage.Branch2F
 	d := 6 * capF * math.Abs(von-start) / net
-	return math.Max(d, 10)
+	return math.Max(d, 1e-4)
 }
 
 // DrainA is the current the storage node loses at voltage v when the switch is open:

@@ -1,0 +1,243 @@
+package predict
+
+import (
+	"math"
+
+	"capcycle/analyze"
+	"capcycle/analyze/model"
+)
+
+// Fitted returns a copy of the nominal circuit with every part the analysis measured put
+// in its place, and the list of the parts it replaced (e.g. "trigger.on_v", "leak.ohm").
+// Parts the analysis could not determine (null in the Result) keep their declared value.
+func Fitted(nominal *model.Circuit, r *analyze.Result) (*model.Circuit, []string) {
+	c := *nominal
+	var replaced []string
+	set := func(name string, dst *float64, e *analyze.Estimate, conv func(float64) float64) {
+		if e == nil || !(e.Value > 0) || math.IsInf(e.Value, 0) {
+			return
+		}
+		v := e.Value
+		if conv != nil {
+			v = conv(v)
+		}
+		if v > 0 {
+			*dst = v
+			replaced = append(replaced, name)
+		}
+	}
+	if r.Capacitance != nil && r.Capacitance.F.Origin == "measured" {
+		set("storage.cap_f", &c.Storage.CapF, &r.Capacitance.F, nil)
+	}
+	ft := r.Fit.Trigger
+	switch c.Trigger.Kind {
+	case model.TriggerVoltage, model.TriggerPlateau:
+		set("trigger.on_v", &c.Trigger.OnV, ft.OnV, nil)
+		set("trigger.off_v", &c.Trigger.OffV, ft.OffV, nil)
+		if c.Trigger.OffV >= c.Trigger.OnV {
+			c.Trigger.OffV, c.Trigger.OnV = nominal.Trigger.OffV, nominal.Trigger.OnV
+		}
+	case model.TriggerHold:
+		// The supervisor watches the hold capacitor, one diode drop below the node.
+		set("trigger.on_v", &c.Trigger.OnV, ft.OnV, func(v float64) float64 { return v - c.Trigger.DiodeV })
+		if c.Trigger.OffV >= c.Trigger.OnV {
+			c.Trigger.OffV = c.Trigger.OnV - (nominal.Trigger.OnV - nominal.Trigger.OffV)
+		}
+	case model.TriggerTimer:
+		set("trigger.period_s", &c.Trigger.PeriodS, ft.PeriodS, nil)
+		set("trigger.pulse_s", &c.Trigger.PulseS, ft.PulseS, nil)
+	}
+	if c.Load.Kind == model.LoadResistor {
+		set("load.ohm", &c.Load.Ohm, r.Fit.Load.Ohm, nil)
+	}
+	set("leak.ohm", &c.Storage.LeakOhm, r.Fit.Leak.Ohm, nil)
+	if q := r.Fit.Leak.QuiescentA; q != nil && q.Value >= 0 && !math.IsInf(q.Value, 0) {
+		c.Supervisor.QuiescentA = q.Value
+		replaced = append(replaced, "supervisor.quiescent_a")
+	}
+	cf := r.Fit.Cell
+	if cf.I0A != nil && cf.N != nil && cf.IscA != nil {
+		cells := c.Cell.Cells
+		if cells == 0 {
+			cells = 1
+		}
+		cell := c.Cell
+		ref := cell.RefWm2
+		if ref == 0 {
+			ref = model.RefIrradianceWm2
+		}
+		// The fitted cell is known at the light of the fit only; scale it so that the
+		// nominal reference irradiance gives the fitted short-circuit current, which keeps
+		// light levels comparable between the nominal and fitted predictions.
+		cell.IphA = cf.IscA.Value
+		cell.RefWm2 = ref
+		cell.I0A = cf.I0A.Value
+		cell.N = cf.N.Value / float64(cells)
+		if cf.RsOhm != nil {
+			cell.RsOhm = cf.RsOhm.Value
+		}
+		if cf.RshOhm != nil {
+			cell.RshOhm = cf.RshOhm.Value
+		}
+		if cell.IphA > 0 && cell.I0A > 0 && cell.N > 0 {
+			c.Cell = cell
+			replaced = append(replaced, "cell")
+		}
+	}
+	return &c, replaced
+}
+
+// cache memoises Steady by light level: measured cycles at nearly the same light share one
+// simulation (levels are binned to 0.5 % on a log scale).
+type cache struct {
+	c *model.Circuit
+	m map[int]*entry
+}
+
+type entry struct {
+	f   Figures
+	err error
+}
+
+func newCache(c *model.Circuit) *cache { return &cache{c: c, m: map[int]*entry{}} }
+
+func (k *cache) at(g float64) (Figures, error) {
+	key := int(math.Round(math.Log(g) / math.Log1p(0.005)))
+	if e, ok := k.m[key]; ok {
+		return e.f, e.err
+	}
+	gq := math.Exp(float64(key) * math.Log1p(0.005))
+	f, err := Steady(k.c, gq, nil)
+	k.m[key] = &entry{f, err}
+	return f, err
+}
+
+// Compare predicts every full measured cycle with the nominal and the fitted circuit (either
+// may be nil), each at the light measured during that cycle's charge, and sums up the
+// errors. Cycles without a light measurement are listed with null predictions.
+func Compare(r *analyze.Result, nominal, fitted *model.Circuit) *analyze.Prediction {
+	p := &analyze.Prediction{Cycles: []analyze.PredictedCycle{}}
+	var kn, kf *cache
+	if nominal != nil {
+		kn = newCache(nominal)
+	}
+	if fitted != nil {
+		kf = newCache(fitted)
+	}
+	for _, cy := range r.Cycles {
+		if cy.Kind != "full" {
+			continue
+		}
+		pc := analyze.PredictedCycle{Index: cy.Index, Measured: measured(cy)}
+		if cy.LightA != nil && *cy.LightA > 0 {
+			pc.Nominal = predictOne(kn, *cy.LightA)
+			pc.Fitted = predictOne(kf, *cy.LightA)
+		}
+		p.Cycles = append(p.Cycles, pc)
+	}
+	p.Nominal = Summarize(p.Cycles, func(c analyze.PredictedCycle) *analyze.CycleFigs { return c.Nominal })
+	p.Fitted = Summarize(p.Cycles, func(c analyze.PredictedCycle) *analyze.CycleFigs { return c.Fitted })
+	return p
+}
+
+// HeldOut predicts the cycles that fire at or after splitS with a circuit fitted on the
+// capture before splitS, and sums up the errors: the check that the fit generalises.
+func HeldOut(r *analyze.Result, fittedBefore *model.Circuit, splitS float64) *analyze.ErrorSummary {
+	k := newCache(fittedBefore)
+	var cs []analyze.PredictedCycle
+	for _, cy := range r.Cycles {
+		if cy.Kind != "full" || cy.FireS < splitS || cy.LightA == nil || *cy.LightA <= 0 {
+			continue
+		}
+		cs = append(cs, analyze.PredictedCycle{Index: cy.Index, Measured: measured(cy), Fitted: predictOne(k, *cy.LightA)})
+	}
+	return Summarize(cs, func(c analyze.PredictedCycle) *analyze.CycleFigs { return c.Fitted })
+}
+
+func measured(cy analyze.Cycle) analyze.CycleFigs {
+	fv, rv, ps := cy.FireV, cy.ResetV, cy.PulseS
+	return analyze.CycleFigs{ChargeS: cy.ChargeS, PulseS: &ps, FireV: &fv, ResetV: &rv, EnergyJ: cy.EnergyJ}
+}
+
+func predictOne(k *cache, iscA float64) *analyze.CycleFigs {
+	if k == nil {
+		return nil
+	}
+	g := IrradianceFor(k.c, iscA)
+	if !(g > 0) {
+		return nil
+	}
+	f, err := k.at(g)
+	if err != nil {
+		return nil
+	}
+	if !f.Fires {
+		return &analyze.CycleFigs{} // predicted never to fire: every figure null
+	}
+	return &analyze.CycleFigs{ChargeS: ptr(f.ChargeS), PulseS: ptr(f.PulseS), FireV: ptr(f.FireV),
+		ResetV: ptr(f.ResetV), EnergyJ: ptr(f.EnergyJ)}
+}
+
+func ptr(v float64) *float64 { return &v }
+
+// Summarize sums up the errors of the predictions that pick selects, on the charge time
+// (bias and mean absolute percentage error in %, RMS error in seconds, share within 10 %),
+// and the mean absolute percentage errors of the pulse length and the energy per pulse.
+// A cycle predicted never to fire counts as missing. It returns nil when nothing compares.
+func Summarize(cs []analyze.PredictedCycle, pick func(analyze.PredictedCycle) *analyze.CycleFigs) *analyze.ErrorSummary {
+	var n, within int
+	var sumRel, sumAbs, sumSq float64
+	var pulse, energy mape
+	for _, c := range cs {
+		p := pick(c)
+		if p == nil {
+			continue
+		}
+		pulse.add(c.Measured.PulseS, p.PulseS)
+		energy.add(c.Measured.EnergyJ, p.EnergyJ)
+		m := c.Measured.ChargeS
+		if m == nil || p.ChargeS == nil || *m <= 0 {
+			continue
+		}
+		e := *p.ChargeS - *m
+		r := e / *m
+		n++
+		sumRel += r
+		sumAbs += math.Abs(r)
+		sumSq += e * e
+		if math.Abs(r) <= 0.10 {
+			within++
+		}
+	}
+	if n == 0 && pulse.n == 0 {
+		return nil
+	}
+	s := &analyze.ErrorSummary{N: n, PulseMAPEPct: pulse.pct(), EnergyMAPEPct: energy.pct()}
+	if n > 0 {
+		s.BiasPct = ptr(100 * sumRel / float64(n))
+		s.MAPEPct = ptr(100 * sumAbs / float64(n))
+		s.RMSS = ptr(math.Sqrt(sumSq / float64(n)))
+		s.Within10Pct = ptr(float64(within) / float64(n))
+	}
+	return s
+}
+
+type mape struct {
+	n   int
+	sum float64
+}
+
+func (m *mape) add(meas, pred *float64) {
+	if meas == nil || pred == nil || *meas == 0 {
+		return
+	}
+	m.n++
+	m.sum += math.Abs(*pred-*meas) / math.Abs(*meas)
+}
+
+func (m *mape) pct() *float64 {
+	if m.n == 0 {
+		return nil
+	}
+	return ptr(100 * m.sum / float64(m.n))
+}
