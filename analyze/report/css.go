@@ -82,11 +82,13 @@ svg.plot text { font-family: "Liberation Sans", Arial, Helvetica, "Nimbus Sans",
 figcaption { font-size: 0.88em; color: var(--muted); margin-top: 0.3rem; }
 .tablewrap { overflow-x: auto; margin: 0.5rem 0 0.9rem; }
 table { border-collapse: collapse; width: 100%; font-size: 0.86em; font-variant-numeric: tabular-nums; }
+table.kv { width: auto; min-width: 65%; }
 caption { text-align: left; font-weight: bold; padding: 0 0 0.3rem; }
 th { text-align: left; border-bottom: 2px solid var(--ink); padding: 0.25rem 0.45rem; vertical-align: bottom; }
 td { border-bottom: 1px solid var(--rule); padding: 0.2rem 0.45rem; vertical-align: top; }
 tbody tr:nth-child(even) td { background: #f7f9fa; }
-td.num { text-align: right; white-space: nowrap; }
+td.num, th.num { text-align: right; }
+td.num { white-space: nowrap; }
 td.ok::before { content: "\2713\00a0"; }
 td.bad { font-weight: bold; color: var(--fault); }
 td.bad::before { content: "\2717\00a0"; }

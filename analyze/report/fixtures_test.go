@@ -106,15 +106,17 @@ func simDay(c simCircuit, durS float64, gap [2]float64, seed uint64) *analyze.Re
 			binMin, binMax, binT0 = math.Inf(1), math.Inf(-1), t
 		}
 		// Traces: keep a rolling minute of points; start a trace at a wanted fire.
-		pending = append(pending, t, noisy)
-		if len(pending) > 2*600 {
-			pending = pending[2:]
+		if len(pending) == 0 || t-pending[len(pending)-2] >= 0.2 {
+			pending = append(pending, t, noisy)
+			if len(pending) > 2*1200 {
+				pending = pending[2:]
+			}
 		}
 		if trace == nil && on && t == fireT && traceWant[len(r.Cycles)] {
 			trace = &analyze.Trace{Label: "cycle"}
 			traceFire = fireT
 			for k := 0; k+1 < len(pending); k += 2 {
-				if pending[k] >= fireT-90 {
+				if lastReset >= 0 && pending[k] >= lastReset {
 					trace.TS = append(trace.TS, pending[k]-fireT)
 					trace.V = append(trace.V, pending[k+1])
 				}
@@ -168,7 +170,7 @@ func cellIV(c simCircuit, level float64) (iv [][2]float64, mppV, mppW float64) {
 }
 
 var wrenCircuit = simCircuit{capF: 0.033, onV: 2.71, offV: 1.52, loadOhm: 18, leakOhm: 120e3, qA: 1.1e-6,
-	iscA: 4.2e-3, vocV: 5.1, nVt: 0.33, light: windowsill}
+	iscA: 2.2e-3, vocV: 5.1, nVt: 0.33, light: windowsill}
 
 // wrenResult is the invented analysis of a day of "Wren", the rover on the sunny sill.
 func wrenResult() *analyze.Result {
@@ -285,6 +287,19 @@ func fernResult() *analyze.Result {
 	r.Equilibrium = &analyze.Settling{Within1PctS: f64(5.1 * 3600), TauS: est(6100, 240, "fitted")}
 	r.Fit.Trigger.Kind = "unknown"
 	r.Fit.Leak = analyze.LeakFit{TauS: est(2050, 80, "fitted"), Ohm: est(20.5e3, 0.8e3, "fitted"), QuiescentA: est(1.4e-6, 0.3e-6, "fitted"), Method: "plateau"}
+	iv, mv, mw := cellIV(c, 0.3)
+	r.Fit.Cell = analyze.CellFit{IscA: est(c.iscA*0.3, 0.00002, "fitted"), VocV: est(c.vocV+c.nVt*math.Log(0.3), 0.04, "fitted"),
+		MppV: f64(mv), MppW: f64(mw), IV: iv}
+	lt, lm := analyze.Trace{Label: "plateau approach"}, analyze.Trace{Label: "fit"}
+	for k := 0; k < 1500; k++ {
+		ts := 6*3600 + float64(k)*10
+		vv := 2.314 - 0.5*math.Exp(-(ts-6*3600)/6100)
+		lt.TS, lt.V = append(lt.TS, ts), append(lt.V, vv+0.0028*math.Sin(float64(k)*2.3))
+		if k%25 == 0 {
+			lm.TS, lm.V = append(lm.TS, ts), append(lm.V, vv)
+		}
+	}
+	r.LeakTrace, r.LeakModel = &lt, &lm
 	r.Findings = []analyze.Finding{{Code: "never-reaches-trigger", Severity: "fault",
 		Message:    "The voltage levels off at 2.31 V, 0.39 V short of the 2.70 V trigger, so the chime never fires.",
 		Suggestion: "Give the cell more light, or cut the leakage: at this light the 20.5 kΩ leak takes 113 µA at the plateau, more than the cell gives above 2.3 V.",

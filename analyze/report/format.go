@@ -7,6 +7,7 @@ import (
 	"strings"
 
 	"capcycle/analyze"
+	"capcycle/analyze/units"
 )
 
 // num formats v in unit for display: three significant digits and an SI prefix, so
@@ -16,7 +17,8 @@ import (
 // Units "%" and "" get no prefix; "s" gets a prefix only below one second (larger spans
 // go through dur). NaN and ±Inf print as "n/a".
 //
-// TODO(units): switch to units.Format once package capcycle/analyze/units lands.
+// With three digits, SI units go through units.Format, the project's one formatter of
+// engineering values.
 func num(v float64, unit string) string { return numSig(v, unit, 3) }
 
 // numSig is num with sig significant digits (at least 1).
@@ -37,6 +39,9 @@ func numSig(v float64, unit string, sig int) string {
 	}
 	if v == 0 {
 		return "0 " + unit
+	}
+	if sig == 3 {
+		return units.Format(v, unit)
 	}
 	exp := int(math.Floor(math.Log10(math.Abs(v))))
 	p := floorDiv(exp, 3) * 3
@@ -129,21 +134,47 @@ func unitOfKey(key string) (name, unit string) {
 	return key, ""
 }
 
-// estimate formats a value with its standard error, the value to as many digits as the
-// error supports (three at least, six at most) and the error to two: "2.712 V ± 4.0 mV".
+// estimate formats a value with its standard error in one unit and prefix, the error to
+// two significant digits and the value to the same last decimal: "2.7132 ± 0.0041 V",
+// "29.80 ± 0.60 mF", "541 ± 12 ms". Without an error it is quantity(v, unit); nil reads
+// "not determined".
 func estimate(e *analyze.Estimate, unit string) string {
 	if e == nil {
 		return "not determined"
 	}
-	if e.SD == nil || *e.SD <= 0 || !finite(*e.SD) {
-		return quantitySig(e.Value, unit, 3)
+	if e.SD == nil || *e.SD <= 0 || !finite(*e.SD) || !finite(e.Value) {
+		return quantity(e.Value, unit)
 	}
-	sig := 3
-	if e.Value != 0 {
-		sig = int(math.Floor(math.Log10(math.Abs(e.Value)))-math.Floor(math.Log10(*e.SD))) + 2
-		sig = max(3, min(6, sig))
+	div, label := displayUnit(e.Value, unit)
+	sd := *e.SD / div
+	dec := max(0, min(6, 1-int(math.Floor(math.Log10(sd)))))
+	v := strconv.FormatFloat(e.Value/div, 'f', dec, 64)
+	return v + " ± " + strconv.FormatFloat(sd, 'f', dec, 64) + sep(label) + label
+}
+
+// displayUnit picks the divisor and unit label quantity would use for v.
+func displayUnit(v float64, unit string) (div float64, label string) {
+	switch unit {
+	case "%", "", "/h", "V/h":
+		return 1, unit
+	case "s":
+		switch a := math.Abs(v); {
+		case a >= 2*3600:
+			return 3600, "h"
+		case a >= 120:
+			return 60, "min"
+		case a >= 1:
+			return 1, "s"
+		}
 	}
-	return quantitySig(e.Value, unit, sig) + " ± " + quantitySig(*e.SD, unit, 2)
+	return siAxis(math.Abs(v), unit)
+}
+
+func sep(label string) string {
+	if label == "" {
+		return ""
+	}
+	return " "
 }
 
 // quantity formats a value whose unit comes from a key suffix.

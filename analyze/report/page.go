@@ -68,6 +68,20 @@ type table struct {
 	Rows    [][]cell
 }
 
+// NumCol reports whether column i holds numbers in every row (its heading then aligns
+// right with them).
+func (t *table) NumCol(i int) bool {
+	if len(t.Rows) == 0 {
+		return false
+	}
+	for _, r := range t.Rows {
+		if i >= len(r) || (r[i].Class != "num" && r[i].Text != "") {
+			return false
+		}
+	}
+	return true
+}
+
 type cell struct {
 	Text  string
 	Class string // "num" right-aligns; "ok", "bad", "muted" mark status (with words, not colour alone)
@@ -153,11 +167,11 @@ var pageTemplate = template.Must(template.New("page").Parse(`<!DOCTYPE html>
 </figure>
 {{- end}}
 {{- end}}
-{{- range .Tables}}
+{{- range .Tables}}{{$t := .}}
 <div class="tablewrap">
 <table class="{{.Class}}">
 {{- if .Caption}}<caption>{{.Caption}}</caption>{{end}}
-<thead><tr>{{range .Head}}<th scope="col">{{.}}</th>{{end}}</tr></thead>
+<thead><tr>{{range $i, $h := .Head}}<th scope="col"{{if $t.NumCol $i}} class="num"{{end}}>{{$h}}</th>{{end}}</tr></thead>
 <tbody>
 {{- range .Rows}}
 <tr>{{range .}}<td{{if .Class}} class="{{.Class}}"{{end}}{{if .Title}} title="{{.Title}}"{{end}}>{{.Text}}</td>{{end}}</tr>

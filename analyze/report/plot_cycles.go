@@ -96,6 +96,7 @@ func cyclesFigure(id string, sets []traceSet, pulseS float64, o *Options) (figur
 		win := func(t float64) bool { return t >= lo && t <= hi }
 		zdiv, zu := siAxis(hi, "s")
 		zoom := newPlot("time from the fire ("+zu+")", "capacitor voltage (V)")
+		zoom.X.Tick.Marker = niceTicks{N: 4}
 		var any bool
 		for _, s := range sets {
 			for _, t := range s.traces {

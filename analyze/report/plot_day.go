@@ -140,10 +140,10 @@ func dayFigure(r *analyze.Result, o *Options) (figure, string) {
 			legend = append(legend, legendItem{"light level (1 = brightest stretch)", []plot.Thumbnailer{l}})
 		}
 		plots = append(plots, pl)
-		weights = append(weights, 1.3)
+		weights = append(weights, 1.2)
 		caption += "; below it, the light level the charging rate implies"
 	}
-	if fph := firesPerHour(r.Cycles, span); len(fph) > 0 {
+	if fph := firesPerHour(r.Cycles, r.Segments, span); len(fph) > 0 {
 		pf := newPlot("", "full fires per hour")
 		pf.X.Min, pf.X.Max, pf.Y.Min = 0, xmax, 0
 		var ymax float64
@@ -167,13 +167,13 @@ func dayFigure(r *analyze.Result, o *Options) (figure, string) {
 			legend = append(legend, legendItem{"full fires per hour", []plot.Thumbnailer{barThumb}})
 		}
 		plots = append(plots, pf)
-		weights = append(weights, 1.3)
+		weights = append(weights, 1.4)
 		caption += "; and the full fires counted in each bin, as a rate per hour"
 	}
 	plots[len(plots)-1].X.Label.Text = "time since the capture started (" + tu + ")"
 	caption += "."
 
-	h := vg.Points(190 + 70*float64(len(plots)-1))
+	h := vg.Points(200 + 95*float64(len(plots)-1))
 	alt := "Capacitor voltage over the capture with fires marked"
 	svg, err := renderSVG("day", figW, h, alt, func(dc draw.Canvas) error {
 		stack(legendRows(dc, legend), plots, weights, vg.Points(4))
@@ -238,9 +238,10 @@ func fireMarks(cycles []analyze.Cycle, span float64, n int) (x, y []float64) {
 type rateBin struct{ t0, t1, rate float64 }
 
 // firesPerHour counts the full fires in bins of one hour (ten minutes for captures
-// under three hours) and gives each bin's count as a rate per hour. The last bin may be
-// short; its rate is scaled to its length.
-func firesPerHour(cycles []analyze.Cycle, span float64) []rateBin {
+// under three hours) and gives each bin's count as a rate per hour of recorded time: the
+// time inside gaps does not count, and a bin with less than a quarter of its length
+// recorded gets no rate.
+func firesPerHour(cycles []analyze.Cycle, segs []analyze.Segment, span float64) []rateBin {
 	if span <= 0 || len(cycles) == 0 {
 		return nil
 	}
@@ -262,7 +263,16 @@ func firesPerHour(cycles []analyze.Cycle, span float64) []rateBin {
 	out := make([]rateBin, n)
 	for i := range n {
 		t0, t1 := float64(i)*w, math.Min(float64(i+1)*w, span)
-		out[i] = rateBin{t0, t1, float64(counts[i]) * 3600 / (t1 - t0)}
+		rec := t1 - t0
+		for _, s := range segs {
+			if s.Kind == "gap" {
+				rec -= math.Max(0, math.Min(t1, s.EndS)-math.Max(t0, s.StartS))
+			}
+		}
+		out[i] = rateBin{t0: t0, t1: t1}
+		if rec >= w/4 {
+			out[i].rate = float64(counts[i]) * 3600 / rec
+		}
 	}
 	return out
 }

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"strconv"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/vg"
@@ -94,12 +95,25 @@ func predictFigure(r *analyze.Result, o *Options) (figure, string) {
 	if !(hi > lo) {
 		lo, hi = lo*0.9, hi*1.1+1e-9
 	}
-	pad := 0.05 * (hi - lo)
-	lo, hi = math.Max(0, lo-pad), hi+pad
+	// Charge times across a day span decades (dawn against noon): use log axes then.
+	logAxes := lo > 0 && hi/lo > 20
 	div, tu := timeAxis(hi)
+	if logAxes {
+		lo, hi = lo/1.15, hi*1.15
+		div, tu = 1, "s"
+	} else {
+		pad := 0.05 * (hi - lo)
+		lo, hi = math.Max(0, lo-pad), hi+pad
+	}
 
 	sc := newPlot("measured charge time ("+tu+")", "predicted charge time ("+tu+")")
 	sc.X.Min, sc.X.Max, sc.Y.Min, sc.Y.Max = lo/div, hi/div, lo/div, hi/div
+	if logAxes {
+		for _, a := range []*plot.Axis{&sc.X, &sc.Y} {
+			a.Scale = plot.LogScale{}
+			a.Tick.Marker = ticks125{}
+		}
+	}
 	var legend []legendItem
 	if l, err := line([]float64{lo / div, hi / div}, []float64{lo / div, hi / div}, colInk, 0.9, nil); err == nil {
 		sc.Add(l)
@@ -161,10 +175,7 @@ func predictFigure(r *analyze.Result, o *Options) (figure, string) {
 	}
 	alt := "Measured against predicted charge time, and the prediction error over time"
 	svg, err := renderSVG("predict", figW, vg.Points(250), alt, func(dc draw.Canvas) error {
-		c := legendRows(dc, legend)
-		w := c.Max.X - c.Min.X
-		sc.Draw(draw.Crop(c, 0, -w*0.58, 0, 0))
-		res.Draw(draw.Crop(c, w*0.45, 0, 0, 0))
+		side(legendRows(dc, legend), []*plot.Plot{sc, res}, vg.Points(18))
 		return nil
 	})
 	if err != nil {
@@ -178,4 +189,33 @@ func nanAbs(v float64) float64 {
 		return -1
 	}
 	return math.Abs(v)
+}
+
+// ticks125 marks a log axis at 1, 2 and 5 times each power of ten, with minor ticks
+// between.
+type ticks125 struct{}
+
+func (ticks125) Ticks(lo, hi float64) []plot.Tick {
+	var out []plot.Tick
+	labelled := map[int]bool{1: true, 2: true, 5: true}
+	switch decades := math.Log10(hi / lo); {
+	case decades > 3:
+		labelled = map[int]bool{1: true}
+	case decades > 1.5:
+		labelled = map[int]bool{1: true, 3: true}
+	}
+	for e := int(math.Floor(math.Log10(lo))); e <= int(math.Ceil(math.Log10(hi))); e++ {
+		for m := 1; m < 10; m++ {
+			v := float64(m) * math.Pow10(e)
+			if v < lo || v > hi {
+				continue
+			}
+			t := plot.Tick{Value: v}
+			if labelled[m] {
+				t.Label = strconv.FormatFloat(v, 'g', -1, 64)
+			}
+			out = append(out, t)
+		}
+	}
+	return out
 }

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"image/color"
 	"math"
+	"strconv"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/font"
@@ -62,6 +63,7 @@ func newPlot(xlabel, ylabel string) *plot.Plot {
 		a.LineStyle.Color = colInk
 		a.Tick.LineStyle.Color = colInk
 		a.Padding = vg.Points(2)
+		a.Tick.Marker = niceTicks{}
 	}
 	p.Title.TextStyle.Font = font.From(sansFont, fontLabel)
 	p.Legend.TextStyle.Font = font.From(sansFont, fontTick)
@@ -253,3 +255,45 @@ func rangeOf(vs ...[]float64) (lo, hi float64) {
 }
 
 func errf(format string, a ...any) error { return fmt.Errorf("report: "+format, a...) }
+
+// niceTicks labels a linear axis every 1, 2 or 5 times a power of ten, aiming at about
+// N labels (6 when N is 0), with unlabelled minor ticks between.
+type niceTicks struct{ N int }
+
+func (t niceTicks) Ticks(lo, hi float64) []plot.Tick {
+	if !(hi > lo) || !finite(lo) || !finite(hi) {
+		return plot.DefaultTicks{}.Ticks(lo, hi)
+	}
+	n := t.N
+	if n <= 0 {
+		n = 6
+	}
+	raw := (hi - lo) / float64(n)
+	e := math.Floor(math.Log10(raw))
+	base := math.Pow10(int(e))
+	var step, minor float64
+	switch m := raw / base; {
+	case m < 1.5:
+		step, minor = base, base/2
+	case m < 3.5:
+		step, minor = 2*base, base
+	case m < 7.5:
+		step, minor = 5*base, base
+	default:
+		step, minor = 10*base, 5*base
+	}
+	dec := max(0, -int(math.Floor(math.Log10(step)+1e-9)))
+	var out []plot.Tick
+	for k := math.Ceil(lo / minor); k*minor <= hi+minor*1e-9; k++ {
+		v := k * minor
+		t := plot.Tick{Value: v}
+		if r := math.Abs(math.Remainder(v, step)); r < minor*1e-6 {
+			if math.Abs(v) < step*1e-9 {
+				v = 0
+			}
+			t.Label = strconv.FormatFloat(v, 'f', dec, 64)
+		}
+		out = append(out, t)
+	}
+	return out
+}

@@ -116,7 +116,7 @@ func Verdict(r *analyze.Result) Sentence {
 	case full == 0:
 		s.text("Chatters: ")
 		s.count("len(cycles)", len(r.Cycles))
-		s.text(" fires in ")
+		s.text(plural(len(r.Cycles), " fire", " fires") + " in ")
 		s.num("duration_s", r.DurationS, dur(r.DurationS))
 		s.text(", none of them a full cycle")
 	default:
