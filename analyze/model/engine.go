@@ -27,13 +27,15 @@ const nDyn = iEHarv
 
 type vec [nState]float64
 
-// mode is the discrete state: switch on, isolation diode conducting.
-type mode struct{ on, conducting bool }
+// mode is the discrete state: switch on, isolation diode conducting, motor held at rest by
+// dry friction.
+type mode struct{ on, conducting, stopped bool }
 
 // aux carries quantities the event functions need besides the state.
 type aux struct {
-	inet float64 // C dV/dt, the net current into the storage capacitor
-	id   float64 // isolation diode current
+	inet  float64 // C dV/dt, the net current into the storage capacitor
+	id    float64 // isolation diode current
+	iload float64 // load current
 }
 
 // transition is a discrete change the event functions watch for.
@@ -44,6 +46,8 @@ const (
 	trRelease
 	trDiodeOn
 	trDiodeOff
+	trMotorStop  // the motor's speed reaches zero under dry friction
+	trMotorStart // the motor's torque overcomes dry friction
 )
 
 // Dormand and Prince (1980) RK5(4)7M coefficients, with the dense output of Hairer,
@@ -197,6 +201,7 @@ func newEngine(c *Circuit, light Light, opt *Options) (*engine, error) {
 	if e.hold {
 		e.y[iVh] = math.Max(0, o.StartV-c.Trigger.DiodeV)
 	}
+	e.m.stopped = e.motor && c.Load.FrictionNm > 0
 	e.nextTimed = math.Inf(1)
 	if c.Trigger.Kind == TriggerTimer {
 		e.nextTimed = c.Trigger.PhaseS
@@ -297,16 +302,11 @@ func (e *engine) eval(t float64, y *vec, m mode, dy *vec) aux {
 			}
 			iload = e.motorCurrent(y, m)
 		}
-		drive := l.KeVsPerRad*iload - l.ViscousNms*w
-		switch {
-		case w > 0:
-			drive -= l.FrictionNm
-		case drive > l.FrictionNm:
-			drive -= l.FrictionNm
-		default:
-			drive = 0 // at rest, held by dry friction
+		if !m.stopped {
+			// Dry friction opposes the turning; at rest it holds (mode stopped) until the
+			// torque exceeds it (events trMotorStop and trMotorStart).
+			dy[iW] = (l.KeVsPerRad*iload - l.ViscousNms*w - l.FrictionNm) / l.InertiaKgM2
 		}
-		dy[iW] = drive / l.InertiaKgM2
 	} else if m.on {
 		if vd := v - c.Switch.DropV; vd > 0 {
 			iload = vd / (c.Load.Ohm + c.Switch.OnOhm)
@@ -344,11 +344,11 @@ func (e *engine) eval(t float64, y *vec, m mode, dy *vec) aux {
 	dy[iEProbe] = v * iprobe
 	dy[iEDiode] = c.Trigger.DiodeV * id
 	dy[iEBranch] = (v - y[iVb]) * ib
-	return aux{inet: c.Storage.CapF * dy[iV], id: id}
+	return aux{inet: c.Storage.CapF * dy[iV], id: id, iload: iload}
 }
 
 // watched lists the transitions the event functions watch for in mode m.
-func (e *engine) watched(m mode, out *[2]transition) int {
+func (e *engine) watched(m mode, out *[3]transition) int {
 	n := 0
 	switch e.c.Trigger.Kind {
 	case TriggerVoltage, TriggerHold, TriggerPlateau:
@@ -367,12 +367,23 @@ func (e *engine) watched(m mode, out *[2]transition) int {
 		}
 		n++
 	}
+	if e.motor && e.c.Load.FrictionNm > 0 {
+		if m.stopped {
+			if m.on {
+				out[n] = trMotorStart
+				n++
+			}
+		} else {
+			out[n] = trMotorStop
+			n++
+		}
+	}
 	return n
 }
 
 // needsAux reports whether the event function of tr depends on derivatives.
 func (e *engine) needsAux(tr transition) bool {
-	return tr == trDiodeOff || (tr == trFire && e.c.Trigger.Kind == TriggerPlateau)
+	return tr == trDiodeOff || tr == trMotorStart || (tr == trFire && e.c.Trigger.Kind == TriggerPlateau)
 }
 
 // gfun is the event function of tr: the transition happens when it becomes positive.
@@ -396,6 +407,10 @@ func (e *engine) gfun(tr transition, y *vec, m mode, ax aux) float64 {
 		return y[iV] - tg.DiodeV - y[iVh]
 	case trDiodeOff:
 		return -ax.id
+	case trMotorStop:
+		return -y[iW]
+	case trMotorStart:
+		return e.c.Load.KeVsPerRad*ax.iload - e.c.Load.FrictionNm
 	}
 	panic("model: unknown transition")
 }
@@ -429,6 +444,11 @@ func (e *engine) apply(tr transition) {
 		e.m.conducting = false
 		e.y[iVh] = e.y[iV] - e.c.Trigger.DiodeV
 		e.events = append(e.events, Event{TS: e.t, Kind: EventDiodeOff, V: e.y[iV], HoldV: e.y[iVh]})
+	case trMotorStop:
+		e.m.stopped = true
+		e.y[iW] = 0
+	case trMotorStart:
+		e.m.stopped = false
 	}
 	e.ax = e.eval(e.t, &e.y, e.m, &e.f)
 }
@@ -467,7 +487,7 @@ func (e *engine) closeCycle() {
 // current time (for example a start above the trigger), a bounded number of times.
 func (e *engine) settle() error {
 	for range 8 {
-		var trs [2]transition
+		var trs [3]transition
 		n := e.watched(e.m, &trs)
 		fired := false
 		for _, tr := range trs[:n] {
@@ -663,7 +683,7 @@ func (e *engine) timerTransition() {
 // functions at both ends, refined on the dense output by the Illinois variant of regula
 // falsi. It returns the instant just past the crossing (where g > 0).
 func (e *engine) locate(ta, tb float64, ya, yb *vec, axa, axb aux) (transition, float64, bool) {
-	var trs [2]transition
+	var trs [3]transition
 	n := e.watched(e.m, &trs)
 	best := math.Inf(1)
 	var bestTr transition

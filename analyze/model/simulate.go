@@ -4,7 +4,7 @@ import "fmt"
 
 // Integrator defaults.
 const (
-	DefaultRelTol   = 1e-8 // relative tolerance of each step
+	DefaultRelTol   = 1e-7 // relative tolerance of each step
 	DefaultAbsTolV  = 1e-9 // absolute tolerance on voltages, volts
 	DefaultMaxStepS = 5.0  // longest step, seconds (keeps light changes and events in view)
 	DefaultRateHz   = 10.0 // Sampler rate when Options.RateHz is zero

@@ -26,8 +26,10 @@ type WindowDay struct {
 	Transmit     float64   // glass transmittance, 0..1 (0 means 0.8, clear float glass, from memory)
 	BeamShare    float64   // share of the beam that reaches the cell, 0..1 (frame, buildings; 0 means 1; use Shaded for none)
 	Shaded       bool      // no direct sun at all (a north window in a courtyard)
-	DiffuseShare float64   // sky diffuse on a horizontal plane as a share of the clear-sky DNI (0 means 0.1)
-	ScaleWm2     float64   // extra factor on the result, e.g. the cell's share of the pane (0 means 1)
+	// DiffuseFraction is the diffuse share of the clear-sky global irradiance on a horizontal
+	// plane, 0..1 (0 means 0.2): D_h = f/(1-f) · DNI cos Z.
+	DiffuseFraction float64
+	ScaleWm2        float64 // extra factor on the result, e.g. the cell's share of the pane (0 means 1)
 
 	// Clouds: passing clouds, each removing CloudDepth of the beam, separated by
 	// exponentially distributed gaps of mean CloudGapS and lasting exponentially
@@ -111,7 +113,8 @@ func (w *WindowDay) clearSky(t float64) (beam, diffuse float64) {
 		beam = dni * cosInc * orDefault(w.BeamShare, 1)
 	}
 	// Isotropic sky: a plane of tilt β sees (1 + cos β)/2 of the sky dome.
-	diffuse = orDefault(w.DiffuseShare, 0.1) * dni * (1 + math.Cos(beta)) / 2
+	f := orDefault(w.DiffuseFraction, 0.2)
+	diffuse = f / (1 - f) * dni * cz * (1 + math.Cos(beta)) / 2
 	return beam, diffuse
 }
 
