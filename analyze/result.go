@@ -37,6 +37,10 @@ type Result struct {
 	// LeakModel the fitted curve over them.
 	LeakTrace *Trace `json:"leak_trace,omitempty"`
 	LeakModel *Trace `json:"leak_model,omitempty"`
+
+	// Notes say, in words, what the capture could and could not determine (for example,
+	// that without the capacitance only time constants and currents over C are known).
+	Notes []string `json:"notes,omitempty"`
 }
 
 // Trace is a short waveform: time in seconds (relative to a stated origin) and volts.

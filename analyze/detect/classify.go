@@ -186,6 +186,9 @@ func (d *Detector) cycles(s *Summary) []Cycle {
 func (d *Detector) segments(s *Summary) []Segment {
 	var base []Segment
 	add := func(kind string, t0, t1, v0, v1 float64) {
+		if n := len(base); n > 0 && t0 > base[n-1].EndS {
+			t0 = base[n-1].EndS // swings are contiguous; gaps are carved out afterwards
+		}
 		if t1 < t0 {
 			t1 = t0
 		}
@@ -225,11 +228,11 @@ func (d *Detector) segments(s *Summary) []Segment {
 			}
 		}
 	}
-	return carve(base, d.events)
+	return Carve(base, d.events)
 }
 
-// carve removes the event stretches (gaps, saturation) from base and puts them in.
-func carve(base, events []Segment) []Segment {
+// Carve removes the event stretches (gaps, saturation) from base and puts them in.
+func Carve(base, events []Segment) []Segment {
 	if len(events) == 0 {
 		return base
 	}

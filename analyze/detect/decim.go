@@ -28,10 +28,13 @@ func (d *decim) reset() {
 	d.accT, d.accV, d.accN = 0, 0, 0
 }
 
-func (d *decim) add(t, v float64) {
-	d.accT += t
-	d.accV += v
-	d.accN++
+func (d *decim) add(t, v float64) { d.addWeighted(t, v, 1) }
+
+// addWeighted adds a point that stands for n samples (mean time t, mean volts v).
+func (d *decim) addWeighted(t, v float64, n int) {
+	d.accT += t * float64(n)
+	d.accV += v * float64(n)
+	d.accN += n
 	if d.accN >= d.width {
 		d.push(Point{d.accT / float64(d.accN), d.accV / float64(d.accN), d.accN})
 		d.accT, d.accV, d.accN = 0, 0, 0
@@ -61,10 +64,11 @@ func (d *decim) push(p Point) {
 // appendFrom appends o's points (skipping the first skip of them) and its partial run.
 func (d *decim) appendFrom(o *decim, skip int) {
 	for i := skip; i < len(o.pts); i++ {
-		d.push(o.pts[i])
+		p := o.pts[i]
+		d.addWeighted(p.T, p.V, p.N)
 	}
 	if o.accN > 0 && skip <= len(o.pts) {
-		d.push(Point{o.accT / float64(o.accN), o.accV / float64(o.accN), o.accN})
+		d.addWeighted(o.accT/float64(o.accN), o.accV/float64(o.accN), o.accN)
 	}
 }
 

@@ -52,6 +52,9 @@ type Swing struct {
 	EndSlopeVPerS float64
 	// Fire is set by Finish for falls taken to be fires.
 	Fire bool
+	// OnsetIndex and ResetIndex locate the onset and the end of the fall among the
+	// swing's points as passed to Config.OnSwing.
+	OnsetIndex, ResetIndex int
 }
 
 // DurationS is EndS - StartS.

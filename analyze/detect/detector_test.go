@@ -83,6 +83,10 @@ func TestDetectorFindsEveryFire(t *testing.T) {
 				if math.Abs(c.FireS-tr.FireS[i]) > dt+1e-9 {
 					t.Errorf("fire %d at %.4f s, true %.4f s (sample spacing %.3g)", i, c.FireS, tr.FireS[i], dt)
 				}
+				kr := sampleBefore(ts, tr.ResetS[i])
+				if c.ResetS < ts[max(0, kr-1)]-1e-9 || c.ResetS > ts[min(kr+2, len(ts)-1)]+1e-9 {
+					t.Errorf("reset %d at %.4f s, true %.4f s (samples %.4f, %.4f)", i, c.ResetS, tr.ResetS[i], ts[kr], ts[min(kr+1, len(ts)-1)])
+				}
 				if c.Chatter {
 					t.Errorf("fire %d marked chatter", i)
 				}

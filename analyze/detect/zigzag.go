@@ -164,6 +164,21 @@ func (d *Detector) makeSwing(up, open, gap bool) Swing {
 			w += p.N
 		}
 		sw.OnsetS, sw.OnsetV = pts[k].T, sum/float64(w)
+		sw.OnsetIndex, sw.ResetIndex = k, len(pts)-1
+	}
+	// The reset is where the fast fall stops: the first sample (median of 3) within the
+	// same band of the trough. Later samples at the bottom are noise around the start of
+	// the recharge, and the lowest of them is not the reset.
+	for r := k + 1; r < len(pts); r++ {
+		m := pts[r].V
+		if r+1 < len(pts) {
+			m = med3(pts[r-1].V, pts[r].V, pts[r+1].V)
+		}
+		if m <= sw.EndV+c {
+			sw.EndS, sw.EndV = pts[r].T, pts[r].V
+			sw.ResetIndex = r
+			break
+		}
 	}
 	j := 0
 	for j+1 < len(pts) && pts[j+1].V >= sw.StartV-h {
@@ -247,3 +262,6 @@ func (d *Detector) endZigzag(gap bool) {
 	d.seg.reset()
 	d.tail.reset()
 }
+
+// Swings returns the swings confirmed so far (for tests and debugging).
+func (d *Detector) Swings() []Swing { return d.swings }

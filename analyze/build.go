@@ -1,0 +1,721 @@
+package analyze
+
+import (
+	"math"
+	"sort"
+
+	"capcycle/analyze/detect"
+	"capcycle/logger/capture"
+)
+
+// finish closes the stream and assembles the Result. r may be nil (samples in memory).
+func (a *analysis) finish(r *capture.Reader) *Result {
+	sum := a.det.Finish()
+	res := &Result{
+		Schema:    Schema,
+		Samples:   sum.Samples,
+		DurationS: sum.EndS - sum.StartS,
+		Cycles:    []Cycle{},
+		Segments:  []Segment{},
+		Findings:  []Finding{},
+		Fit:       Fit{Trigger: TriggerFit{Kind: sum.Trigger}},
+	}
+	if sum.Samples == 0 {
+		res.DurationS = 0
+	}
+	b := &builder{a: a, sum: sum, res: res, opts: a.opts, info: a.col.info}
+	b.source(r)
+	b.noise()
+	b.cycles()
+	b.segments(r)
+	b.trigger()
+	b.leakTau()
+	b.capacitance()
+	b.load()
+	b.leak()
+	b.equilibrium()
+	b.cell()
+	b.envelope()
+	b.traces()
+	b.declared()
+	b.identifiability()
+	return res
+}
+
+type builder struct {
+	a    *analysis
+	sum  *detect.Summary
+	res  *Result
+	opts *Options
+	info []swingInfo
+
+	capF    float64 // the capacitance used: measured, else declared; 0 unknown
+	tauLeak float64 // total dark-decay time constant, 0 unknown
+	drift   float64 // constant drain over C (V/s) from the decay fit; NaN unknown
+
+	leakDriftSD float64
+}
+
+func (b *builder) swing(i int) (*detect.Swing, *swingInfo) {
+	var inf *swingInfo
+	if i >= 0 && i < len(b.info) {
+		inf = &b.info[i]
+	} else {
+		inf = &swingInfo{}
+	}
+	return &b.sum.Swings[i], inf
+}
+
+func (b *builder) source(r *capture.Reader) {
+	s := &b.res.Source
+	s.Path = b.opts.Path
+	s.Profile = b.opts.Profile
+	if r == nil {
+		return
+	}
+	if m := r.Meta(); len(m) > 0 {
+		s.Meta = m
+		if s.Profile == "" {
+			s.Profile = m[capture.KeyProfile]
+		}
+	}
+	if st, ok := r.Start(); ok {
+		s.StartRFC = st.UTC().Format(capture.TimeLayout)
+	}
+	s.Lost = int(r.Lost())
+}
+
+func (b *builder) noise() {
+	if b.sum.Samples < 3 {
+		return
+	}
+	b.res.Noise = &Noise{RMSV: b.sum.NoiseV, StepV: b.sum.StepV}
+}
+
+func (b *builder) cycles() {
+	for k, c := range b.sum.Cycles {
+		cy := Cycle{Index: k, FireS: c.FireS, FireV: c.FireV, ResetS: c.ResetS, ResetV: c.ResetV,
+			PulseS: c.PulseS(), Kind: "full"}
+		if c.Chatter {
+			cy.Kind = "chatter"
+		}
+		if !math.IsNaN(c.ChargeS) {
+			cy.ChargeS = ptr(c.ChargeS)
+		}
+		b.res.Cycles = append(b.res.Cycles, cy)
+	}
+}
+
+func (b *builder) segments(r *capture.Reader) {
+	segs := b.sum.Segments
+	if r != nil {
+		var ev []detect.Segment
+		for _, g := range r.Gaps() {
+			if g.EndS <= g.StartS || covered(segs, g.StartS, g.EndS) {
+				continue
+			}
+			ev = append(ev, detect.Segment{Kind: detect.KindGap, StartS: g.StartS, EndS: g.EndS})
+		}
+		segs = detect.Carve(segs, ev)
+	}
+	for _, s := range segs {
+		b.res.Segments = append(b.res.Segments, Segment{Kind: s.Kind, StartS: s.StartS, EndS: s.EndS, StartV: s.StartV, EndV: s.EndV})
+		if s.Kind == detect.KindGap {
+			b.res.Source.GapsS += s.EndS - s.StartS
+		}
+	}
+}
+
+func covered(segs []detect.Segment, t0, t1 float64) bool {
+	for _, s := range segs {
+		if s.Kind == detect.KindGap && s.StartS <= t0+1e-9 && s.EndS >= t1-1e-9 {
+			return true
+		}
+	}
+	return false
+}
+
+// full returns the cycles that are not chatter.
+func (b *builder) full() []detect.Cycle {
+	var out []detect.Cycle
+	for _, c := range b.sum.Cycles {
+		if !c.Chatter {
+			out = append(out, c)
+		}
+	}
+	return out
+}
+
+// trigger: on_v and off_v are the mean fire and reset voltages of the full cycles; their
+// SD is the cycle-to-cycle standard deviation and Lo95/Hi95 the 95 % interval of the mean.
+func (b *builder) trigger() {
+	cs := b.full()
+	tf := &b.res.Fit.Trigger
+	if len(cs) == 0 {
+		return
+	}
+	var fv, rv, ft, per, pul []float64
+	for k, c := range cs {
+		fv = append(fv, c.FireV)
+		rv = append(rv, c.ResetV)
+		ft = append(ft, c.FireS/3600)
+		pul = append(pul, c.PulseS())
+		if k > 0 && !gapBetween(b.sum.Segments, cs[k-1].FireS, c.FireS) {
+			per = append(per, c.FireS-cs[k-1].FireS)
+		}
+	}
+	tf.OnV = spread(fv, "measured")
+	tf.OffV = spread(rv, "measured")
+	tf.PulseS = spread(pul, "measured")
+	if len(per) > 0 {
+		tf.PeriodS = spread(per, "measured")
+	}
+	if len(fv) >= 5 && (ft[len(ft)-1]-ft[0]) > 0 {
+		if l := fitLine(ft, fv); l.ok {
+			tf.OnDriftVPerH = est(l.b, l.bSD, "fitted")
+		}
+	}
+}
+
+func gapBetween(segs []detect.Segment, t0, t1 float64) bool {
+	for _, s := range segs {
+		if s.Kind == detect.KindGap && s.StartS >= t0 && s.EndS <= t1 {
+			return true
+		}
+	}
+	return false
+}
+
+// leakTau finds the total time constant of the slow decays (all drains together), which
+// needs no capacitance. Decays are the falls that are not fires.
+func (b *builder) leakTau() {
+	b.drift = math.NaN()
+	var taus, sds, drifts, dsds []float64
+	for i := range b.sum.Swings {
+		s, inf := b.swing(i)
+		if s.Up || s.Fire || !inf.exp.ok || inf.exp.n < 8 {
+			continue
+		}
+		taus = append(taus, inf.exp.tau)
+		sds = append(sds, inf.exp.tauSD)
+		drifts = append(drifts, inf.exp.drift)
+		dsds = append(dsds, inf.exp.driftSD)
+	}
+	lf := &b.res.Fit.Leak
+	if len(taus) > 0 {
+		m, se := combine(taus, sds)
+		lf.TauS = est(m, se, "fitted")
+		lf.Method = "dark-decay"
+		b.tauLeak = m
+		dm, dse := combine(drifts, dsds)
+		b.drift = dm
+		b.leakDriftSD = dse
+		return
+	}
+	// No dark decay: the approach to a plateau.
+	for i := range b.sum.Swings {
+		s, inf := b.swing(i)
+		if !s.Up || !inf.exp.ok || inf.exp.n < 8 || inf.exp.vinf <= s.StartV {
+			continue
+		}
+		taus = append(taus, inf.exp.tau)
+		sds = append(sds, inf.exp.tauSD)
+	}
+	if len(taus) > 0 {
+		m, se := combine(taus, sds)
+		lf.TauS = est(m, se, "fitted")
+		lf.Method = "plateau"
+		b.tauLeak = m
+	}
+}
+
+// capacitance: measured from the calibration stretch when there is one, else declared.
+func (b *builder) capacitance() {
+	o := b.opts
+	w := &b.a.cal
+	if w.on && len(w.t) >= 8 {
+		e := fitExp(w.t, w.v, b.sum.NoiseV)
+		if e.ok {
+			// 1/tau = 1/(R_cal C) + 1/tau_leak
+			g := 1 / e.tau
+			if b.tauLeak > 0 {
+				g -= 1 / b.tauLeak
+			}
+			if g > 0 {
+				c := 1 / (g * o.CalResistorOhm)
+				b.capF = c
+				b.res.Capacitance = &Capacity{F: *est(c, c*e.tauSD/e.tau, "measured")}
+				return
+			}
+		}
+		b.note("the calibration stretch did not give a capacitance (no clean exponential decay)")
+	}
+	if o.capKnown() {
+		b.capF = o.CapF
+		origin := o.CapOrigin
+		if origin == "" {
+			origin = "declared"
+		}
+		b.res.Capacitance = &Capacity{F: Estimate{Value: o.CapF, Origin: origin}, Tol: o.CapTol}
+	}
+}
+
+// load: the pulse's exponential approach, per full cycle, combined by inverse-variance
+// weights (the SE widened by the Birge ratio when the cycles scatter more than their
+// errors say).
+func (b *builder) load() {
+	var taus, sds, rms, early, late []float64
+	nSys, n := 0, 0
+	for _, c := range b.full() {
+		_, inf := b.swing(c.Swing)
+		if !inf.exp.ok {
+			continue
+		}
+		n++
+		taus = append(taus, inf.exp.tau)
+		sds = append(sds, inf.exp.tauSD)
+		rms = append(rms, inf.exp.rms)
+		if inf.exp.systematic {
+			nSys++
+		}
+		if !math.IsNaN(inf.earlyTau) && !math.IsNaN(inf.lateTau) {
+			early = append(early, inf.earlyTau)
+			late = append(late, inf.lateTau)
+		}
+	}
+	lf := &b.res.Fit.Load
+	if n == 0 {
+		if len(b.full()) > 0 {
+			b.note("the pulses have too few samples (fewer than 5) for the load's time constant")
+		}
+		return
+	}
+	m, se := combine(taus, sds)
+	lf.TauS = est(m, se, "fitted")
+	lf.RMSResidV = ptr(median(rms))
+	resistive := 2*nSys <= n
+	lf.Resistive = &resistive
+	if b.capF > 0 {
+		// R_pulse = tau/C is the load in parallel with the slow drains; take those out.
+		r := m / b.capF
+		rsd := se / b.capF
+		if b.tauLeak > 0 && b.res.Fit.Leak.Method == "dark-decay" {
+			rl := b.tauLeak / b.capF
+			if rl > r {
+				r2 := 1 / (1/r - 1/rl)
+				rsd *= r2 / r * r2 / r
+				r = r2
+			}
+		}
+		lf.Ohm = est(r, rsd, "fitted")
+		if len(early) > 0 {
+			lf.StartOhm = spread(scale(early, 1/b.capF), "fitted")
+			lf.EndOhm = spread(scale(late, 1/b.capF), "fitted")
+		}
+	}
+}
+
+// leak: the decay's time constant and constant part; with C, ohms and amperes, the
+// probe's known share taken out.
+func (b *builder) leak() {
+	lf := &b.res.Fit.Leak
+	if lf.TauS == nil {
+		return
+	}
+	if b.opts.ProbeOhm > 0 {
+		lf.ProbeOhm = &Estimate{Value: b.opts.ProbeOhm, Origin: "declared"}
+	}
+	b.leakPlot()
+	if b.capF <= 0 {
+		return
+	}
+	rt := lf.TauS.Value / b.capF
+	rtsd := sdOf(lf.TauS) / b.capF
+	if b.opts.ProbeOhm > 0 {
+		if rt >= b.opts.ProbeOhm*0.999 {
+			b.note("the probe divider alone explains the decay: no further leakage resistance is seen")
+		} else {
+			r := 1 / (1/rt - 1/b.opts.ProbeOhm)
+			lf.Ohm = est(r, rtsd*(r/rt)*(r/rt), "fitted")
+		}
+	} else {
+		lf.Ohm = est(rt, rtsd, "fitted")
+	}
+	if lf.Method == "dark-decay" && !math.IsNaN(b.drift) {
+		if b.drift >= 0 {
+			lf.QuiescentA = est(b.drift*b.capF, b.leakDriftSD*b.capF, "fitted")
+		} else {
+			b.note("the decays level off above zero: some light or charge was still arriving, so the quiescent current is not determined")
+		}
+	}
+}
+
+func (b *builder) leakPlot() {
+	var best *keptSwing
+	for k := range b.a.col.decay {
+		d := &b.a.col.decay[k]
+		s := &b.sum.Swings[d.index]
+		if s.Fire || !b.info[d.index].exp.ok {
+			continue
+		}
+		if best == nil || d.dur > best.dur {
+			best = d
+		}
+	}
+	if best == nil {
+		return
+	}
+	e := b.info[best.index].exp
+	s := &b.sum.Swings[best.index]
+	tr := &Trace{Label: "decay", TS: []float64{}, V: []float64{}}
+	md := &Trace{Label: "fit", TS: []float64{}, V: []float64{}}
+	for _, p := range compact(best.pts, 400) {
+		if float64(p.t) < s.OnsetS {
+			continue
+		}
+		tr.TS = append(tr.TS, float64(p.t)-s.OnsetS)
+		tr.V = append(tr.V, float64(p.v))
+		md.TS = append(md.TS, float64(p.t)-s.OnsetS)
+		md.V = append(md.V, e.at(float64(p.t)))
+	}
+	b.res.LeakTrace, b.res.LeakModel = tr, md
+}
+
+// equilibrium: when the capture ends on a rise that levels off below the trigger (or
+// there are no fires at all), the asymptote of its exponential approach.
+func (b *builder) equilibrium() {
+	sw := b.sum.Swings
+	if len(sw) == 0 {
+		return
+	}
+	i := len(sw) - 1
+	s, inf := b.swing(i)
+	if !s.Up || !inf.exp.ok {
+		return
+	}
+	e := inf.exp
+	span := s.EndS - s.StartS
+	if !(e.vinf > s.StartV) || e.tau > 3*span {
+		return // still rising steadily: where it would settle is not determined
+	}
+	if on := b.res.Fit.Trigger.OnV; on != nil && e.vinf >= on.Value {
+		return // it is heading for the trigger, not settling
+	}
+	b.res.EquilibriumV = est(e.vinf, e.vinfSD, "fitted")
+	st := &Settling{TauS: est(e.tau, e.tauSD, "fitted")}
+	if d := math.Abs(e.v0 - e.vinf); d > 0 && e.vinf != 0 {
+		w := e.tau * math.Log(d/(0.01*math.Abs(e.vinf)))
+		st.Within1PctS = ptr(math.Max(w, 0))
+	}
+	b.res.Equilibrium = st
+}
+
+// cell: capacitive-load I-V tracing. I/C = dV/dt + V/tau_leak + drift on each rise; with
+// C known, I = C times that, and the single-diode fit on the rise that spans the widest
+// range of voltage. Per cycle, the cell's short-circuit current (or I/C) is the light
+// level.
+func (b *builder) cell() {
+	drains := func(v float64) float64 {
+		d := 0.0
+		if b.tauLeak > 0 && b.res.Fit.Leak.Method == "dark-decay" {
+			d += v / b.tauLeak
+			if !math.IsNaN(b.drift) && b.drift > 0 {
+				d += b.drift
+			}
+		}
+		return d
+	}
+	type riseIV struct {
+		idx  int
+		v, i []float64 // volts, and I (A) or I/C (V/s)
+		t    float64
+	}
+	var rises []riseIV
+	widest, wspan := -1, 0.0
+	for idx := range b.sum.Swings {
+		s, inf := b.swing(idx)
+		if !s.Up || len(inf.iv) < 3 {
+			continue
+		}
+		r := riseIV{idx: idx, t: (s.StartS + s.EndS) / 2}
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for _, p := range inf.iv {
+			ic := p.dvdt + drains(p.v)
+			if b.capF > 0 {
+				ic *= b.capF
+			}
+			r.v = append(r.v, p.v)
+			r.i = append(r.i, ic)
+			lo, hi = math.Min(lo, p.v), math.Max(hi, p.v)
+		}
+		rises = append(rises, r)
+		if hi-lo > wspan {
+			widest, wspan = len(rises)-1, hi-lo
+		}
+	}
+	if len(rises) == 0 {
+		return
+	}
+	cf := &b.res.Fit.Cell
+	var d diodeResult
+	if b.capF > 0 && widest >= 0 {
+		w := rises[widest]
+		for k := range w.v {
+			cf.IV = append(cf.IV, [2]float64{w.v[k], w.i[k]})
+		}
+		ns := max(1, b.opts.CellSeries)
+		tk := b.opts.CellTempK
+		if tk <= 0 {
+			tk = 298.15
+		}
+		d = fitDiode(w.v, w.i, ns, tk)
+		if d.ok {
+			cf.IscA = est(d.isc, math.NaN(), "fitted")
+			cf.VocV = est(d.voc, math.NaN(), "fitted")
+			cf.I0A = est(d.p.I0, d.sd.I0, "fitted")
+			cf.N = est(d.p.N, d.sd.N, "fitted")
+			cf.RsOhm = est(d.p.Rs, d.sd.Rs, "fitted")
+			cf.RshOhm = est(d.p.Rsh, d.sd.Rsh, "fitted")
+			cf.MppV, cf.MppW = ptr(d.vmp), ptr(d.pmp)
+		} else {
+			b.note("the traced I-V points do not determine the single-diode model (too narrow a span of voltage)")
+		}
+	}
+	// The light level of each rise.
+	level := make([]float64, len(rises))
+	top := 0.0
+	for k, r := range rises {
+		var sum float64
+		for j := range r.v {
+			if d.ok {
+				sum += d.iscFor(d.photocurrent(r.v[j], r.i[j]))
+			} else {
+				sum += r.i[j]
+			}
+		}
+		level[k] = sum / float64(len(r.v))
+		top = math.Max(top, level[k])
+	}
+	byRise := map[int]int{}
+	for k, r := range rises {
+		byRise[r.idx] = k
+	}
+	for ci := range b.res.Cycles {
+		c := &b.sum.Cycles[ci]
+		if k, ok := byRise[c.Swing-1]; ok {
+			b.res.Cycles[ci].LightA = ptr(level[k])
+		}
+	}
+	// The light trace, at most 2000 points (averaged in runs).
+	step := (len(rises) + 1999) / 2000
+	for k := 0; k < len(rises); k += step {
+		j := min(len(rises), k+step)
+		var t, l float64
+		for q := k; q < j; q++ {
+			t += rises[q].t
+			l += level[q]
+		}
+		n := float64(j - k)
+		pt := LightPt{TS: t / n}
+		if top > 0 {
+			pt.Level = l / n / top
+		}
+		pt.FiresH = b.firesPerHour(rises[k].t, rises[j-1].t)
+		b.res.Light = append(b.res.Light, pt)
+	}
+}
+
+// firesPerHour counts full fires in [t0 - 1800, t1 + 1800] s, per hour of capture there.
+func (b *builder) firesPerHour(t0, t1 float64) float64 {
+	lo, hi := math.Max(b.sum.StartS, t0-1800), math.Min(b.sum.EndS, t1+1800)
+	if hi <= lo {
+		return 0
+	}
+	cs := b.sum.Cycles
+	i := sort.Search(len(cs), func(i int) bool { return cs[i].FireS >= lo })
+	j := sort.Search(len(cs), func(i int) bool { return cs[i].FireS > hi })
+	n := 0
+	for k := i; k < j; k++ {
+		if !cs[k].Chatter {
+			n++
+		}
+	}
+	return float64(n) / (hi - lo) * 3600
+}
+
+func (b *builder) envelope() {
+	for _, bin := range b.a.env.Bins() {
+		b.res.Envelope = append(b.res.Envelope, EnvelopePt{TS: (bin.StartS + bin.EndS) / 2, MinV: bin.MinV, MaxV: bin.MaxV})
+	}
+}
+
+// traces: up to five full cycles spread over the capture, each the charge before the
+// fire, the pulse and the recharge after it, time relative to the fire.
+func (b *builder) traces() {
+	cs := b.full()
+	if len(cs) == 0 {
+		return
+	}
+	k := min(5, len(cs))
+	for j := 0; j < k; j++ {
+		c := cs[j*(len(cs)-1)/max(1, k-1)]
+		if k == 1 {
+			c = cs[0]
+		}
+		tr := Trace{Label: "cycle", TS: []float64{}, V: []float64{}}
+		for _, idx := range []int{c.Swing - 1, c.Swing, c.Swing + 1} {
+			if idx < 0 || idx >= len(b.info) {
+				continue
+			}
+			for _, p := range b.info[idx].trace {
+				t := float64(p.t) - c.FireS
+				if n := len(tr.TS); n > 0 && t <= tr.TS[n-1] {
+					continue
+				}
+				tr.TS = append(tr.TS, t)
+				tr.V = append(tr.V, float64(p.v))
+			}
+		}
+		b.res.Traces = append(b.res.Traces, tr)
+	}
+}
+
+func (b *builder) declared() {
+	o := b.opts
+	d := &Declared{CapTol: o.CapTol}
+	any := false
+	set := func(dst **float64, v float64) {
+		if v != 0 {
+			*dst = ptr(v)
+			any = true
+		}
+	}
+	set(&d.CapF, o.CapF)
+	set(&d.OnV, o.OnV)
+	set(&d.OffV, o.OffV)
+	set(&d.LoadOhm, o.LoadOhm)
+	set(&d.ProbeOhm, o.ProbeOhm)
+	set(&d.QuiescentA, o.QuiescentA)
+	set(&d.VocV, o.VocV)
+	set(&d.IscA, o.IscA)
+	if any {
+		b.res.Declared = d
+	}
+}
+
+func (b *builder) identifiability() {
+	if b.capF <= 0 {
+		b.note("the capacitance is not known: only time constants (tau_s) and currents over C (V/s) are determined; resistances, currents and energies are null")
+	} else if b.res.Capacitance != nil && b.res.Capacitance.F.Origin != "measured" {
+		b.note("resistances, currents and energies use the " + b.res.Capacitance.F.Origin + " capacitance, not a measured one")
+	}
+	if b.res.Fit.Leak.Method == "plateau" {
+		b.note("no dark decay: the leak time constant is that of the approach to the plateau, which includes the cell's own slope")
+	}
+	if len(b.res.Cycles) == 0 && b.sum.Samples > 0 {
+		b.note("no fires were found")
+	}
+}
+
+func (b *builder) note(s string) { b.res.Notes = append(b.res.Notes, s) }
+
+// combine is the inverse-variance weighted mean of xs (SDs sds), its SE widened by the
+// Birge ratio sqrt(chi2/(n-1)) when the values scatter more than their SEs say. Values
+// without a usable SD are averaged plainly, with the SE from their spread.
+func combine(xs, sds []float64) (mean, se float64) {
+	var sw, swx float64
+	ok := true
+	for k, x := range xs {
+		s := sds[k]
+		if !(s > 0) || math.IsInf(s, 0) {
+			ok = false
+			break
+		}
+		w := 1 / (s * s)
+		sw += w
+		swx += w * x
+	}
+	if !ok || sw == 0 {
+		m := meanOf(xs)
+		return m, sdOfSlice(xs) / math.Sqrt(float64(len(xs)))
+	}
+	mean = swx / sw
+	se = math.Sqrt(1 / sw)
+	if len(xs) > 1 {
+		var chi float64
+		for k, x := range xs {
+			chi += (x - mean) * (x - mean) / (sds[k] * sds[k])
+		}
+		if r := chi / float64(len(xs)-1); r > 1 {
+			se *= math.Sqrt(r)
+		}
+	}
+	return mean, se
+}
+
+// spread is the mean of xs with the SD across them, and the 95 % interval of the mean.
+func spread(xs []float64, origin string) *Estimate {
+	if len(xs) == 0 {
+		return nil
+	}
+	m := meanOf(xs)
+	e := &Estimate{Value: m, Origin: origin}
+	if len(xs) > 1 {
+		s := sdOfSlice(xs)
+		e.SD = ptr(s)
+		h := 1.96 * s / math.Sqrt(float64(len(xs)))
+		e.Lo95, e.Hi95 = ptr(m-h), ptr(m+h)
+	}
+	return e
+}
+
+// est makes an Estimate; an SD that is NaN or negative is left null. The 95 % interval
+// is value ± 1.96 SD.
+func est(v, sd float64, origin string) *Estimate {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return nil
+	}
+	e := &Estimate{Value: v, Origin: origin}
+	if sd >= 0 && !math.IsInf(sd, 0) {
+		e.SD = ptr(sd)
+		e.Lo95, e.Hi95 = ptr(v-1.96*sd), ptr(v+1.96*sd)
+	}
+	return e
+}
+
+func sdOf(e *Estimate) float64 {
+	if e == nil || e.SD == nil {
+		return math.NaN()
+	}
+	return *e.SD
+}
+
+func meanOf(x []float64) float64 {
+	var s float64
+	for _, v := range x {
+		s += v
+	}
+	return s / float64(len(x))
+}
+
+func sdOfSlice(x []float64) float64 {
+	if len(x) < 2 {
+		return math.NaN()
+	}
+	m := meanOf(x)
+	var s float64
+	for _, v := range x {
+		s += (v - m) * (v - m)
+	}
+	return math.Sqrt(s / float64(len(x)-1))
+}
+
+func scale(x []float64, k float64) []float64 {
+	out := make([]float64, len(x))
+	for i, v := range x {
+		out[i] = v * k
+	}
+	return out
+}
+
+func ptr(v float64) *float64 { return &v }

@@ -1,0 +1,232 @@
+package analyze
+
+import (
+	"math"
+	"sort"
+
+	"capcycle/analyze/detect"
+)
+
+// collector keeps, for every swing the detector confirms, what the fits need: the
+// exponential fit of a fall, the I-V tracing points of a rise, and a few points for the
+// plots. The swing's samples themselves are not kept.
+type collector struct {
+	opts  *Options
+	det   *detect.Detector
+	info  []swingInfo
+	decay []keptSwing // the longest falls, for the leak fit's plot
+	last  keptSwing   // the last rise, kept in full for the equilibrium fit
+	ts    []float64
+	vs    []float64
+}
+
+// swingInfo is what is kept per swing.
+type swingInfo struct {
+	exp expResult // falls (from the onset), and rises that level off or end the capture
+	// effective time constants early and late in a fall: (V - vinf) / (-dV/dt)
+	earlyTau, lateTau float64
+	iv                []ivPt // rises: traced points
+	trace             []tvPt // compact copy for the overlay plot
+}
+
+type ivPt struct{ t, v, dvdt float64 }
+
+type tvPt struct{ t, v float32 }
+
+type keptSwing struct {
+	index int
+	dur   float64
+	pts   []detect.Point
+}
+
+const tracePts = 32
+const ivPerRise = 16
+
+func newCollector(opts *Options) *collector { return &collector{opts: opts} }
+
+func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
+	for len(c.info) <= i {
+		c.info = append(c.info, swingInfo{})
+	}
+	inf := &c.info[i]
+	inf.trace = compact(pts, tracePts)
+	noise := c.det.NoiseV()
+	if !s.Up {
+		// Only the samples strictly inside the pulse: the onset sample is still on the
+		// charging curve (the switch closed after it) and the reset sample may already be
+		// the first of the recharge.
+		c.ts, c.vs = c.ts[:0], c.vs[:0]
+		for k, p := range pts {
+			if k > s.OnsetIndex && k < s.ResetIndex {
+				c.ts = append(c.ts, p.T)
+				c.vs = append(c.vs, p.V)
+			}
+		}
+		inf.exp = fitExp(c.ts, c.vs, noise)
+		if inf.exp.ok {
+			inf.earlyTau, inf.lateTau = localTaus(c.ts, c.vs, inf.exp.vinf)
+		}
+		c.keepDecay(i, s, pts)
+		return
+	}
+	inf.iv = traceIV(pts, s)
+	if s.Open || s.FlatS > 0.2*s.DurationS() {
+		c.ts, c.vs = c.ts[:0], c.vs[:0]
+		for _, p := range pts {
+			c.ts = append(c.ts, p.T)
+			c.vs = append(c.vs, p.V)
+		}
+		inf.exp = fitExp(c.ts, c.vs, noise/math.Sqrt(meanN(pts)))
+	}
+	c.last = keptSwing{index: i, dur: s.DurationS(), pts: append(c.last.pts[:0], pts...)}
+}
+
+func meanN(pts []detect.Point) float64 {
+	if len(pts) == 0 {
+		return 1
+	}
+	n := 0
+	for _, p := range pts {
+		n += p.N
+	}
+	return math.Max(1, float64(n)/float64(len(pts)))
+}
+
+// keepDecay keeps the points of the three longest falls (the slow decays, if any).
+func (c *collector) keepDecay(i int, s *detect.Swing, pts []detect.Point) {
+	d := s.DurationS()
+	if len(c.decay) < 3 {
+		c.decay = append(c.decay, keptSwing{i, d, append([]detect.Point(nil), pts...)})
+		return
+	}
+	k := 0
+	for j := range c.decay {
+		if c.decay[j].dur < c.decay[k].dur {
+			k = j
+		}
+	}
+	if d > c.decay[k].dur {
+		c.decay[k] = keptSwing{i, d, append(c.decay[k].pts[:0], pts...)}
+	}
+}
+
+// compact averages pts down to at most n points.
+func compact(pts []detect.Point, n int) []tvPt {
+	if len(pts) == 0 {
+		return nil
+	}
+	k := (len(pts) + n - 1) / n
+	out := make([]tvPt, 0, (len(pts)+k-1)/k)
+	for i := 0; i < len(pts); i += k {
+		j := min(len(pts), i+k)
+		var st, sv, w float64
+		for _, p := range pts[i:j] {
+			st += p.T * float64(p.N)
+			sv += p.V * float64(p.N)
+			w += float64(p.N)
+		}
+		out = append(out, tvPt{float32(st / w), float32(sv / w)})
+	}
+	return out
+}
+
+// traceIV evaluates the slope of a rise at up to ivPerRise times spread over it, each
+// from a local quadratic least-squares fit (Savitzky-Golay on the non-uniform points)
+// over the neighbouring points.
+func traceIV(pts []detect.Point, s *detect.Swing) []ivPt {
+	n := len(pts)
+	if n < 5 {
+		return nil
+	}
+	k := min(ivPerRise, n/3)
+	half := max(2, n/(2*k))
+	var out []ivPt
+	ts := make([]float64, 0, 2*half+1)
+	vs := make([]float64, 0, 2*half+1)
+	for j := 0; j < k; j++ {
+		c := int((float64(j) + 0.5) / float64(k) * float64(n))
+		lo, hi := max(0, c-half), min(n, c+half+1)
+		ts, vs = ts[:0], vs[:0]
+		for _, p := range pts[lo:hi] {
+			ts = append(ts, p.T)
+			vs = append(vs, p.V)
+		}
+		order := 2
+		if len(ts) < 5 {
+			order = 1
+		}
+		val, slope, ok := detect.LocalPoly(ts, vs, pts[c].T, order)
+		if !ok {
+			continue
+		}
+		out = append(out, ivPt{pts[c].T, val, slope})
+	}
+	return out
+}
+
+// localTaus returns (V - vinf)/(-dV/dt) from a line through the first and through the
+// last third of a fall.
+func localTaus(t, v []float64, vinf float64) (early, late float64) {
+	n := len(t)
+	early, late = math.NaN(), math.NaN()
+	if n < 6 {
+		return
+	}
+	k := n / 3
+	tau := func(ts, vs []float64) float64 {
+		val, slope, ok := detect.LocalPoly(ts, vs, ts[len(ts)/2], 1)
+		if !ok || slope >= 0 {
+			return math.NaN()
+		}
+		return (val - vinf) / -slope
+	}
+	return tau(t[:k+1], v[:k+1]), tau(t[n-k-1:], v[n-k-1:])
+}
+
+// calWindow collects the samples of the calibration stretch, thinned to at most 8192.
+type calWindow struct {
+	on         bool
+	start, end float64
+	stride     int
+	count      int
+	t, v       []float64
+}
+
+func newCalWindow(start, end float64) calWindow {
+	return calWindow{on: true, start: start, end: end, stride: 1}
+}
+
+func (w *calWindow) add(t, v []float64) {
+	for i := range t {
+		if t[i] < w.start || t[i] > w.end {
+			continue
+		}
+		w.count++
+		if w.count%w.stride != 0 {
+			continue
+		}
+		w.t = append(w.t, t[i])
+		w.v = append(w.v, v[i])
+		if len(w.t) >= 8192 {
+			k := 0
+			for j := 0; j < len(w.t); j += 2 {
+				w.t[k], w.v[k] = w.t[j], w.v[j]
+				k++
+			}
+			w.t, w.v = w.t[:k], w.v[:k]
+			w.stride *= 2
+		}
+	}
+}
+
+func median(x []float64) float64 {
+	if len(x) == 0 {
+		return math.NaN()
+	}
+	y := append([]float64(nil), x...)
+	sort.Float64s(y)
+	if len(y)%2 == 1 {
+		return y[len(y)/2]
+	}
+	return (y[len(y)/2-1] + y[len(y)/2]) / 2
+}
