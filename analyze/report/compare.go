@@ -41,7 +41,7 @@ func comparePage(a, b *analyze.Result, o *Options) *page {
 		{la, captureName(a)}, {lb, captureName(b)},
 		{la + " length", dur(a.DurationS)}, {lb + " length", dur(b.DurationS)},
 	}
-	p.Verdicts = []namedVerdict{{la, Verdict(a).HTML()}, {lb, Verdict(b).HTML()}}
+	p.Verdicts = []namedVerdict{{la, verdict(a, " in its report").HTML()}, {lb, verdict(b, " in its report").HTML()}}
 
 	s := &section{ID: "parameters", Title: "Parameters side by side"}
 	s.Intro = []string{fmt.Sprintf("Found values ± one standard error in each capture. The change is (%s − %s) / %s; it counts as a change when it exceeds twice the combined standard error.", lb, la, la)}
@@ -94,7 +94,7 @@ func compareParams(a, b *analyze.Result, la, lb string) *table {
 				if se > 0 {
 					z := math.Abs(vb-va) / se
 					if z > 2 {
-						judge = cell{Text: fmt.Sprintf("changed (%.1f s.e.)", z), Class: "bad"}
+						judge = cell{Text: fmt.Sprintf("changed (%.1f s.e.)", z), Class: "diff"}
 					} else {
 						judge = cell{Text: fmt.Sprintf("no clear change (%.1f s.e.)", z), Class: "ok"}
 					}

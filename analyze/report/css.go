@@ -92,6 +92,8 @@ td.num { white-space: nowrap; }
 td.ok::before { content: "\2713\00a0"; }
 td.bad { font-weight: bold; color: var(--fault); }
 td.bad::before { content: "\2717\00a0"; }
+td.diff { font-weight: bold; }
+td.diff::before { content: "\2260\00a0"; }
 td.muted { color: var(--muted); }
 p.note { font-size: 0.9em; }
 dl.items div { margin: 0 0 0.55rem; break-inside: avoid; }

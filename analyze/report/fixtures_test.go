@@ -268,6 +268,33 @@ func wrenResult() *analyze.Result {
 	return r
 }
 
+// wrenAfterResult is Wren after a part change: a 47 mF capacitor in place of the 33 mF
+// one, recorded from 10:00 to 16:00. Only what the comparison page uses is filled in.
+func wrenAfterResult() *analyze.Result {
+	c := wrenCircuit
+	c.capF = 0.047
+	c.light = func(tS float64) float64 { return windowsill(tS + 10*3600) }
+	r := simDay(c, 6*3600, [2]float64{}, 5)
+	r.Source = analyze.Source{Path: "captures/wren-sill-47m.csv", Profile: "wren-47m.toml"}
+	var charge, pulse []float64
+	for _, cy := range r.Cycles {
+		if cy.ChargeS != nil {
+			charge = append(charge, *cy.ChargeS)
+		}
+		pulse = append(pulse, cy.PulseS)
+	}
+	r.Capacitance = &analyze.Capacity{F: analyze.Estimate{Value: 0.0452, SD: f64(0.0009), Origin: "measured"}, Tol: "M"}
+	r.Fit = analyze.Fit{
+		Trigger: analyze.TriggerFit{Kind: "voltage", OnV: est(2.7118, 0.0045, "fitted"), OffV: est(1.5231, 0.0060, "fitted"),
+			PeriodS: est(mean(charge)+mean(pulse), 2.2, "fitted"), PulseS: est(mean(pulse), 0.005, "fitted")},
+		Load: analyze.LoadFit{TauS: est(0.823, 0.015, "fitted"), Ohm: est(18.0, 0.5, "fitted")},
+		Leak: analyze.LeakFit{TauS: est(5350, 150, "fitted"), Ohm: est(118e3, 4e3, "fitted"), QuiescentA: est(1.12e-6, 0.09e-6, "fitted")},
+	}
+	r.Fit.Cell = analyze.CellFit{IscA: est(2.01e-3, 0.00009, "fitted"), VocV: est(5.05, 0.03, "fitted")}
+	r.Findings = []analyze.Finding{}
+	return r
+}
+
 var fernCircuit = simCircuit{capF: 0.1, onV: 2.70, offV: 1.6, loadOhm: 40, leakOhm: 20e3, qA: 1.5e-6,
 	iscA: 0.35e-3, vocV: 4.4, nVt: 0.3,
 	light: func(tS float64) float64 { return 0.4 * windowsill(tS) }}

@@ -155,8 +155,11 @@ func estimate(e *analyze.Estimate, unit string) string {
 // displayUnit picks the divisor and unit label quantity would use for v.
 func displayUnit(v float64, unit string) (div float64, label string) {
 	switch unit {
-	case "%", "", "/h", "V/h":
+	case "%", "", "/h":
 		return 1, unit
+	case "V/h":
+		d, l := siAxis(math.Abs(v), "V")
+		return d, l + "/h"
 	case "s":
 		switch a := math.Abs(v); {
 		case a >= 2*3600:
@@ -186,8 +189,10 @@ func quantitySig(v float64, unit string, sig int) string {
 		if math.Abs(v) >= 120 {
 			return dur(v)
 		}
-	case "/h", "V/h":
+	case "/h":
 		return plainSig(v, sig) + " " + unit
+	case "V/h":
+		return numSig(v, "V", sig) + "/h"
 	}
 	return numSig(v, unit, sig)
 }

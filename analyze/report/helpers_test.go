@@ -19,8 +19,9 @@ import (
 
 // The fixtures are deterministic but take a moment to simulate; build each once.
 var (
-	wrenOnce = sync.OnceValue(wrenResult)
-	fernOnce = sync.OnceValue(fernResult)
+	wrenOnce  = sync.OnceValue(wrenResult)
+	fernOnce  = sync.OnceValue(fernResult)
+	afterOnce = sync.OnceValue(wrenAfterResult)
 )
 
 // fixtures are the test Results by name (invented data, see fixtures_test.go).
@@ -40,7 +41,7 @@ func renderPage(t testing.TB, r *analyze.Result, o *Options) []byte {
 func renderCompare(t testing.TB) []byte {
 	t.Helper()
 	var b bytes.Buffer
-	if err := Compare(&b, wrenOnce(), fernOnce(), &Options{LabelA: "Wren", LabelB: "Fern"}); err != nil {
+	if err := Compare(&b, wrenOnce(), afterOnce(), &Options{LabelA: "33 mF", LabelB: "47 mF"}); err != nil {
 		t.Fatal(err)
 	}
 	return b.Bytes()
@@ -94,13 +95,23 @@ func textOf(n *html.Node) string {
 		if n.Type == html.ElementNode && (n.Data == "svg" || n.Data == "style") {
 			return
 		}
+		gap := n.Type == html.ElementNode && spaced[n.Data]
+		if gap {
+			b.WriteString(" ")
+		}
 		for c := n.FirstChild; c != nil; c = c.NextSibling {
 			rec(c)
+		}
+		if gap {
+			b.WriteString(" ")
 		}
 	}
 	rec(n)
 	return strings.Join(strings.Fields(b.String()), " ")
 }
+
+// spaced are the elements whose text stands apart from its neighbours'.
+var spaced = map[string]bool{"dt": true, "dd": true, "td": true, "th": true, "li": true, "p": true, "div": true, "code": true}
 
 // jsonValue looks up path in the JSON form of r: dotted keys ("fit.trigger.on_v.value"),
 // "len(list)" or "count(list.key=value)".

@@ -143,7 +143,7 @@ func agreement(p paramRow, dv, fv float64) cell {
 		if z <= 2 {
 			return cell{Text: fmt.Sprintf("agrees (%.1f s.e.)", z), Class: "ok"}
 		}
-		return cell{Text: fmt.Sprintf("differs (%.1f s.e.)", z), Class: "bad"}
+		return cell{Text: fmt.Sprintf("differs (%.1f s.e.)", z), Class: "diff"}
 	}
 	return cell{Text: "no uncertainty to judge by", Class: "muted"}
 }

@@ -65,7 +65,11 @@ func (s *sentence) count(path string, n int) {
 //   - "Chatters": fires, but none of them a full cycle;
 //   - "Stalls": no fire at all; the settling voltage follows when it is known;
 //   - "No data": no samples.
-func Verdict(r *analyze.Result) Sentence {
+func Verdict(r *analyze.Result) Sentence { return verdict(r, " below") }
+
+// verdict is Verdict with the words that point to the findings ("below", or " in its
+// report" on the comparison page, which does not list them).
+func verdict(r *analyze.Result, where string) Sentence {
 	var s sentence
 	full, chatter := 0, 0
 	for _, c := range r.Cycles {
@@ -173,7 +177,7 @@ func Verdict(r *analyze.Result) Sentence {
 			s.count("count(findings.severity=warn)", warns)
 			s.text(plural(warns, " warning", " warnings"))
 		}
-		s.text(" below")
+		s.text(where)
 	}
 	s.text(".")
 	return Sentence{s.parts}
