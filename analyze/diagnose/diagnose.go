@@ -1,0 +1,189 @@
+package diagnose
+
+import (
+	"fmt"
+	"math"
+	"sort"
+
+	"capcycle/analyze"
+	"capcycle/analyze/eseries"
+	"capcycle/analyze/model"
+	"capcycle/analyze/predict"
+	"capcycle/analyze/profile"
+	"capcycle/analyze/units"
+)
+
+// Input is what Diagnose looks at. Only Result is required; without a profile the findings
+// that compare with declared parts, and the predicted effects of changes, are left out.
+type Input struct {
+	Result  *analyze.Result
+	Profile *profile.Profile // the declared parts; nil when there is no profile
+	Nominal *model.Circuit   // the profile's circuit; nil without a profile
+	Fitted  *model.Circuit   // the nominal circuit with the fitted parts in place (predict.Fitted)
+	// LightWm2 is the irradiance at which changes are predicted; 0 means MeasuredLight.
+	LightWm2 float64
+}
+
+// Diagnose returns the findings for an analysis, most severe first.
+func Diagnose(in *Input) []analyze.Finding {
+	d := &diag{in: in, r: in.Result}
+	d.c = in.Fitted
+	if d.c == nil {
+		d.c = in.Nominal
+	}
+	if d.c != nil {
+		d.g = in.LightWm2
+		if d.g <= 0 {
+			d.g = MeasuredLight(in.Result, d.c)
+		}
+	}
+	d.capture()
+	switch {
+	case d.fullCycles() == 0:
+		d.notFiring()
+	default:
+		d.cycling()
+		d.chatter()
+		d.pulse()
+	}
+	d.drains()
+	d.nominal()
+	sort.SliceStable(d.out, func(i, j int) bool { return rank(d.out[i].Severity) > rank(d.out[j].Severity) })
+	if d.out == nil {
+		d.out = []analyze.Finding{}
+	}
+	return d.out
+}
+
+func rank(sev string) int {
+	switch sev {
+	case "fault":
+		return 2
+	case "warn":
+		return 1
+	}
+	return 0
+}
+
+type diag struct {
+	in  *Input
+	r   *analyze.Result
+	c   *model.Circuit // the best circuit we have: fitted, else nominal
+	g   float64        // measured light, W/m² (0: unknown)
+	out []analyze.Finding
+}
+
+func (d *diag) add(code, sev, msg, sugg string, nums map[string]float64) {
+	for k, v := range nums {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			delete(nums, k) // JSON has no NaN; a missing number is absent
+		}
+	}
+	d.out = append(d.out, analyze.Finding{Code: code, Severity: sev, Message: msg, Suggestion: sugg, Numbers: nums})
+}
+
+func (d *diag) fullCycles() int {
+	n := 0
+	for _, c := range d.r.Cycles {
+		if c.Kind == "full" {
+			n++
+		}
+	}
+	return n
+}
+
+// onV is the node voltage at which the circuit should fire: measured when it fires,
+// otherwise the circuit's (which the predictions use), otherwise declared.
+func (d *diag) onV() (float64, string) {
+	if e := d.r.Fit.Trigger.OnV; e != nil && d.fullCycles() > 0 {
+		return e.Value, "measured"
+	}
+	if c := d.c; c != nil {
+		switch c.Trigger.Kind {
+		case model.TriggerVoltage:
+			return c.Trigger.OnV, "declared"
+		case model.TriggerHold:
+			return c.Trigger.OnV + c.Trigger.DiodeV, "declared"
+		}
+	}
+	if d.in.Profile != nil && d.in.Profile.Trigger.OnV > 0 {
+		return d.in.Profile.Trigger.OnV, "declared"
+	}
+	if d.r.Declared != nil && d.r.Declared.OnV != nil {
+		return *d.r.Declared.OnV, "declared"
+	}
+	return math.NaN(), ""
+}
+
+// MeasuredLight estimates the irradiance the capture was taken under, W/m², for the
+// circuit c: from the median short-circuit current of the cycles' charges, or, when the
+// circuit never fired, from the irradiance at which c settles at the measured equilibrium
+// voltage. It returns 0 when neither is known.
+func MeasuredLight(r *analyze.Result, c *model.Circuit) float64 {
+	var iscs []float64
+	for _, cy := range r.Cycles {
+		if cy.Kind == "full" && cy.LightA != nil && *cy.LightA > 0 {
+			iscs = append(iscs, *cy.LightA)
+		}
+	}
+	if len(iscs) > 0 {
+		sort.Float64s(iscs)
+		return predict.IrradianceFor(c, iscs[len(iscs)/2])
+	}
+	if r.EquilibriumV != nil && r.EquilibriumV.Value > 0 {
+		return lightForEquilibrium(c, r.EquilibriumV.Value)
+	}
+	return 0
+}
+
+// lightForEquilibrium finds the irradiance at which c settles at veq (bisection on a log
+// scale between 1e-3 and 1e4 W/m²), or 0 if none does.
+func lightForEquilibrium(c *model.Circuit, veq float64) float64 {
+	lo, hi := math.Log(1e-3), math.Log(1e4)
+	if predict.EquilibriumV(c, math.Exp(hi)) < veq || predict.EquilibriumV(c, math.Exp(lo)) > veq {
+		return 0
+	}
+	for i := 0; i < 80; i++ {
+		m := 0.5 * (lo + hi)
+		if predict.EquilibriumV(c, math.Exp(m)) < veq {
+			lo = m
+		} else {
+			hi = m
+		}
+	}
+	return math.Exp(0.5 * (lo + hi))
+}
+
+func fmtV(v float64) string { return units.Format(v, "V") }
+func fmtS(v float64) string {
+	switch {
+	case math.IsInf(v, 1):
+		return "never"
+	case v >= 7200:
+		return fmt.Sprintf("%.3g h", v/3600)
+	case v >= 120:
+		return fmt.Sprintf("%.3g min", v/60)
+	}
+	return units.Format(v, "s")
+}
+
+// nearestStandard rounds a part value to its E-series neighbour (log-nearest).
+func nearestStandard(series string, v float64) float64 {
+	s, err := eseries.Get(series)
+	if err != nil || !(v > 0) || math.IsInf(v, 0) {
+		return v
+	}
+	n, _ := s.Nearest(v)
+	return n
+}
+
+// steadyWith predicts c with the change made; ok is false when the prediction failed.
+func steadyWith(c *model.Circuit, g float64, change func(*model.Circuit)) (predict.Figures, bool) {
+	if c == nil || g <= 0 {
+		return predict.Figures{}, false
+	}
+	cc := *c
+	change(&cc)
+	f, err := predict.Steady(&cc, g, nil)
+	return f, err == nil
+}
