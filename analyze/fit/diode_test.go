@@ -252,3 +252,14 @@ func TestSingleDiodeSynthetic(t *testing.T) {
 		checkNear(t, "synthetic module", f.Params, truth, 1e-6)
 	}
 }
+
+// TestW0ExpWindow checks W0(exp(l)) on both sides of and inside the window that
+// w0Exp handles itself, against the definition w + ln w = l.
+func TestW0ExpWindow(t *testing.T) {
+	for _, l := range []float64{1.05, 1.0899, 1.09, 1.0986, 1.09862, 1.0999, 1.1, 1.1001, 1.11, 1.2} {
+		w := w0Exp(l)
+		if r := w + math.Log(w) - l; math.Abs(r) > 4e-16*l {
+			t.Errorf("w0Exp(%v) = %v: w + ln w − l = %g", l, w, r)
+		}
+	}
+}

@@ -104,7 +104,8 @@ const (
 	// ZeroResidual: the model fits the data exactly (to rounding).
 	ZeroResidual
 	// MachinePrecision: no step could reduce the sum of squares further and the gradient
-	// test is met to √ε: the solution is as good as floating point allows.
+	// test is met to √ε (1e-6 with finite differences): the solution is as good as
+	// floating point allows.
 	MachinePrecision
 
 	// IterationLimit: Settings.MaxIterations was reached first.
