@@ -4,7 +4,8 @@
  * Timing. Timer1 runs in CTC mode; each compare match A is one fast sample tick. Its
  * interrupt stamps the tick with the device clock and starts a block of conversions; the
  * ADC interrupt starts each following conversion of the block, so no conversion waits for
- * the main loop. The sample's time is the tick, which is exact to the crystal.
+ * the main loop. The sample's time is the tick, which is exact to the crystal; the tick
+ * is a whole number of microseconds.
  *
  * ADC clock. The prescaler is 128: 16 MHz / 128 = 125 kHz, inside the 50..200 kHz the
  * datasheet asks for full 10-bit resolution (ATmega328P datasheet, ADC chapter, section
@@ -42,12 +43,9 @@
 static volatile struct sample queue[QLEN];
 static volatile uint8_t q_head, q_tail;
 
-/* Device clock: whole microseconds plus a half-microsecond remainder. A tick is
- * tick_us microseconds, plus half a microsecond when tick_half is set. */
+/* Device clock in microseconds; a tick is tick_us long. */
 static volatile uint32_t clock_us;
-static volatile uint8_t clock_half;
 static uint32_t tick_us;
-static uint8_t tick_half;
 
 static volatile uint32_t overruns;
 
@@ -56,7 +54,7 @@ static volatile uint8_t running;
 static volatile uint8_t busy;
 static uint8_t n_ch;
 static uint8_t admux_ref = 0xff; /* none yet: the first configure settles */
-static uint8_t count_half;        /* half-microseconds per Timer1 count */
+static uint8_t slow_timer;        /* Timer1 at 16 us a count instead of 0.5 us */
 static uint8_t cur_ch;
 static uint8_t cur_n;
 static uint8_t discard;
@@ -111,26 +109,23 @@ static void settle(uint8_t n)
 
 void adc_configure(uint16_t fast_hz, uint8_t nch, uint8_t ref)
 {
-	/* Timer1 prescaler 8 (0.5 us a count) down to 31 Hz, else 256 (16 us a count). */
-	uint8_t cs = _BV(CS11), half_per_count = 1;
-	uint32_t ticks = (F_CPU / 8 + fast_hz / 2) / fast_hz;
-	if (ticks > 65536UL) {
-		cs = _BV(CS12);
-		half_per_count = 32;
-		ticks = (F_CPU / 256 + fast_hz / 2) / fast_hz;
-	}
-	uint32_t half = ticks * half_per_count;
+	/* The tick is a whole number of microseconds, the nearest to 1/fast_hz (at most
+	 * 0.5 us off: 0.03 % at 1 kHz). Timer1 counts 0.5 us (prescaler 8) for ticks up to
+	 * 32.768 ms, else 16 us (prescaler 256; the tick then rounds to 16 us, 0.05 % at
+	 * 30 Hz). */
+	uint32_t us = (1000000UL + fast_hz / 2) / fast_hz;
+	uint8_t slow = us > 32768UL;
+	uint16_t top = slow ? (uint16_t)((us + 8) >> 4) - 1 : (uint16_t)(us * 2 - 1);
 
 	ATOMIC_BLOCK(ATOMIC_FORCEON)
 	{
 		TIMSK1 = 0;
 		TCCR1B = 0;
 		/* Carry the elapsed part of the old period into the clock, so the clock
-		 * keeps true time across a rate change. */
-		uint32_t el_half = (uint32_t)TCNT1 * count_half + clock_half;
-		clock_us += el_half >> 1;
-		clock_half = (uint8_t)(el_half & 1);
-		count_half = half_per_count;
+		 * keeps time across a rate change. */
+		clock_us += slow_timer ? (uint32_t)TCNT1 << 4 : TCNT1 >> 1;
+		slow_timer = slow;
+		tick_us = slow ? ((uint32_t)top + 1) << 4 : us;
 		ADCSRA = _BV(ADEN) | _BV(ADIF) | ADC_PRESCALER_BITS; /* stop any block */
 		busy = 0;
 		q_head = q_tail = 0;
@@ -142,13 +137,11 @@ void adc_configure(uint16_t fast_hz, uint8_t nch, uint8_t ref)
 			ADMUX = rb;
 			settle(4);
 		}
-		tick_us = half >> 1;
-		tick_half = (uint8_t)(half & 1);
 		TCCR1A = 0;
 		TCCR1B = _BV(WGM12); /* CTC, clock still off */
 		TCNT1 = 0;
-		OCR1A = (uint16_t)(ticks - 1);
-		TCCR1B = _BV(WGM12) | cs;
+		OCR1A = top;
+		TCCR1B = _BV(WGM12) | (slow ? _BV(CS12) : _BV(CS11));
 		TIFR1 = _BV(OCF1A);
 		TIMSK1 = _BV(OCIE1A);
 	}
@@ -163,8 +156,6 @@ void adc_run(uint8_t on)
 ISR(TIMER1_COMPA_vect)
 {
 	uint32_t c = clock_us + tick_us;
-	if (tick_half && (clock_half ^= 1) == 0)
-		c++;
 	clock_us = c;
 	if (!running)
 		return;

@@ -196,23 +196,21 @@ static int8_t lookup(PGM_P list, const char *tag)
 	return -1;
 }
 
-/* Apply the fields of settings command c to n; 0 or an error code. */
+/* Apply the fields of settings command c to n (a copy of cfg, dropped if refused);
+ * 0 or an error code. Keys this firmware does not know are ignored. */
 static uint8_t set_fields(uint8_t c, struct settings *n)
 {
 	uint8_t ch = 0, have = (c == C_CAL || c == C_REF) ? 0 : 1;
-	int32_t val[MAX_FIELDS];
-	int8_t which[MAX_FIELDS];
-	/* Check every value first, so a refused command changes nothing. */
+	/* ch and src first: the other keys of the command depend on them. */
 	for (uint8_t i = 0; i < nfields; i++) {
-		which[i] = -1;
+		int32_t v;
 		if (c == C_CAL && strcmp_P(fkey[i], PSTR("ch")) == 0) {
-			if (!parse_num(fval[i], 0, 0, &val[i]))
+			if (!parse_num(fval[i], 0, 0, &v))
 				return E_SYNTAX;
-			if (val[i] >= MAX_CH)
+			if (v >= MAX_CH)
 				return E_RANGE;
-			ch = (uint8_t)val[i];
+			ch = (uint8_t)v;
 			have = 1;
-			continue;
 		}
 		if (c == C_REF && strcmp_P(fkey[i], PSTR("src")) == 0) {
 			int8_t r = lookup(PSTR("avcc\0int\0ext\0"), fval[i]);
@@ -220,34 +218,32 @@ static uint8_t set_fields(uint8_t c, struct settings *n)
 				return E_RANGE;
 			n->ref = (uint8_t)r;
 			have = 1;
-			continue;
-		}
-		for (uint8_t k = 0; k < sizeof params / sizeof params[0]; k++) {
-			struct param p;
-			memcpy_P(&p, &params[k], sizeof p);
-			if (p.cmd != c || strcmp(fkey[i], p.key) != 0)
-				continue;
-			if (!parse_num(fval[i], p.kind == K_MICRO ? 6 : 0, p.kind >= K_I32, &val[i]))
-				return E_SYNTAX;
-			if (val[i] < p.min || val[i] > p.max)
-				return E_RANGE;
-			which[i] = (int8_t)k;
 		}
 	}
 	if (!have)
 		return E_SYNTAX;
 	for (uint8_t i = 0; i < nfields; i++) {
-		if (which[i] < 0)
-			continue; /* ch, src, or a key this firmware does not know */
-		struct param p;
-		memcpy_P(&p, &params[(uint8_t)which[i]], sizeof p);
-		if (c == C_REF) {
-			if (val[i]) /* ref_uv=0 keeps the stored calibration of the source */
-				n->ref_uv[n->ref] = (uint32_t)val[i];
-			continue;
+		const struct param *pp = params;
+		for (uint8_t k = 0; k < sizeof params / sizeof params[0]; k++, pp++) {
+			struct param p;
+			int32_t v;
+			memcpy_P(&p, pp, sizeof p);
+			if (p.cmd != c || strcmp(fkey[i], p.key) != 0)
+				continue;
+			if (!parse_num(fval[i], p.kind == K_MICRO ? 6 : 0, p.kind >= K_I32, &v))
+				return E_SYNTAX;
+			if (v < p.min || v > p.max)
+				return E_RANGE;
+			uint8_t *dst = (uint8_t *)n + p.off;
+			if (p.per_ch)
+				dst += 4u * ch;
+			if (c == C_REF) {
+				if (v == 0)
+					continue; /* ref_uv=0 keeps the stored calibration */
+				dst += 4u * n->ref;
+			}
+			memcpy(dst, &v, p.kind == K_U8 ? 1 : p.kind == K_U16 ? 2 : 4);
 		}
-		uint8_t *dst = (uint8_t *)n + p.off + (p.per_ch ? 4u * ch : 0u);
-		memcpy(dst, &val[i], p.kind == K_U8 ? 1 : p.kind == K_U16 ? 2 : 4);
 	}
 	/* The rules between settings (PROTOCOL.md, "Host commands"). */
 	uint8_t slots = cap_slots(n->nch);

@@ -35,15 +35,17 @@
 
 #define MAX_CH 4
 
-/* Transmit queue (bytes, power of two). */
-#define TX_SIZE 256
+/* Transmit queue (bytes, power of two, at least the longest A frame). */
+#define TX_SIZE 128
 /* Receive queue (bytes, power of two) and the longest command line accepted. */
 #define RX_SIZE 32
-#define CMD_MAX 72
+#define CMD_MAX 63
 
 /* Pre-trigger ring: bytes of storage, shared between the channels. One slot is a
- * 32-bit time stamp plus one 16-bit count per enabled channel. */
-#define RING_BYTES 408
+ * 32-bit time stamp plus one 16-bit count per enabled channel, so the ring holds 48
+ * samples with one channel, 36 with two, 28 with three and 24 with four; `pre` can be
+ * at most two less. */
+#define RING_BYTES 288
 
 /* Status frame period, seconds. */
 #define ST_PERIOD_S 10

@@ -12,7 +12,8 @@
 #include <avr/wdt.h>
 #include <stddef.h>
 #include <string.h>
-#include <util/crc16.h>
+
+#include "frame.h"
 
 #define MAGIC 0xCC5Eu
 #define LAYOUT 1
@@ -22,11 +23,7 @@ static struct settings EEMEM ee_cfg;
 
 static uint16_t crc_of(const struct settings *s)
 {
-	const uint8_t *p = (const uint8_t *)s;
-	uint16_t c = 0;
-	for (uint8_t i = 0; i < offsetof(struct settings, crc); i++)
-		c = _crc_xmodem_update(c, p[i]);
-	return c;
+	return frame_crc16(0, (const char *)s, offsetof(struct settings, crc));
 }
 
 /* The defaults of PROTOCOL.md (the ID and CH examples). */

@@ -23,9 +23,10 @@ static volatile uint8_t tx_full_flag;
 static volatile uint8_t rx_buf[RX_SIZE];
 static volatile uint8_t rx_head, rx_tail;
 
-#if TX_SIZE != 256
-#error "uart.c uses 8-bit indices: TX_SIZE must be 256"
+#if TX_SIZE > 128 || (TX_SIZE & (TX_SIZE - 1))
+#error "TX_SIZE must be a power of two up to 128"
 #endif
+#define TX_MASK (TX_SIZE - 1)
 
 void uart_init(void)
 {
@@ -36,7 +37,7 @@ void uart_init(void)
 	UCSR0B = _BV(RXEN0) | _BV(TXEN0) | _BV(RXCIE0);
 }
 
-uint16_t uart_tx_used(void)
+uint8_t uart_tx_used(void)
 {
 	uint8_t h, t, f;
 	ATOMIC_BLOCK(ATOMIC_RESTORESTATE)
@@ -47,10 +48,10 @@ uint16_t uart_tx_used(void)
 	}
 	if (f)
 		return TX_SIZE;
-	return (uint8_t)(h - t);
+	return (uint8_t)((h - t) & TX_MASK);
 }
 
-uint16_t uart_tx_free(void)
+uint8_t uart_tx_free(void)
 {
 	return TX_SIZE - uart_tx_used();
 }
@@ -59,7 +60,7 @@ void uart_put_nowait(uint8_t b)
 {
 	uint8_t h = tx_head;
 	tx_buf[h] = b;
-	h++;
+	h = (uint8_t)((h + 1) & TX_MASK);
 	ATOMIC_BLOCK(ATOMIC_RESTORESTATE)
 	{
 		tx_head = h;
@@ -92,7 +93,7 @@ ISR(USART_UDRE_vect)
 		return;
 	}
 	UDR0 = tx_buf[t];
-	tx_tail = (uint8_t)(t + 1);
+	tx_tail = (uint8_t)((t + 1) & TX_MASK);
 	tx_full_flag = 0;
 }
 

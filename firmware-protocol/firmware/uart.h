@@ -9,9 +9,9 @@
 void uart_init(void);
 
 /* Free bytes in the transmit queue. */
-uint16_t uart_tx_free(void);
+uint8_t uart_tx_free(void);
 /* Bytes waiting in the transmit queue. */
-uint16_t uart_tx_used(void);
+uint8_t uart_tx_used(void);
 /* Queue one byte; the caller has checked uart_tx_free(). */
 void uart_put_nowait(uint8_t b);
 /* Queue one byte, waiting (with the watchdog fed) while the queue is full. */
