@@ -42,29 +42,27 @@ static void reply_ok(const char *tag)
 	out_end_wait();
 }
 
+/* The nth entry of a list of "\0"-separated program-memory strings. */
+static PGM_P nth(PGM_P list, uint8_t n)
+{
+	while (n--)
+		list += strlen_P(list) + 1;
+	return list;
+}
+
 static void reply_er(const char *tag, uint8_t code)
 {
-	static const char m1[] PROGMEM = "unknown";
-	static const char m2[] PROGMEM = "range";
-	static const char m3[] PROGMEM = "syntax";
-	static const char m4[] PROGMEM = "busy";
-	static const char m5[] PROGMEM = "eeprom";
-	static const char m6[] PROGMEM = "crc";
-	static PGM_P const msgs[] PROGMEM = {m1, m2, m3, m4, m5, m6};
 	out_begin(FRAME_P("ER"));
 	frame_key_str(&out_f, PSTR("cmd"), tag ? tag : "?");
 	frame_key_u32(&out_f, PSTR("code"), code);
-	frame_key_pstr(&out_f, PSTR("msg"), (PGM_P)pgm_read_word(&msgs[code - 1]));
+	frame_key_pstr(&out_f, PSTR("msg"),
+		       nth(PSTR("unknown\0range\0syntax\0busy\0eeprom\0crc"), code - 1));
 	out_end_wait();
 }
 
 static PGM_P ref_name(uint8_t r)
 {
-	if (r == REF_INT)
-		return PSTR("int");
-	if (r == REF_EXT)
-		return PSTR("ext");
-	return PSTR("avcc");
+	return nth(PSTR("avcc\0int\0ext"), r);
 }
 
 void send_id(uint8_t boot)
@@ -157,12 +155,12 @@ static uint8_t parse_num(const char *s, uint8_t frac, uint8_t neg, int32_t *out)
 /* ---- settings commands, table-driven ---- */
 
 enum { C_RATE, C_CHAN, C_BURST, C_REF, C_CAL };
-enum { K_U8, K_U16, K_U32, K_I32, K_MICRO };
-
 struct param {
 	char key[8];
 	uint8_t cmd;
-	uint8_t kind;
+	uint8_t size;    /* bytes of the setting: 1, 2 or 4 */
+	uint8_t frac;    /* 6 for a decimal in millionths, else 0 */
+	uint8_t neg;     /* a "-" is allowed */
 	uint8_t off;     /* offset in struct settings; per-channel arrays add 4 * ch */
 	uint8_t per_ch;
 	int32_t min, max;
@@ -171,16 +169,16 @@ struct param {
 #define OFF(f) ((uint8_t)offsetof(struct settings, f))
 
 static const struct param params[] PROGMEM = {
-	{"slow_hz", C_RATE, K_U16, OFF(slow_hz), 0, 1, 65535},
-	{"fast_hz", C_RATE, K_U16, OFF(fast_hz), 0, 1, 65535},
-	{"n", C_CHAN, K_U8, OFF(nch), 0, 1, MAX_CH},
-	{"thr", C_BURST, K_U16, OFF(thr), 0, 0, 65535},
-	{"pre", C_BURST, K_U8, OFF(pre), 0, 0, 255},
-	{"post", C_BURST, K_U16, OFF(post), 0, 1, 65535},
-	{"ref_uv", C_REF, K_U32, OFF(ref_uv), 0, 0, 6000000L},
-	{"div", C_CAL, K_MICRO, OFF(div), 1, 1, 1000000L},
-	{"gain", C_CAL, K_MICRO, OFF(gain), 1, 1, 10000000L},
-	{"off_uv", C_CAL, K_I32, OFF(off_uv), 1, -100000000L, 100000000L},
+	{"slow_hz", C_RATE, 2, 0, 0, OFF(slow_hz), 0, 1, 65535},
+	{"fast_hz", C_RATE, 2, 0, 0, OFF(fast_hz), 0, 1, 65535},
+	{"n", C_CHAN, 1, 0, 0, OFF(nch), 0, 1, MAX_CH},
+	{"thr", C_BURST, 2, 0, 0, OFF(thr), 0, 0, 65535},
+	{"pre", C_BURST, 1, 0, 0, OFF(pre), 0, 0, 255},
+	{"post", C_BURST, 2, 0, 0, OFF(post), 0, 1, 65535},
+	{"ref_uv", C_REF, 4, 0, 0, OFF(ref_uv), 0, 0, 6000000L},
+	{"div", C_CAL, 4, 6, 1, OFF(div), 1, 1, 1000000L},
+	{"gain", C_CAL, 4, 6, 1, OFF(gain), 1, 1, 10000000L},
+	{"off_uv", C_CAL, 4, 0, 1, OFF(off_uv), 1, -100000000L, 100000000L},
 };
 
 static const char cmd_names[] PROGMEM = "rate\0chan\0burst\0ref\0cal\0";
@@ -230,7 +228,7 @@ static uint8_t set_fields(uint8_t c, struct settings *n)
 			memcpy_P(&p, pp, sizeof p);
 			if (p.cmd != c || strcmp(fkey[i], p.key) != 0)
 				continue;
-			if (!parse_num(fval[i], p.kind == K_MICRO ? 6 : 0, p.kind >= K_I32, &v))
+			if (!parse_num(fval[i], p.frac, p.neg, &v))
 				return E_SYNTAX;
 			if (v < p.min || v > p.max)
 				return E_RANGE;
@@ -242,7 +240,7 @@ static uint8_t set_fields(uint8_t c, struct settings *n)
 					continue; /* ref_uv=0 keeps the stored calibration */
 				dst += 4u * n->ref;
 			}
-			memcpy(dst, &v, p.kind == K_U8 ? 1 : p.kind == K_U16 ? 2 : 4);
+			memcpy(dst, &v, p.size); /* little-endian: the low bytes */
 		}
 	}
 	/* The rules between settings (PROTOCOL.md, "Host commands"). */

@@ -36,18 +36,14 @@ void early_reset_cause(void)
 	wdt_disable();
 }
 
+/* The MCUSR flags in bit order: PORF, EXTRF, BORF, WDRF. */
 static PGM_P cause_of(uint8_t m)
 {
-	if (m & _BV(PORF))
-		return PSTR("por");
-	if (m & _BV(BORF))
-		return PSTR("bod");
-	if (m & _BV(WDRF))
-		return PSTR("wdt");
-	if (m & _BV(EXTRF))
-		return PSTR("ext");
-	/* No flag: a boot loader cleared MCUSR before starting us (some do). */
-	return PSTR("unk");
+	PGM_P name = PSTR("por\0ext\0bod\0wdt\0unk");
+	for (uint8_t i = 0; i < 4 && !(m & 1); i++, m >>= 1)
+		name += 4;
+	/* No flag: a boot loader cleared MCUSR before starting us (some do): "unk". */
+	return name;
 }
 
 int main(void)
