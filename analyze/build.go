@@ -160,7 +160,7 @@ func (b *builder) trigger() {
 		rv = append(rv, c.ResetV)
 		ft = append(ft, c.FireS/3600)
 		pul = append(pul, c.PulseS())
-		if k > 0 && !gapBetween(b.sum.Segments, cs[k-1].FireS, c.FireS) {
+		if k > 0 && c.ChargeS == c.ChargeS { // a charge time: no gap or slow fall between
 			per = append(per, c.FireS-cs[k-1].FireS)
 		}
 	}
@@ -175,15 +175,6 @@ func (b *builder) trigger() {
 			tf.OnDriftVPerH = est(l.b, l.bSD, "fitted")
 		}
 	}
-}
-
-func gapBetween(segs []detect.Segment, t0, t1 float64) bool {
-	for _, s := range segs {
-		if s.Kind == detect.KindGap && s.StartS >= t0 && s.EndS <= t1 {
-			return true
-		}
-	}
-	return false
 }
 
 // leakTau finds the total time constant of the slow decays (all drains together), which

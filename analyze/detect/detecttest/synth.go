@@ -64,6 +64,16 @@ type Truth struct {
 
 // Generate samples the circuit from 0 to durS.
 func Generate(c Circuit, light []Light, durS float64, s Sampling, a ADC) (t, v []float64, tr Truth) {
+	tr = Stream(c, light, durS, s, a, func(ts, vs float64) {
+		t = append(t, ts)
+		v = append(v, vs)
+	})
+	return t, v, tr
+}
+
+// Stream is Generate handing each sample to emit instead of keeping them (for long
+// captures); the truth's event lists still grow with the number of cycles.
+func Stream(c Circuit, light []Light, durS float64, s Sampling, a ADC, emit func(t, v float64)) (tr Truth) {
 	rng := rand.New(rand.NewPCG(a.Seed, a.Seed^0x9e3779b97f4a7c15))
 	tr.TauLeakS = c.C * c.RLeakOhm
 	rOn := c.RLeakOhm * c.RLoadOhm / (c.RLeakOhm + c.RLoadOhm)
@@ -71,6 +81,7 @@ func Generate(c Circuit, light []Light, durS float64, s Sampling, a ADC) (t, v [
 	st := state{c: c, light: light, rOn: rOn, t0: 0, v0: c.V0}
 	lastReset := math.Inf(-1)
 	now := 0.0
+	step := 0
 	for now <= durS {
 		vt := st.advance(now, &tr)
 		if len(tr.ResetS) > 0 {
@@ -85,8 +96,7 @@ func Generate(c Circuit, light []Light, durS float64, s Sampling, a ADC) (t, v [
 			x = math.Round(x/lsb) * lsb
 			x = math.Max(0, math.Min(x, a.FullV-lsb))
 		}
-		t = append(t, now)
-		v = append(v, x)
+		emit(now, x)
 		dt := s.DtS
 		if s.FastDtS > 0 && (st.on || now-lastReset < s.PostS) {
 			dt = s.FastDtS
@@ -94,9 +104,15 @@ func Generate(c Circuit, light []Light, durS float64, s Sampling, a ADC) (t, v [
 		if s.JitterS > 0 {
 			dt += s.JitterS * rng.Float64()
 		}
+		if s.FastDtS == 0 && s.JitterS == 0 {
+			// uniform spacing without accumulated rounding
+			step++
+			now = float64(step) * s.DtS
+			continue
+		}
 		now += dt
 	}
-	return t, v, tr
+	return tr
 }
 
 type state struct {

@@ -1,0 +1,175 @@
+package analyze
+
+import (
+	"bufio"
+	"encoding/csv"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"runtime"
+	"runtime/metrics"
+	"strconv"
+	"sync"
+	"sync/atomic"
+	"testing"
+	"time"
+
+	"capcycle/analyze/detect/detecttest"
+	"capcycle/logger/capture"
+)
+
+var (
+	dayOnce sync.Once
+	dayPath string
+	dayErr  error
+)
+
+// dayCapture writes, once per run, a 24-hour capture at 100 Hz (8.64 million rows
+// "time_s,vcap_v") of the closed-form rover circuit under a day of light: dark nights,
+// a sine-shaped day in ten-minute steps, 2 mV noise, a 12-bit ADC.
+func dayCapture(b *testing.B) string {
+	dayOnce.Do(func() {
+		dir, err := os.MkdirTemp("", "capcycle-bench-")
+		if err != nil {
+			dayErr = err
+			return
+		}
+		dayPath = filepath.Join(dir, "day-100hz.csv")
+		f, err := os.Create(dayPath)
+		if err != nil {
+			dayErr = err
+			return
+		}
+		w := bufio.NewWriterSize(f, 1<<20)
+		w.WriteString("time_s,vcap_v\n")
+		var light []detecttest.Light
+		for t := 0.0; t < 86400; t += 600 {
+			i := 0.0
+			if h := t / 3600; h > 6 && h < 20 {
+				i = 1.5e-3 * math.Sin(math.Pi*(h-6)/14)
+			}
+			light = append(light, detecttest.Light{FromS: t, IA: i})
+		}
+		buf := make([]byte, 0, 64)
+		detecttest.Stream(wrenRC, light, 86400-0.005, detecttest.Sampling{DtS: 0.01},
+			detecttest.ADC{NoiseV: 2e-3, Bits: 12, FullV: 5, Seed: 42}, func(t, v float64) {
+				buf = strconv.AppendFloat(buf[:0], t, 'f', 6, 64)
+				buf = append(buf, ',')
+				buf = strconv.AppendFloat(buf, v, 'f', 5, 64)
+				buf = append(buf, '\n')
+				w.Write(buf)
+			})
+		if err := w.Flush(); err != nil {
+			dayErr = err
+		}
+		dayErr = f.Close()
+	})
+	if dayErr != nil {
+		b.Fatal(dayErr)
+	}
+	return dayPath
+}
+
+// parseCSV is the baseline: encoding/csv with ReuseRecord and strconv.ParseFloat, doing
+// nothing with the numbers.
+func parseCSV(path string) (int, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return 0, err
+	}
+	defer f.Close()
+	r := csv.NewReader(bufio.NewReaderSize(f, 1<<16))
+	r.ReuseRecord = true
+	if _, err := r.Read(); err != nil {
+		return 0, err
+	}
+	n := 0
+	var sink float64
+	for {
+		rec, err := r.Read()
+		if err == io.EOF {
+			break
+		}
+		if err != nil {
+			return n, err
+		}
+		t, err1 := strconv.ParseFloat(rec[0], 64)
+		v, err2 := strconv.ParseFloat(rec[1], 64)
+		if err1 != nil || err2 != nil {
+			return n, err1
+		}
+		sink += t + v
+		n++
+	}
+	_ = sink
+	return n, nil
+}
+
+// peakHeap samples the live heap (runtime/metrics, which does not stop the world as
+// runtime.ReadMemStats does) every few milliseconds until stop is closed.
+func peakHeap(stop chan struct{}, peak *atomic.Uint64) {
+	s := []metrics.Sample{{Name: "/memory/classes/heap/objects:bytes"}}
+	t := time.NewTicker(5 * time.Millisecond)
+	defer t.Stop()
+	for {
+		metrics.Read(s)
+		if v := s[0].Value.Uint64(); v > peak.Load() {
+			peak.Store(v)
+		}
+		select {
+		case <-stop:
+			return
+		case <-t.C:
+		}
+	}
+}
+
+// BenchmarkDayAnalysisVsCSVParse runs, in each iteration, the baseline parse and the
+// full analysis of the same 24-hour file, and reports both, their ratio (goal: at most
+// 1) and the analysis's peak live heap (goal: under 64 MiB).
+func BenchmarkDayAnalysisVsCSVParse(b *testing.B) {
+	if testing.Short() {
+		b.Skip("the 24-hour capture takes a while to write")
+	}
+	path := dayCapture(b)
+	var parseD, analyzeD time.Duration
+	var peak atomic.Uint64
+	var cycles, rows int
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		t0 := time.Now()
+		n, err := parseCSV(path)
+		if err != nil {
+			b.Fatal(err)
+		}
+		parseD += time.Since(t0)
+		runtime.GC()
+		stop := make(chan struct{})
+		done := make(chan struct{})
+		go func() { peakHeap(stop, &peak); close(done) }()
+		t1 := time.Now()
+		f, err := os.Open(path)
+		if err != nil {
+			b.Fatal(err)
+		}
+		res, err := Run(capture.NewReader(f, path), &Options{CapF: wrenRC.C})
+		f.Close()
+		analyzeD += time.Since(t1)
+		close(stop)
+		<-done
+		if err != nil {
+			b.Fatal(err)
+		}
+		rows, cycles = n, len(res.Cycles)
+		if res.Samples != n {
+			b.Fatalf("analysis read %d rows, the parse %d", res.Samples, n)
+		}
+	}
+	b.ReportMetric(parseD.Seconds()/float64(b.N), "parse-s/op")
+	b.ReportMetric(analyzeD.Seconds()/float64(b.N), "analyze-s/op")
+	b.ReportMetric(analyzeD.Seconds()/parseD.Seconds(), "analyze/parse")
+	b.ReportMetric(float64(peak.Load())/(1<<20), "peak-heap-MiB")
+	b.ReportMetric(float64(rows), "rows")
+	b.ReportMetric(float64(cycles), "cycles")
+}
