@@ -87,7 +87,10 @@ func covariance(res *Result, ev *evaluator, j *mat.Dense, r []float64, set Setti
 		}
 	}
 	s2 := math.NaN()
-	if res.DoF > 0 {
+	switch {
+	case set.AbsoluteWeights:
+		s2 = 1
+	case res.DoF > 0:
 		s2 = res.RSS / float64(res.DoF)
 	}
 	tq := math.NaN()

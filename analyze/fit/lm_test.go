@@ -191,3 +191,32 @@ func TestRobustLine(t *testing.T) {
 		t.Errorf("%d points down-weighted, want at least %d", rob.Outliers, n/10)
 	}
 }
+
+// TestAbsoluteWeights: with weights 1/σ² the absolute covariance is the relative one
+// divided by s² = RSS/DoF.
+func TestAbsoluteWeights(t *testing.T) {
+	d := loadSTRD(t, "misra1a") // NIST StRD Misra1a data, used here only as a curve
+	p := strdProblem(d, strdModels["misra1a"], true)
+	p.Weights = make([]float64, p.M)
+	for i := range p.Weights {
+		p.Weights[i] = 1 / (0.1 * 0.1)
+	}
+	rel, err := Solve(p, []float64{250, 5e-4}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	abs, err := Solve(p, []float64{250, 5e-4}, &Settings{AbsoluteWeights: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for k := range rel.SE {
+		if want := rel.SE[k] / rel.SD; math.Abs(abs.SE[k]/want-1) > 1e-12 {
+			t.Errorf("SE[%d] = %g, want %g", k, abs.SE[k], want)
+		}
+	}
+	// Relative weights: a common factor changes nothing (NIST StRD Misra1a certified
+	// sd(b1) = 2.7070075241, parsed from the file).
+	if e := lre(rel.SE[0], d.num(t, "certified_sd_b1"), 11); e < 6 {
+		t.Errorf("relative SE with scaled weights: LRE %.1f", e)
+	}
+}

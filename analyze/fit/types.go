@@ -81,6 +81,11 @@ type Settings struct {
 	// Jacobian and 1e-8 with finite differences.
 	RankTol float64
 
+	// AbsoluteWeights says that Problem.Weights are 1/σ_i² for known measurement
+	// errors σ_i: the covariance is then (JᵀWJ)⁻¹, not rescaled by s² = RSS/DoF.
+	// Default false: weights are relative and the residual scatter sets the scale.
+	AbsoluteWeights bool
+
 	// NoAccel turns off the geodesic acceleration (see Solve), saving one residual
 	// evaluation per trial step. Default false: acceleration on.
 	NoAccel bool
@@ -155,9 +160,11 @@ func (s Status) Err() error {
 
 // Result is the solution of a Problem with its uncertainty.
 //
-// The covariance is s²·(JᵀWJ)⁻¹ at the solution, with s² = RSS/DoF, computed from the
-// singular value decomposition of the column-scaled Jacobian so that an ill-conditioned
-// problem gives honest (large) errors instead of garbage. A parameter that lies in the
+// The covariance is s²·(JᵀWJ)⁻¹ at the solution, with s² = RSS/DoF (or 1 with
+// Settings.AbsoluteWeights), computed from the singular value decomposition of the
+// column-scaled Jacobian so that an ill-conditioned problem gives honest (large) errors
+// instead of garbage. Lo and Hi use Student's t with DoF degrees of freedom in both cases
+// (slightly conservative when the weights are absolute). A parameter that lies in the
 // numerical null space of the Jacobian is not identifiable from the data: its
 // Identifiable entry is false and its SE, Lo and Hi, and its row and column of Cov, are NaN.
 type Result struct {
