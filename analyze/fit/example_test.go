@@ -82,3 +82,42 @@ func ExampleRobustLine() {
 	// Output:
 	// drift 2.00 mV/h, 1 point(s) down-weighted
 }
+
+// Fit the single-diode model to points of a known curve and read off its operating
+// points. (Invented parameters for one cell at 25 °C; Voc, Isc and Pmp agree with an
+// independent Newton solution of the implicit equation.)
+func ExampleSingleDiode() {
+	truth := fit.DiodeParams{Iph: 0.05, I0: 1e-9, N: 1.3, Rs: 0.5, Rsh: 200}
+	vt := fit.ThermalVoltage(298.15)
+	var v, i []float64
+	for k := 0; k <= 40; k++ {
+		x := -0.1 + 0.72*float64(k)/40
+		v, i = append(v, x), append(i, truth.Current(x, vt))
+	}
+	f, err := fit.SingleDiode(v, i, 1, 298.15, nil)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	p := f.Params
+	fmt.Printf("Iph %.4f A, I0 %.3g A, n %.3f, Rs %.3f Ω, Rsh %.1f Ω\n", p.Iph, p.I0, p.N, p.Rs, p.Rsh)
+	fmt.Printf("Isc %.4f A, Voc %.4f V, Pmp %.2f mW\n", f.Isc, f.Voc, f.Pmp*1e3)
+	// Output:
+	// Iph 0.0500 A, I0 1e-09 A, n 1.300, Rs 0.500 Ω, Rsh 200.0 Ω
+	// Isc 0.0499 A, Voc 0.5901 V, Pmp 21.18 mW
+}
+
+// Residuals of a good fit look like noise; a smooth leftover curve does not.
+func ExampleResidualPattern() {
+	noise := make([]float64, 200)
+	curve := make([]float64, 200)
+	for k := range noise {
+		noise[k] = 1e-3 * math.Sin(float64(k*k)) // scrambled: a stand-in for noise
+		curve[k] = 1e-3 * math.Sin(float64(k)/30)
+	}
+	fmt.Println("noise systematic:", fit.ResidualPattern(noise, 3, 0).Systematic)
+	fmt.Println("curve systematic:", fit.ResidualPattern(curve, 3, 0).Systematic)
+	// Output:
+	// noise systematic: false
+	// curve systematic: true
+}
