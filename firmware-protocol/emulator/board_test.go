@@ -538,3 +538,95 @@ func TestReconnect(t *testing.T) {
 		prev = a
 	}
 }
+
+func TestFourChannels(t *testing.T) {
+	// Four inputs at different steady levels, each through the same divider.
+	b := startBoard(t, "0 1.5 4.25 9.75 13.5\n30 1.5 4.25 9.75 13.5\n")
+	b.bootFrames()
+	// 500 Hz is above max_hz for four channels: the rate must come down first.
+	b.send(wire.CmdChan{N: 4})
+	if r, ok := b.expectReply("chan").(wire.Nak); !ok || r.Code != wire.CodeRange {
+		t.Fatalf(">chan n=4 at 500 Hz: %+v, want ER code=2", r)
+	}
+	b.send(wire.CmdRate{SlowHz: 10, FastHz: 100})
+	b.expectReply("rate")
+	b.send(wire.CmdChan{N: 4})
+	if _, ok := b.expectReply("chan").(wire.Ack); !ok {
+		t.Fatal(">chan n=4 at 100 Hz refused")
+	}
+	id, ok := b.next().(wire.Identity)
+	if !ok || id.NCh != 4 {
+		t.Fatalf("after >chan: %+v, want nch=4", id)
+	}
+	// 16 conversions per channel plus one discarded after each mux change, 112 us
+	// each: 1e6 / (68*112 + 64) = 130 Hz. The 288-byte ring holds 24 four-channel
+	// samples, so pre comes down to 22.
+	if id.MaxHz != 130 || id.Pre != 22 {
+		t.Errorf("four channels: max_hz %d pre %d, want 130 and 22", id.MaxHz, id.Pre)
+	}
+	chans := make([]wire.Channel, 4)
+	for k := range chans {
+		c, ok := b.next().(wire.Channel)
+		if !ok || c.Ch != uint32(k) {
+			t.Fatalf("CH %d missing after ID: %+v", k, c)
+		}
+		chans[k] = c
+	}
+	want := []float64{1.5, 4.25, 9.75, 13.5}
+	for _, a := range b.averages(1, 5) {
+		if a.NCh != 4 || a.N != 10 {
+			t.Fatalf("A: %d channels of %d samples, want 4 of 10", a.NCh, a.N)
+		}
+		for k, w := range want {
+			v := chans[k].Volts(float64(a.Mean[k]), 12, 5000000)
+			if d := math.Abs(v - w); d > lsb(5) {
+				t.Errorf("channel %d: decoded %.4f V for %.2f V, off by %.2f LSB", k, v, w, d/lsb(5))
+			}
+		}
+	}
+}
+
+func TestCommandErrors(t *testing.T) {
+	b := startBoard(t, flat(5, 30))
+	b.bootFrames()
+	// A person typing in a terminal: no CRC, accepted.
+	if _, err := b.port.Write([]byte(">status\n")); err != nil {
+		t.Fatal(err)
+	}
+	if _, ok := b.expectReply("status").(wire.Ack); !ok {
+		t.Error(">status without CRC refused")
+	}
+	cases := []struct {
+		line string
+		tag  string
+		code wire.ErrorCode
+	}{
+		{">status *0000\n", "status", wire.CodeCRC},
+		{">fly\n", "fly", wire.CodeUnknown},
+		{">rate fast_hz=abc\n", "rate", wire.CodeSyntax},
+		{">burst post=0\n", "burst", wire.CodeRange},
+		{">ref src=moon\n", "ref", wire.CodeRange},
+		{">cal div=0.5\n", "cal", wire.CodeSyntax}, // ch is required
+	}
+	for _, c := range cases {
+		if _, err := b.port.Write([]byte(c.line)); err != nil {
+			t.Fatal(err)
+		}
+		r, ok := b.expectReply(c.tag).(wire.Nak)
+		if !ok || r.Code != c.code {
+			t.Errorf("%q: reply %+v, want ER code=%d", strings.TrimSpace(c.line), r, c.code)
+		}
+	}
+	// Calibration goes into the CH frames and survives >save.
+	b.send(wire.CmdCal{Ch: 0, Div: 250000, Gain: 1001200, OffUV: -3000})
+	b.expectReply("cal")
+	b.next() // ID
+	ch, ok := b.next().(wire.Channel)
+	if !ok || ch.Div != 250000 || ch.Gain != 1001200 || ch.OffUV != -3000 {
+		t.Errorf("CH after >cal: %+v", ch)
+	}
+	b.send(wire.CmdSave{})
+	if _, ok := b.expectReply("save").(wire.Ack); !ok {
+		t.Error(">save refused")
+	}
+}

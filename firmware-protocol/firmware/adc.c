@@ -138,10 +138,9 @@ void adc_configure(uint16_t fast_hz, uint8_t nch, uint8_t ref)
 			settle(4);
 		}
 		TCCR1A = 0;
-		TCCR1B = _BV(WGM12); /* CTC, clock still off */
 		TCNT1 = 0;
-		OCR1A = top;
-		TCCR1B = _BV(WGM12) | (slow ? _BV(CS12) : _BV(CS11));
+		TCCR1B = _BV(WGM12) | (slow ? _BV(CS12) : _BV(CS11)); /* CTC on OCR1A */
+		OCR1A = top; /* a few counts after the start, far from the compare */
 		TIFR1 = _BV(OCF1A);
 		TIMSK1 = _BV(OCIE1A);
 	}
