@@ -34,7 +34,7 @@ type DiodeParams struct {
 // Current returns the terminal current at voltage v, solved explicitly with the Lambert
 // W function (Jain and Kapoor 2004, "Exact analytical solutions of the parameters of
 // real solar cells using Lambert W-function", Solar Energy Materials and Solar Cells 81,
-// 269-277, eq. 2):
+// 269-277, eq. 2; journal details from memory):
 //
 //	I = (Rsh·(Iph + I0) − V)/(Rs + Rsh) − (a/Rs)·W(θ),
 //	θ = Rs·Rsh·I0/(a·(Rs + Rsh)) · exp(Rsh·(Rs·(Iph + I0) + V)/(a·(Rs + Rsh))),

@@ -33,7 +33,8 @@ const stuckCosine = 1e-4
 // algorithm: implementation and theory", Lecture Notes in Mathematics 630, section 6). The step is accepted when the gain ratio
 // ρ = (actual reduction)/(predicted reduction) exceeds 1e-4, and λ follows the gain
 // ratio: λ·max(1/3, 1−(2ρ−1)³) on success, λ·ν with ν doubling on failure (Nielsen 1999,
-// "Damping parameter in Marquardt's method", IMM-REP-1999-05). The predicted reduction is
+// "Damping parameter in Marquardt's method", IMM-REP-1999-05; report number from
+// memory). The predicted reduction is
 // ‖J·δ‖² + 2λ‖D·δ‖², which follows from the step equations and never cancels.
 //
 // Unless Settings.NoAccel is set, each step also gets half the geodesic acceleration
@@ -409,8 +410,9 @@ func (s *stepper) solve(dst, qb []float64) {
 
 // accelerate adds half the geodesic acceleration to the velocity v (in place), following
 // Transtrum and Sethna (2012, "Improvements to the Levenberg-Marquardt algorithm for
-// nonlinear least-squares minimization", arXiv:1201.5885): a solves the damped problem
-// with the directional second derivative r_vv in place of r, estimated by
+// nonlinear least-squares minimization", arXiv:1201.5885; identifier from memory): a
+// solves the damped problem with the directional second derivative r_vv in place of r,
+// estimated by
 // r_vv ≈ (2/h)·((r(x + h·v) − r(x))/h − J·v) with h = 0.1. It reports false, leaving v
 // untouched, when 2‖D·a‖/‖D·v‖ exceeds 0.75: the step runs into a region where the
 // linear model is poor, and the caller raises the damping instead.
