@@ -6,6 +6,7 @@ import (
 	"os"
 	"path/filepath"
 	"sync"
+	"syscall"
 	"testing"
 
 	"github.com/creack/pty"
@@ -41,8 +42,31 @@ func (b *testBoard) write(p []byte) {
 	b.out.Write(p)
 }
 
+func (b *testBoard) setQuiet(q bool) {
+	b.mu.Lock()
+	b.quiet = q
+	b.mu.Unlock()
+}
+
+// skip advances the counter and clock as if n samples were made and not sent.
+func (b *testBoard) skip(n int) {
+	b.mu.Lock()
+	b.seq += uint32(n)
+	b.tUS += uint32(n) * (1000000 / b.id.SlowHz)
+	b.mu.Unlock()
+}
+
+// restart sets the counter and clock as after a reset.
+func (b *testBoard) restart(seq, tUS uint32) {
+	b.mu.Lock()
+	b.seq, b.tUS = seq, tUS
+	b.mu.Unlock()
+}
+
 // idFrames is ID plus one CH per channel.
 func (b *testBoard) idFrames(boot bool) []byte {
+	b.mu.Lock()
+	defer b.mu.Unlock()
 	id := b.id
 	id.Boot = boot
 	p := wire.Append(nil, id)
@@ -164,10 +188,21 @@ func newPtyBoard(t *testing.T) *ptyBoard {
 
 // plug makes a new pty and points the link at it.
 func (pb *ptyBoard) plug() {
-	m, s, err := pty.Open()
+	m0, s, err := pty.Open()
 	if err != nil {
 		pb.t.Skip("no pseudo-terminals here:", err)
 	}
+	// A non-blocking master is run by Go's poller, so that Close ends a pending Read
+	// (and the host side sees the hang-up at once, as with a pulled cable).
+	fd, err := syscall.Dup(int(m0.Fd()))
+	if err != nil {
+		pb.t.Fatal(err)
+	}
+	m0.Close()
+	if err := syscall.SetNonblock(fd, true); err != nil {
+		pb.t.Fatal(err)
+	}
+	m := os.NewFile(uintptr(fd), "ptmx")
 	if _, err := term.MakeRaw(int(s.Fd())); err != nil {
 		pb.t.Fatal(err)
 	}

@@ -83,6 +83,7 @@ func (ss *session) handshake(rd *chunkReader, first bool) error {
 			return err
 		}
 		s.w = ss.w
+		ss.resume()
 		return nil
 	}
 	if s.written {

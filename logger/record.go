@@ -174,6 +174,16 @@ type session struct {
 	port     Port
 	path     string
 	text     *textParser
+
+	resumeS float64 // Append: rows must come after this time
+	resumed bool
+}
+
+// resume makes the stream continue after the appended file's last row.
+func (ss *session) resume() {
+	if ss.resumed && ss.s != nil {
+		ss.s.lastS, ss.s.written = ss.resumeS, true
+	}
 }
 
 // Record runs one recording until ctx is cancelled, Duration passes or Until comes, and
@@ -272,6 +282,7 @@ func (ss *session) openFile(h *capture.Header) error {
 					ss.cfg.Out, strings.Join(ex.Columns, ","), len(h.Channels))
 			}
 			ss.w, ss.start = w, ex.Start
+			ss.resumeS, ss.resumed = ex.AtS, true
 			if h.Board != "" {
 				w.Meta(capture.KeyBoard, h.Board)
 			}

@@ -182,7 +182,7 @@ func TestRecordRefusedSetting(t *testing.T) {
 
 func TestRecordNoHandshake(t *testing.T) {
 	pb := newPtyBoard(t)
-	pb.quiet = true
+	pb.setQuiet(true)
 	cfg := ptyConfig(pb)
 	cfg.Handshake = 300 * time.Millisecond
 	cfg.Out = filepath.Join(t.TempDir(), "x.csv")

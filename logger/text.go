@@ -153,6 +153,7 @@ func (ss *session) openText() error {
 	}
 	ss.s = newStream(ss.w, t.Columns, nil)
 	ss.text = newTextParser(ss.s, t)
+	ss.resume()
 	if ss.text.factor <= 0 || math.IsInf(ss.text.factor, 0) {
 		return fmt.Errorf("logger: text conversion factor %g is not usable", ss.text.factor)
 	}

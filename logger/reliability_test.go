@@ -1,0 +1,284 @@
+package logger
+
+import (
+	"context"
+	"errors"
+	"math"
+	"math/rand"
+	"os"
+	"path/filepath"
+	"strings"
+	"syscall"
+	"testing"
+	"time"
+
+	"capcycle/firmware-protocol/wire"
+	"capcycle/logger/capture"
+)
+
+// TestBitFlipsAndGarbage: damaged frames are counted and dropped, never written as
+// values; every written row is one the board sent.
+func TestBitFlipsAndGarbage(t *testing.T) {
+	pb := newPtyBoard(t)
+	cfg := ptyConfig(pb)
+	r := startRecording(t, cfg)
+	r.waitFor("0 samples")
+	frames := pb.slow(nil, 1000, func(i int) uint16 { return uint16(i) })
+	lines := strings.SplitAfter(string(frames), "\n")
+	rng := rand.New(rand.NewSource(1))
+	var out []byte
+	flipped := 0
+	for i, l := range lines {
+		b := []byte(l)
+		if i%10 == 5 && len(b) > 4 {
+			j := 1 + rng.Intn(len(b)-2)
+			b[j] ^= 1 << uint(rng.Intn(7)) // one bit flip inside the frame
+			flipped++
+		}
+		out = append(out, b...)
+		if i%97 == 0 {
+			out = append(out, "\x00\xff garbage !!! ?? \r\n"...)
+		}
+	}
+	pb.write(out)
+	r.waitFor(" samples")
+	time.Sleep(300 * time.Millisecond)
+	sum := r.stop()
+	ts, vs, _ := readCapture(t, cfg.Out)
+	if int64(len(ts)) != sum.Stats.Samples {
+		t.Fatalf("%d rows, stats say %d", len(ts), sum.Stats.Samples)
+	}
+	// Every row's value is count i at time i*0.1 s from the first: check the pairing.
+	for k := range ts {
+		i := math.Round((ts[k] - ts[0]) / 0.1)
+		if want := boardVolts(uint16(i)); math.Abs(vs[k]-want) > 1e-5 {
+			t.Fatalf("row %d at %v s: %v V, want %v (a damaged frame got through)", k, ts[k], vs[k], want)
+		}
+	}
+	if sum.Stats.BadFrames < int64(flipped)/2 || sum.Stats.Samples < 1000-int64(flipped) {
+		t.Errorf("stats %+v after %d flips", sum.Stats, flipped)
+	}
+	// A flip in a frame's seq or time field that the CRC catches is a lost sample too.
+	if sum.Stats.Samples+sum.Stats.Lost != 1000 {
+		t.Errorf("samples %d + lost %d != 1000", sum.Stats.Samples, sum.Stats.Lost)
+	}
+}
+
+// TestSequenceGaps: skipped sequence numbers become lost samples and gap lines.
+func TestSequenceGaps(t *testing.T) {
+	pb := newPtyBoard(t)
+	cfg := ptyConfig(pb)
+	r := startRecording(t, cfg)
+	r.waitFor("0 samples")
+	out := pb.slow(nil, 10, func(int) uint16 { return 100 })
+	pb.skip(5) // five samples the board could not send
+	out = pb.slow(out, 10, func(int) uint16 { return 200 })
+	pb.write(out)
+	r.waitFor("20 samples")
+	sum := r.stop()
+	if sum.Stats.Lost != 5 || sum.Stats.Gaps != 1 {
+		t.Errorf("stats %+v, want 5 lost in 1 gap", sum.Stats)
+	}
+	b, _ := os.ReadFile(cfg.Out)
+	if !strings.Contains(string(b), "reason=lost-samples lost=5\n") {
+		t.Errorf("no gap line:\n%s", b)
+	}
+	_, _, rd := readCapture(t, cfg.Out)
+	if rd.Lost() != 5 {
+		t.Errorf("reader sees %d lost", rd.Lost())
+	}
+}
+
+// TestClockWrap: the device clock wraps past 2^32 us mid-run; the time axis goes on.
+func TestClockWrap(t *testing.T) {
+	pb := newPtyBoard(t)
+	pb.tUS = math.MaxUint32 - 450000 // wraps after 5 frames
+	cfg := ptyConfig(pb)
+	r := startRecording(t, cfg)
+	r.waitFor("0 samples")
+	pb.write(pb.slow(nil, 20, func(int) uint16 { return 100 }))
+	r.waitFor("20 samples")
+	r.stop()
+	ts, _, _ := readCapture(t, cfg.Out)
+	for i := 1; i < len(ts); i++ {
+		if d := ts[i] - ts[i-1]; math.Abs(d-0.1) > 1.5e-6 {
+			t.Fatalf("row %d: step %v s across the wrap, want 0.1", i, d)
+		}
+	}
+}
+
+// TestUnplugAndReturn: the device side closes; the file keeps what it has, notes the
+// gap, and the recording resumes in the same file when the board comes back. (The test
+// board sends 5 s of device time at once, ahead of the host clock, so the new anchor is
+// just after the last row: time_s never goes back.)
+func TestUnplugAndReturn(t *testing.T) {
+	pb := newPtyBoard(t)
+	cfg := ptyConfig(pb)
+	r := startRecording(t, cfg)
+	r.waitFor("0 samples")
+	pb.write(pb.slow(nil, 50, func(int) uint16 { return 1000 }))
+	r.waitFor("50 samples")
+	pb.unplug()
+	time.Sleep(300 * time.Millisecond)
+	pb.plug() // the same board returns (no reset): seq and clock go on
+	r.waitFor("1 reconnects")
+	pb.skip(20) // made while unplugged, never sent
+	pb.write(pb.slow(nil, 50, func(int) uint16 { return 2000 }))
+	r.waitFor("100 samples")
+	sum := r.stop()
+	if sum.Reconnects != 1 || sum.Stats.Samples != 100 || sum.Stats.Lost != 20 {
+		t.Errorf("summary %+v", sum)
+	}
+	ts, vs, rd := readCapture(t, cfg.Out)
+	if len(ts) != 100 || math.Abs(vs[49]-boardVolts(1000)) > 1e-5 || math.Abs(vs[50]-boardVolts(2000)) > 1e-5 {
+		t.Fatalf("%d rows; around the gap %v %v", len(ts), vs[49], vs[50])
+	}
+	gaps := rd.Gaps()
+	if len(gaps) != 1 || gaps[0].Reason != capture.GapUnplugged || gaps[0].Lost != 20 ||
+		gaps[0].StartS != ts[49] || math.Abs(gaps[0].EndS-ts[50]) > 1e-6 || ts[50] <= ts[49] {
+		t.Errorf("gaps %+v around rows %v %v", gaps, ts[49], ts[50])
+	}
+}
+
+// TestBoardReset: a boot identity mid-run starts a new segment; time_s stays increasing.
+func TestBoardReset(t *testing.T) {
+	pb := newPtyBoard(t)
+	pb.tUS = 3000000000
+	cfg := ptyConfig(pb)
+	r := startRecording(t, cfg)
+	r.waitFor("0 samples")
+	pb.write(pb.slow(nil, 30, func(int) uint16 { return 1000 }))
+	r.waitFor("30 samples")
+	pb.restart(0, 1200) // counter and clock from zero
+	out := pb.idFrames(true)
+	out = append(out, wire.Append(nil, wire.Status{UptimeS: 0, Reset: wire.ResetPin, Running: true})...)
+	out = pb.slow(out, 30, func(int) uint16 { return 500 })
+	pb.write(out)
+	r.waitFor("60 samples")
+	sum := r.stop()
+	if sum.Segments != 2 || sum.Stats.Lost != 0 {
+		t.Errorf("summary %+v", sum)
+	}
+	ts, _, rd := readCapture(t, cfg.Out)
+	if len(ts) != 60 {
+		t.Fatalf("%d rows", len(ts))
+	}
+	rs := rd.Resets()
+	if len(rs) != 1 || rs[0].Segment != 2 || rs[0].Cause != "ext" || rs[0].AtS != ts[30] {
+		t.Errorf("resets %+v, row 30 at %v", rs, ts[30])
+	}
+}
+
+// TestSilentBoard: a board that sends nothing for a while (the serial library's read
+// timeouts return (0, nil) many times over) does not end or spoil the recording.
+func TestSilentBoard(t *testing.T) {
+	pb := newPtyBoard(t)
+	cfg := ptyConfig(pb)
+	cfg.Mode = &Mode{ReadTimeout: 10 * time.Millisecond} // 100 timeouts a second
+	r := startRecording(t, cfg)
+	r.waitFor("0 samples")
+	pb.write(pb.slow(nil, 5, func(int) uint16 { return 1 }))
+	r.waitFor("5 samples")
+	time.Sleep(1500 * time.Millisecond) // > 100 empty reads: bufio would have given up
+	pb.write(pb.slow(nil, 5, func(int) uint16 { return 2 }))
+	r.waitFor("10 samples")
+	if sum := r.stop(); sum.Reconnects != 0 {
+		t.Errorf("a silent board caused %d reconnects", sum.Reconnects)
+	}
+}
+
+// TestRetryPortNoProgress: a bufio reader over the wrapped port never sees
+// io.ErrNoProgress however many timeouts come first.
+func TestRetryPortWaits(t *testing.T) {
+	pb := newPtyBoard(t)
+	p, err := Open(pb.link, &Mode{ReadTimeout: 5 * time.Millisecond})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer p.Close()
+	go func() { time.Sleep(800 * time.Millisecond); pb.write([]byte("hello\n")) }()
+	b := make([]byte, 16)
+	n, err := p.Read(b) // 160 library timeouts pass inside this call
+	if err != nil || string(b[:n]) != "hello\n" {
+		t.Fatalf("read %q %v", b[:n], err)
+	}
+	pb.unplug()
+	if _, err := p.Read(b); err == nil {
+		t.Fatal("read after unplug: no error")
+	} else if pe := (*PortError)(nil); !errors.As(err, &pe) || pe.Kind != PortGone {
+		t.Fatalf("read after unplug: %v, want a PortGone PortError", err)
+	}
+}
+
+// TestDiskFull: a capture on a full disk stops the recording with a clear error.
+func TestDiskFull(t *testing.T) {
+	pb := newPtyBoard(t)
+	cfg := ptyConfig(pb)
+	cfg.Out = "/dev/full"
+	cfg.Force = true
+	if _, err := os.Stat("/dev/full"); err != nil {
+		t.Skip("no /dev/full")
+	}
+	_, err := Record(context.Background(), cfg)
+	if !errors.Is(err, syscall.ENOSPC) {
+		t.Fatalf("recording to /dev/full: %v, want ENOSPC", err)
+	}
+}
+
+func TestTextInput(t *testing.T) {
+	pb := newPtyBoard(t)
+	pb.setQuiet(true)
+	cfg := ptyConfig(pb)
+	cfg.Input = InputText
+	cfg.Text = TextInput{Bits: 10, VrefV: 5, Divider: 0.5, Columns: 2}
+	cfg.Columns = []string{"vcell_v"}
+	r := startRecording(t, cfg)
+	time.Sleep(100 * time.Millisecond)
+	pb.write([]byte("hello from other firmware\n512,100\n256 200\r\n1023\t300\nbad,1\n1 2 3\n"))
+	r.waitFor("4 samples")
+	sum := r.stop()
+	if sum.Stats.BadFrames != 2 {
+		t.Errorf("bad lines %d, want 2", sum.Stats.BadFrames)
+	}
+	b, _ := os.ReadFile(cfg.Out)
+	text := string(b)
+	for _, want := range []string{"time_s,vcap_v,vcell_v\n", ",5.00000,0.97656\n", ",2.50000,1.95312\n", ",9.99023,2.92969\n", ",0.00977,0.01953\n"} {
+		if !strings.Contains(text, want) {
+			t.Errorf("capture lacks %q:\n%s", want, text)
+		}
+	}
+	if got := pbCmds(pb); got != "" {
+		t.Errorf("text input sent commands %q", got)
+	}
+}
+
+func TestAppendContinues(t *testing.T) {
+	pb := newPtyBoard(t)
+	out := filepath.Join(t.TempDir(), "day.csv")
+	cfg := ptyConfig(pb)
+	cfg.Out = out
+	r := startRecording(t, cfg)
+	r.waitFor("0 samples")
+	pb.write(pb.slow(nil, 20, func(int) uint16 { return 7 }))
+	r.waitFor("20 samples")
+	r.stop()
+	// A torn last line, as a kill -9 mid-write leaves.
+	f, _ := os.OpenFile(out, os.O_WRONLY|os.O_APPEND, 0)
+	f.WriteString("99.000000,0.00")
+	f.Close()
+	cfg2 := ptyConfig(pb)
+	cfg2.Out, cfg2.Append = out, true
+	r2 := startRecording(t, cfg2)
+	r2.waitFor("0 samples")
+	pb.write(pb.slow(nil, 20, func(int) uint16 { return 9 }))
+	r2.waitFor("20 samples")
+	r2.stop()
+	ts, _, rd := readCapture(t, out)
+	if len(ts) != 40 || rd.Torn() {
+		t.Fatalf("%d rows after append (torn %v)", len(ts), rd.Torn())
+	}
+	b, _ := os.ReadFile(out)
+	if !strings.Contains(string(b), "# append: at=") || !strings.Contains(string(b), "reason=stopped") {
+		t.Errorf("no append note:\n%s", b)
+	}
+}
