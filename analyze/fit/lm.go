@@ -129,7 +129,7 @@ outer:
 			rho := -1.0
 			accelOK := true
 			if !set.NoAccel && !frozen {
-				accelOK = lm.accelerate(ev, delta, accel, x, r, jd, d, lambda)
+				accelOK = lm.accelerate(ev, delta, accel, x, r, jd, d)
 			}
 			if accelOK {
 				floats.AddTo(xt, x, delta)
@@ -416,7 +416,7 @@ func (s *stepper) solve(dst, qb []float64) {
 // r_vv ≈ (2/h)·((r(x + h·v) − r(x))/h − J·v) with h = 0.1. It reports false, leaving v
 // untouched, when 2‖D·a‖/‖D·v‖ exceeds 0.75: the step runs into a region where the
 // linear model is poor, and the caller raises the damping instead.
-func (s *stepper) accelerate(ev *evaluator, v, a, x, r, jv, d []float64, lambda float64) bool {
+func (s *stepper) accelerate(ev *evaluator, v, a, x, r, jv, d []float64) bool {
 	const h, alpha = 0.1, 0.75
 	xh := ev.xh
 	for i := range x {
