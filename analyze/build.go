@@ -266,7 +266,10 @@ func (b *builder) load() {
 		taus = append(taus, inf.exp.tau)
 		sds = append(sds, inf.exp.tauSD)
 		rms = append(rms, inf.exp.rms)
-		if inf.exp.systematic {
+		// Not a resistor: the residuals are systematic (runs and chi-square against the
+		// noise) and large enough to matter (over 0.1 % of the fall; a noise-free trace
+		// shows systematic residuals of the integrator alone).
+		if inf.exp.systematic && inf.exp.rms > 1e-3*inf.fallV {
 			nSys++
 		}
 		if !math.IsNaN(inf.earlyTau) && !math.IsNaN(inf.lateTau) {

@@ -22,7 +22,8 @@ type collector struct {
 
 // swingInfo is what is kept per swing.
 type swingInfo struct {
-	exp expResult // falls (from the onset), and rises that level off or end the capture
+	exp   expResult // falls (from the onset), and rises that level off or end the capture
+	fallV float64   // falls: the height
 	// effective time constants early and late in a fall: (V - vinf) / (-dV/dt)
 	earlyTau, lateTau float64
 	iv                []ivPt // rises: traced points
@@ -50,7 +51,7 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 	}
 	inf := &c.info[i]
 	inf.trace = compact(pts, tracePts)
-	noise := c.det.NoiseV()
+	noise := math.Max(c.det.NoiseV(), c.det.StepV()/math.Sqrt(12))
 	if !s.Up {
 		// Only the samples strictly inside the pulse: the onset sample is still on the
 		// charging curve (the switch closed after it) and the reset sample may already be
@@ -63,6 +64,7 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 			}
 		}
 		inf.exp = fitExp(c.ts, c.vs, noise)
+		inf.fallV = s.AmplitudeV()
 		if inf.exp.ok {
 			inf.earlyTau, inf.lateTau = localTaus(c.ts, c.vs, inf.exp.vinf)
 		}

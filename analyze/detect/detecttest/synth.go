@@ -202,3 +202,30 @@ func (s *state) advance(t float64, tr *Truth) float64 {
 		}
 	}
 }
+
+// Noise adds an ADC's noise, spikes and quantisation to true voltages, for traces made
+// by another simulator.
+type Noise struct {
+	a   ADC
+	rng *rand.Rand
+}
+
+// NewNoise returns a Noise for a.
+func NewNoise(a ADC) *Noise {
+	return &Noise{a: a, rng: rand.New(rand.NewPCG(a.Seed, a.Seed^0x9e3779b97f4a7c15))}
+}
+
+// Measure returns the measured value of true voltage v; firing says whether the load is
+// on (spikes happen only then).
+func (n *Noise) Measure(v float64, firing bool) float64 {
+	x := v + n.a.NoiseV*n.rng.NormFloat64()
+	if firing && n.a.SpikeV > 0 && n.rng.Float64() < 0.3 {
+		x += n.a.SpikeV * (2*n.rng.Float64() - 1)
+	}
+	if n.a.Bits > 0 {
+		lsb := n.a.FullV / float64(int(1)<<n.a.Bits)
+		x = math.Round(x/lsb) * lsb
+		x = math.Max(0, math.Min(x, n.a.FullV-lsb))
+	}
+	return x
+}

@@ -1,0 +1,141 @@
+package analyze
+
+import (
+	"math"
+	"testing"
+
+	"capcycle/analyze/detect/detecttest"
+	"capcycle/analyze/model"
+)
+
+// shifted starts a light at an offset into its day.
+type shifted struct {
+	l   model.Light
+	off float64
+}
+
+func (s shifted) IrradianceWm2(t float64) float64 { return s.l.IrradianceWm2(t + s.off) }
+
+// simulate runs a circuit and returns its samples, with noise and ADC steps added.
+func simulate(t *testing.T, c *model.Circuit, light model.Light, durS, rateHz, startV float64, adc detecttest.ADC) ([]float64, []float64, *model.Result) {
+	t.Helper()
+	var ts, vs []float64
+	noise := detecttest.NewNoise(adc)
+	res, err := model.Simulate(c, light, &model.Options{DurationS: durS, StartV: startV, RateHz: rateHz,
+		OnSample: func(s model.Sample) {
+			ts = append(ts, s.TS)
+			vs = append(vs, noise.Measure(s.V, s.On))
+		}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return ts, vs, res
+}
+
+// The built-in Wren scenario around noon (a hold-capacitor trigger and a DC motor):
+// every completed fire found within one sample, the motor's pulse flagged as not a
+// plain resistor.
+func TestModelWren(t *testing.T) {
+	sc, err := model.Scenario("wren")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, adc := range []detecttest.ADC{{}, {NoiseV: 2e-3, Bits: 10, FullV: 5, Seed: 21}, {NoiseV: 1e-3, Bits: 12, FullV: 5, Seed: 22}} {
+		const rate = 200
+		ts, vs, sim := simulate(t, sc.Circuit, shifted{sc.Light, 12 * 3600}, 600, rate, 2.0, adc)
+		res := RunSamples(ts, vs, &Options{CapF: sc.Circuit.Storage.CapF, ProbeOhm: sc.Circuit.ProbeOhm})
+		fires := 0
+		for _, c := range sim.Cycles {
+			if !math.IsNaN(c.FireS) && c.ResetS < ts[len(ts)-3] {
+				fires++
+			}
+		}
+		full := 0
+		for _, c := range res.Cycles {
+			if c.Kind == "full" {
+				full++
+			}
+		}
+		if full != fires || fires == 0 {
+			t.Errorf("%+v: %d full cycles (%d chatter), the model had %d", adc, full, len(res.Cycles)-full, fires)
+			continue
+		}
+		k := 0
+		for _, c := range sim.Cycles {
+			if math.IsNaN(c.FireS) || c.ResetS >= ts[len(ts)-3] {
+				continue
+			}
+			got := res.Cycles[k]
+			k++
+			if math.Abs(got.FireS-c.FireS) > 1.0/rate+1e-9 {
+				t.Errorf("%+v: fire at %.4f s, model %.4f s", adc, got.FireS, c.FireS)
+			}
+		}
+		if r := res.Fit.Load.Resistive; r == nil || *r {
+			t.Errorf("%+v: the motor load was taken for a resistor (resistive %v)", adc, r)
+		}
+	}
+}
+
+// The model with a resistor load and a plain voltage trigger: the pulse's time constant
+// within 2 % of C (R_load || R_leak || R_probe || R_shunt), and on/off voltages.
+func TestModelResistiveLoad(t *testing.T) {
+	sc, _ := model.Scenario("wren")
+	c := *sc.Circuit
+	c.Trigger = model.Trigger{Kind: model.TriggerVoltage, OnV: 2.7, OffV: 1.8}
+	c.Load = model.Load{Kind: model.LoadResistor, Ohm: 30}
+	c.Switch = model.Switch{}
+	g := 1/c.Load.Ohm + 1/c.Storage.LeakOhm + 1/c.ProbeOhm + 1/c.Cell.RshOhm
+	tau := c.Storage.CapF / g
+	for _, adc := range []detecttest.ADC{{}, {NoiseV: 2e-3, Bits: 12, FullV: 5, Seed: 23}} {
+		ts, vs, _ := simulate(t, &c, model.Constant(300), 300, 500, 1.5, adc)
+		res := RunSamples(ts, vs, &Options{CapF: c.Storage.CapF})
+		within(t, "model tau_load", res.Fit.Load.TauS, tau, 0.02)
+		within(t, "model on_v", res.Fit.Trigger.OnV, 2.7, 0.01)
+		within(t, "model off_v", res.Fit.Trigger.OffV, 1.8, 0.02)
+		if r := res.Fit.Load.Resistive; r == nil || !*r {
+			t.Errorf("%+v: a resistor not recognised (resistive %v)", adc, r)
+		}
+	}
+}
+
+// The Fern circuit (supercapacitor with a slow branch, a 4 kOhm shunt in the cell) under
+// steady dim light: it charges and stalls below its trigger. No fire; the settling
+// voltage extrapolated from the approach (before it has settled) within 2 % of the
+// true equilibrium, where the cell's current equals the leak, the probe and the
+// supervisor's draw (found by bisection on the model's own cell).
+func TestModelFernEquilibrium(t *testing.T) {
+	sc, err := model.Scenario("fern")
+	if err != nil {
+		t.Fatal(err)
+	}
+	c := sc.Circuit
+	const g = 40 // W/m2
+	drain := func(v float64) float64 {
+		return c.Cell.Current(v, g) - v/c.Storage.LeakOhm - v/c.ProbeOhm - c.Supervisor.QuiescentA
+	}
+	lo, hi := 0.0, c.Cell.OpenCircuitV(g)
+	for k := 0; k < 100; k++ {
+		m := (lo + hi) / 2
+		if drain(m) > 0 {
+			lo = m
+		} else {
+			hi = m
+		}
+	}
+	veq := (lo + hi) / 2
+	if veq >= c.Trigger.OnV {
+		t.Fatalf("equilibrium %.3f V is above the trigger; pick a dimmer light", veq)
+	}
+	// About two of the approach's time constants: still 10 % short of the equilibrium.
+	ts, vs, sim := simulate(t, c, model.Constant(g), 2400, 1, 0.05, detecttest.ADC{NoiseV: 1e-3, Seed: 24})
+	res := RunSamples(ts, vs, &Options{CapF: c.Storage.CapF})
+	if len(res.Cycles) != 0 || len(sim.Fires()) != 0 {
+		t.Fatalf("%d fires found, the model had %d", len(res.Cycles), len(sim.Fires()))
+	}
+	t.Logf("fern: end %.4f V, true equilibrium %.4f V, fitted %+v", vs[len(vs)-1], veq, res.EquilibriumV)
+	within(t, "equilibrium_v", res.EquilibriumV, veq, 0.02)
+	if res.Equilibrium == nil || res.Equilibrium.Within1PctS == nil {
+		t.Errorf("no settling time")
+	}
+}
