@@ -190,7 +190,8 @@ type Result struct {
 	Status     Status
 }
 
-// Value is a number with its standard error.
+// Value is a number with its standard error. It encodes to JSON as
+// {"value": ..., "sd": ...}, with null for a NaN (undetermined) number.
 type Value struct {
 	Value float64 `json:"value"`
 	SD    float64 `json:"sd"`
