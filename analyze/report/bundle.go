@@ -31,13 +31,22 @@ func BundlePaths(dir, base string) Bundle {
 	}
 }
 
-// ErrExists is returned (wrapped with the path) when a bundle file exists already and
+// ErrExists is returned inside a *PathError when a bundle file exists already and
 // Options.Overwrite is false.
-var ErrExists = errors.New("report: file exists (use overwrite to replace it)")
+var ErrExists = errors.New("file exists")
 
-// ErrCapture is returned (wrapped with the path) when a bundle file would be the capture
+// ErrCapture is returned inside a *PathError when a bundle file would be the capture
 // itself. The capture is never written, whatever the options.
-var ErrCapture = errors.New("report: refusing to write over the capture")
+var ErrCapture = errors.New("that is the capture, which is never written over")
+
+// PathError is a refusal to write one file of the bundle.
+type PathError struct {
+	Path string
+	Err  error // ErrExists or ErrCapture
+}
+
+func (e *PathError) Error() string { return "report: " + e.Path + ": " + e.Err.Error() }
+func (e *PathError) Unwrap() error { return e.Err }
 
 // WriteBundle writes the report, the analysis JSON and the cycle CSV into dir, named
 // after base (see BundlePaths), with the report linking to the other two. Each file is
@@ -90,16 +99,16 @@ func checkTarget(path, capture string, overwrite bool) error {
 		ap, err1 := filepath.Abs(path)
 		ac, err2 := filepath.Abs(capture)
 		if err1 == nil && err2 == nil && ap == ac {
-			return fmt.Errorf("%w: %s", ErrCapture, path)
+			return &PathError{path, ErrCapture}
 		}
 		if si, err := os.Stat(path); err == nil {
 			if ci, err := os.Stat(capture); err == nil && os.SameFile(si, ci) {
-				return fmt.Errorf("%w: %s", ErrCapture, path)
+				return &PathError{path, ErrCapture}
 			}
 		}
 	}
 	if _, err := os.Lstat(path); err == nil && !overwrite {
-		return fmt.Errorf("%w: %s", ErrExists, path)
+		return &PathError{path, ErrExists}
 	}
 	return nil
 }

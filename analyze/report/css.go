@@ -73,6 +73,7 @@ dl.numbers div { display: flex; gap: 0.35rem; }
 dl.numbers dt { color: var(--muted); }
 dl.numbers dd { margin: 0; font-variant-numeric: tabular-nums; }
 p.suggest .label { font-weight: bold; }
+ul.anotes { margin: 0.2rem 0 0.6rem; padding-left: 1.3rem; font-size: 0.92em; color: var(--muted); }
 p.absent {
   color: var(--muted); font-style: italic; padding: 0.5rem 0.7rem; border: 1px dashed var(--rule);
 }

@@ -327,6 +327,7 @@ func fernResult() *analyze.Result {
 		}
 	}
 	r.LeakTrace, r.LeakModel = &lt, &lm
+	r.Notes = []string{"no fire: the trigger's on and off voltages and the load cannot be fitted"}
 	r.Findings = []analyze.Finding{{Code: "never-reaches-trigger", Severity: "fault",
 		Message:    "The voltage levels off at 2.31 V, 0.39 V short of the 2.70 V trigger, so the chime never fires.",
 		Suggestion: "Give the cell more light, or cut the leakage: at this light the 20.5 kΩ leak takes 113 µA at the plateau, more than the cell gives above 2.3 V.",

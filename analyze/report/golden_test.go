@@ -24,6 +24,8 @@ func textParts(doc *html.Node) string {
 			b.WriteString(strings.Repeat("#", int(n.Data[1]-'0')) + " " + textOf(n) + "\n")
 		case n.Data == "p" && (hasClass(n, "verdict") || hasClass(n, "absent") || hasClass(n, "note")):
 			b.WriteString(attr(n, "class") + ": " + textOf(n) + "\n")
+		case n.Data == "li" && n.Parent != nil && hasClass(n.Parent, "anotes"):
+			b.WriteString("analysis note: " + textOf(n) + "\n")
 		case n.Data == "li" && hasClass(n, "finding"):
 			b.WriteString("finding: " + textOf(n) + "\n")
 		case n.Data == "figcaption":

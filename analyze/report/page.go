@@ -13,6 +13,7 @@ type page struct {
 	Verdict   template.HTML
 	Verdicts  []namedVerdict // Compare: one per capture
 	Findings  []findingView
+	Notes     []string // what the analysis could not determine, in its words
 	Links     []link
 	Sections  []*section
 }
@@ -146,6 +147,14 @@ var pageTemplate = template.Must(template.New("page").Parse(`<!DOCTYPE html>
 </ol>
 {{- else if not .Verdicts}}
 <p class="absent">The analysis reported no findings.</p>
+{{- end}}
+{{- if .Notes}}
+<h3>What the capture could not tell</h3>
+<ul class="anotes">
+{{- range .Notes}}
+<li>{{.}}</li>
+{{- end}}
+</ul>
 {{- end}}
 </section>
 {{- range .Sections}}

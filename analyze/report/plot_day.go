@@ -15,7 +15,7 @@ import (
 // marked and the gaps shaded, the light level, and the fires per hour, on one time axis.
 // It returns an empty figure and the reason when the Result has no envelope.
 func dayFigure(r *analyze.Result, o *Options) (figure, string) {
-	env := MergeEnvelope(r.Envelope, o.maxBins())
+	env := MergeEnvelope(r.Envelope, envelopeBins(r, o.maxBins()))
 	if len(env) < 2 {
 		return figure{}, "The analysis carries no voltage envelope, so the day cannot be drawn."
 	}
@@ -128,6 +128,7 @@ func dayFigure(r *analyze.Result, o *Options) (figure, string) {
 	caption := "Voltage across the storage capacitor over the whole capture, drawn as the lowest and highest value in each time bin"
 	if len(r.Light) > 0 {
 		pl := newPlot("", "light (relative)")
+		pl.Y.Tick.Marker = niceTicks{N: 3}
 		pl.X.Min, pl.X.Max, pl.Y.Min, pl.Y.Max = 0, xmax, 0, 1.05
 		var lx, ly []float64
 		for _, p := range r.Light {
@@ -145,6 +146,7 @@ func dayFigure(r *analyze.Result, o *Options) (figure, string) {
 	}
 	if fph := firesPerHour(r.Cycles, r.Segments, span); len(fph) > 0 {
 		pf := newPlot("", "full fires per hour")
+		pf.Y.Tick.Marker = niceTicks{N: 3}
 		pf.X.Min, pf.X.Max, pf.Y.Min = 0, xmax, 0
 		var ymax float64
 		var barThumb plot.Thumbnailer
@@ -246,7 +248,7 @@ func firesPerHour(cycles []analyze.Cycle, segs []analyze.Segment, span float64) 
 		return nil
 	}
 	w := 3600.0
-	if span < 3*3600 {
+	if span <= 6*3600 {
 		w = 600
 	}
 	n := int(math.Ceil(span / w))
@@ -298,4 +300,23 @@ func triggerOff(r *analyze.Result) (v float64, origin string, ok bool) {
 		return *r.Declared.OffV, "declared", true
 	}
 	return 0, "", false
+}
+
+// envelopeBins is how many bins the day plot draws: at most max, and few enough that
+// each bin spans two typical cycles or more. Bins about one period wide would catch a
+// full swing in one bin and half a swing in the next, and the band would show a moiré
+// that is not in the circuit; bins of several cycles show the swing as a solid band.
+func envelopeBins(r *analyze.Result, max int) int {
+	if e := r.Fit.Trigger.PeriodS; e != nil && e.Value > 0 && r.DurationS > 0 {
+		n := int(r.DurationS / (2 * e.Value))
+		return min(max, maxInt(n, 150))
+	}
+	return max
+}
+
+func maxInt(a, b int) int {
+	if a > b {
+		return a
+	}
+	return b
 }

@@ -115,6 +115,7 @@ func singlePage(r *analyze.Result, o *Options) *page {
 	p.Facts = headerFacts(r)
 	p.Verdict = Verdict(r).HTML()
 	p.Findings = findingViews(r.Findings)
+	p.Notes = r.Notes
 	p.Links = bundleLinks(o)
 
 	p.add(daySection(r, o))

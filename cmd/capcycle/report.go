@@ -1,10 +1,232 @@
 package main
 
+import (
+	"bytes"
+	"context"
+	"encoding/json"
+	"errors"
+	"flag"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strings"
+
+	"capcycle/analyze"
+	"capcycle/analyze/profile"
+	htmlreport "capcycle/analyze/report"
+	"capcycle/logger/capture"
+)
+
 // reportCommand is "capcycle report".
 func reportCommand() *command {
 	return &command{
 		name:    "report",
 		summary: "write a self-contained HTML report of a capture",
-		run:     notBuilt("report"),
+		built:   true,
+		run:     runReport,
 	}
+}
+
+// analyseCapture runs the analysis on a capture file, with the circuit's declared values
+// from the profile when one is given (the same merge as "capcycle analyze"). It is the
+// one place the report command reaches into the analysis pipeline.
+func analyseCapture(ctx context.Context, path, profilePath string) (*analyze.Result, error) {
+	opts := &analyze.Options{Path: path}
+	if profilePath != "" {
+		p, err := profile.Load(profilePath)
+		if err != nil {
+			return nil, inputError(err)
+		}
+		fromProfile(opts, p)
+		opts.Profile = p.Name
+	}
+	in, err := os.Open(path)
+	if err != nil {
+		return nil, inputError(fmt.Errorf("report: %w", err))
+	}
+	defer in.Close()
+	res, err := analyze.Run(capture.NewReader(in, path), opts)
+	if err != nil {
+		var pe *capture.ParseError
+		if errors.As(err, &pe) {
+			return nil, inputError(err)
+		}
+		return nil, workErrorf("report: %w", err)
+	}
+	if err := ctx.Err(); err != nil {
+		return nil, workErrorf("report: %w", err)
+	}
+	return res, nil
+}
+
+func runReport(ctx context.Context, args []string, e *env) error {
+	fs := newFlags("report", "CAPTURE [B] [flags]  |  --from-json A.json [B.json] [flags]", e.stderr,
+		"capcycle report wren.csv --profile wren.toml",
+		"capcycle report wren.csv -o out/wren.html --force",
+		"capcycle report --from-json wren.analysis.json",
+		"capcycle report before.csv after.csv -o compare.html",
+		"capcycle report --from-json before.analysis.json after.analysis.json -o compare.html")
+	out := fs.String("o", "", "the HTML file to write (default: beside the first input, named after it); for one input the analysis JSON and the cycle CSV are written beside it")
+	profile := fs.String("profile", "", "the bench profile (TOML) describing the circuit, for a capture")
+	force := fs.Bool("force", false, "replace report files that exist already (the capture is never written)")
+	fromJSON := fs.Bool("from-json", false, "the inputs are saved analysis JSON files (capcycle analyze --json), not captures")
+	labelA := fs.String("label-a", "before", "for two inputs: the name of the first")
+	labelB := fs.String("label-b", "after", "for two inputs: the name of the second")
+	inputs, err := parseInterleaved(fs, args)
+	if err != nil {
+		return err
+	}
+	switch len(inputs) {
+	case 1, 2:
+	case 0:
+		return usageErrorf("give a capture, or --from-json and a saved analysis (see capcycle report -h)")
+	default:
+		return usageErrorf("give one input for a report or two for a comparison, not %d", len(inputs))
+	}
+	results := make([]*analyze.Result, len(inputs))
+	for i, in := range inputs {
+		if *fromJSON {
+			results[i], err = readAnalysis(in)
+		} else {
+			results[i], err = analyseCapture(ctx, in, *profile)
+		}
+		if err != nil {
+			return err
+		}
+	}
+	opts := &htmlreport.Options{Overwrite: *force, LabelA: *labelA, LabelB: *labelB}
+	if len(inputs) == 1 {
+		return writeOne(e, inputs[0], results[0], *out, *fromJSON, opts)
+	}
+	return writeComparison(e, inputs, results, *out, opts)
+}
+
+// parseInterleaved parses flags that may come before, between or after the inputs
+// ("capcycle report A B -o compare.html") and returns the inputs in order.
+func parseInterleaved(fs *flag.FlagSet, args []string) ([]string, error) {
+	var inputs []string
+	for {
+		if err := parseFlags(fs, args); err != nil {
+			return nil, err
+		}
+		rest := fs.Args()
+		if len(rest) == 0 {
+			return inputs, nil
+		}
+		if rest[0] == "--" {
+			return append(inputs, rest[1:]...), nil
+		}
+		inputs = append(inputs, rest[0])
+		args = rest[1:]
+	}
+}
+
+// readAnalysis reads a saved analysis JSON and checks its schema.
+func readAnalysis(path string) (*analyze.Result, error) {
+	raw, err := os.ReadFile(path)
+	if err != nil {
+		return nil, inputError(fmt.Errorf("report: %w", err))
+	}
+	var r analyze.Result
+	dec := json.NewDecoder(bytes.NewReader(raw))
+	if err := dec.Decode(&r); err != nil {
+		var se *json.SyntaxError
+		if errors.As(err, &se) {
+			line := 1 + bytes.Count(raw[:min(int(se.Offset), len(raw))], []byte("\n"))
+			return nil, inputError(fmt.Errorf("report: %s:%d: not an analysis JSON: %w", path, line, err))
+		}
+		return nil, inputError(fmt.Errorf("report: %s: not an analysis JSON: %w", path, err))
+	}
+	if r.Schema != analyze.Schema {
+		return nil, inputError(fmt.Errorf("report: %s: schema is %q, want %q (is it a capcycle analysis?)", path, r.Schema, analyze.Schema))
+	}
+	return &r, nil
+}
+
+// writeOne writes the report bundle of one input.
+func writeOne(e *env, input string, r *analyze.Result, out string, fromJSON bool, opts *htmlreport.Options) error {
+	dir, base, err := bundleName(input, out, fromJSON)
+	if err != nil {
+		return err
+	}
+	b := htmlreport.BundlePaths(dir, base)
+	if fromJSON && samePath(b.JSON, input) {
+		return usageErrorf("the analysis JSON would be written over its own input %s; choose another -o", input)
+	}
+	if b, err = htmlreport.WriteBundle(dir, base, r, opts); err != nil {
+		var pe *htmlreport.PathError
+		switch {
+		case errors.As(err, &pe) && errors.Is(err, htmlreport.ErrExists):
+			return usageErrorf("%s exists; use --force to replace it", pe.Path)
+		case errors.As(err, &pe):
+			return usageErrorf("%s is the capture itself: it is never written over; choose another -o", pe.Path)
+		}
+		return workErrorf("%w", err)
+	}
+	fmt.Fprintf(e.stdout, "%s\n", htmlreport.Verdict(r))
+	fmt.Fprintf(e.stdout, "report:   %s\nanalysis: %s\ncycles:   %s\n", b.HTML, b.JSON, b.CSV)
+	return nil
+}
+
+// bundleName picks the directory and base name of the bundle: from -o when given
+// (it must end in .html), else beside the input, named after it with ".report".
+func bundleName(input, out string, fromJSON bool) (dir, base string, err error) {
+	if out != "" {
+		if !strings.HasSuffix(out, ".html") {
+			return "", "", usageErrorf("-o %s: the report's name must end in .html", out)
+		}
+		return filepath.Dir(out), strings.TrimSuffix(filepath.Base(out), ".html"), nil
+	}
+	name := filepath.Base(input)
+	if fromJSON {
+		name = strings.TrimSuffix(strings.TrimSuffix(name, ".json"), ".analysis")
+	} else {
+		name = strings.TrimSuffix(name, filepath.Ext(name))
+	}
+	return filepath.Dir(input), name + ".report", nil
+}
+
+// writeComparison writes the comparison page of two inputs.
+func writeComparison(e *env, inputs []string, rs []*analyze.Result, out string, opts *htmlreport.Options) error {
+	if out == "" {
+		a := strings.TrimSuffix(filepath.Base(inputs[0]), filepath.Ext(inputs[0]))
+		b := strings.TrimSuffix(filepath.Base(inputs[1]), filepath.Ext(inputs[1]))
+		out = filepath.Join(filepath.Dir(inputs[0]), a+"-vs-"+b+".html")
+	}
+	if !strings.HasSuffix(out, ".html") {
+		return usageErrorf("-o %s: the comparison's name must end in .html", out)
+	}
+	for i, in := range inputs {
+		if samePath(out, in) || samePath(out, rs[i].Source.Path) {
+			return usageErrorf("-o %s would write over the input %s", out, in)
+		}
+	}
+	if _, err := os.Lstat(out); err == nil && !opts.Overwrite {
+		return usageErrorf("%s exists; use --force to replace it", out)
+	}
+	var buf bytes.Buffer
+	if err := htmlreport.Compare(&buf, rs[0], rs[1], opts); err != nil {
+		return workErrorf("%w", err)
+	}
+	if err := htmlreport.WriteFileAtomic(out, buf.Bytes()); err != nil {
+		return workErrorf("%w", err)
+	}
+	la, lb := opts.LabelA, opts.LabelB
+	fmt.Fprintf(e.stdout, "%s: %s\n%s: %s\ncomparison: %s\n", la, htmlreport.Verdict(rs[0]), lb, htmlreport.Verdict(rs[1]), out)
+	return nil
+}
+
+// samePath reports whether a and b name the same file (or the same path, if neither exists).
+func samePath(a, b string) bool {
+	if a == "" || b == "" {
+		return false
+	}
+	if sa, err := os.Stat(a); err == nil {
+		if sb, err := os.Stat(b); err == nil {
+			return os.SameFile(sa, sb)
+		}
+	}
+	aa, err1 := filepath.Abs(a)
+	ab, err2 := filepath.Abs(b)
+	return err1 == nil && err2 == nil && aa == ab
 }
