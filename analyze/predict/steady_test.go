@@ -127,3 +127,32 @@ func TestIrradianceFor(t *testing.T) {
 }
 
 func rel(a, b float64) float64 { return math.Abs(a-b) / math.Abs(b) }
+
+func TestCycleTrace(t *testing.T) {
+	c := &model.Circuit{
+		Cell:    model.Cell{IphA: 2e-3},
+		Storage: model.Storage{CapF: 1000e-6},
+		Trigger: model.Trigger{Kind: model.TriggerVoltage, OnV: 3.0, OffV: 2.0},
+		Load:    model.Load{Ohm: 100},
+	}
+	tr, err := CycleTrace(c, 1000, 0.2, 0.5, 701, "model")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(tr.TS) < 600 || tr.TS[0] > -0.19 || tr.TS[len(tr.TS)-1] < 0.49 {
+		t.Fatalf("trace spans %v..%v with %d points", tr.TS[0], tr.TS[len(tr.TS)-1], len(tr.TS))
+	}
+	// Just before the fire the node is near the on voltage; at the end of the pulse near off.
+	for i, ts := range tr.TS {
+		if ts < 0 && ts > -0.01 && math.Abs(tr.V[i]-3.0) > 0.02 {
+			t.Errorf("v(%.3f s) = %.3f V, want about 3.0 V", ts, tr.V[i])
+		}
+	}
+	minV := 10.0
+	for _, v := range tr.V {
+		minV = math.Min(minV, v)
+	}
+	if math.Abs(minV-2.0) > 0.01 {
+		t.Errorf("lowest %.3f V, want the 2.0 V release", minV)
+	}
+}
