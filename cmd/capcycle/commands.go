@@ -26,6 +26,7 @@ func commands() []*command {
 		analyzeCommand(),
 		reportCommand(),
 		simulateCommand(),
+		robotCommand(),
 		whatifCommand(),
 		profileCommand(),
 		versionCommand(),
