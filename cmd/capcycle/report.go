@@ -32,14 +32,18 @@ func reportCommand() *command {
 // one place the report command reaches into the analysis pipeline.
 func analyseCapture(ctx context.Context, path, profilePath string) (*analyze.Result, error) {
 	opts := &analyze.Options{Path: path}
+	var p *profile.Profile
 	if profilePath != "" {
-		p, err := profile.Load(profilePath)
-		if err != nil {
+		var err error
+		if p, err = profile.Load(profilePath); err != nil {
 			return nil, inputError(err)
 		}
 		fromProfile(opts, p)
 		opts.Profile = p.Name
 	}
+	// TODO(stages): set opts.Post to the later stages (prediction, model cycle, findings)
+	// once "capcycle analyze" has that hook committed, so both commands run the same.
+	_ = p
 	in, err := os.Open(path)
 	if err != nil {
 		return nil, inputError(fmt.Errorf("report: %w", err))
@@ -86,7 +90,7 @@ func runReport(ctx context.Context, args []string, e *env) error {
 	results := make([]*analyze.Result, len(inputs))
 	for i, in := range inputs {
 		if *fromJSON {
-			results[i], err = readAnalysis(in)
+			results[i], err = readSavedAnalysis(in)
 		} else {
 			results[i], err = analyseCapture(ctx, in, *profile)
 		}
@@ -121,8 +125,8 @@ func parseInterleaved(fs *flag.FlagSet, args []string) ([]string, error) {
 	}
 }
 
-// readAnalysis reads a saved analysis JSON and checks its schema.
-func readAnalysis(path string) (*analyze.Result, error) {
+// readSavedAnalysis reads a saved analysis JSON and checks its schema.
+func readSavedAnalysis(path string) (*analyze.Result, error) {
 	raw, err := os.ReadFile(path)
 	if err != nil {
 		return nil, inputError(fmt.Errorf("report: %w", err))
