@@ -31,6 +31,7 @@ func (a *analysis) finish(r *capture.Reader) *Result {
 	b.trigger()
 	b.leakTau()
 	b.capacitance()
+	b.energy()
 	b.load()
 	b.leak()
 	b.equilibrium()
@@ -248,6 +249,17 @@ func (b *builder) capacitance() {
 			origin = "declared"
 		}
 		b.res.Capacitance = &Capacity{F: Estimate{Value: o.CapF, Origin: origin}, Tol: o.CapTol}
+	}
+}
+
+// energy is ½C(fire_v² − reset_v²) per cycle, when the capacitance is known.
+func (b *builder) energy() {
+	if b.capF <= 0 {
+		return
+	}
+	for i := range b.res.Cycles {
+		c := &b.res.Cycles[i]
+		c.EnergyJ = ptr(0.5 * b.capF * (c.FireV*c.FireV - c.ResetV*c.ResetV))
 	}
 }
 

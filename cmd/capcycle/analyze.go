@@ -430,7 +430,10 @@ func printSummary(w io.Writer, res *analyze.Result) {
 	if l := res.Fit.Leak; l.TauS != nil {
 		fmt.Fprintf(w, "leak (%s): time constant %s", l.Method, estStr(l.TauS, units.Second))
 		if l.Ohm != nil {
-			fmt.Fprintf(w, ", %s besides the probe", estStr(l.Ohm, units.Ohm))
+			fmt.Fprintf(w, ", %s", estStr(l.Ohm, units.Ohm))
+			if l.ProbeOhm != nil {
+				fmt.Fprintf(w, " besides the probe's %s", units.Format(l.ProbeOhm.Value, units.Ohm))
+			}
 		}
 		if l.QuiescentA != nil {
 			fmt.Fprintf(w, ", constant drain %s", estStr(l.QuiescentA, units.Ampere))
