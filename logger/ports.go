@@ -4,8 +4,6 @@ import (
 	"fmt"
 	"sort"
 	"strings"
-
-	"go.bug.st/serial/enumerator"
 )
 
 // PortInfo describes one serial port of the system.
@@ -26,8 +24,8 @@ func (p PortInfo) VIDPID() string {
 	return strings.ToLower(p.VID) + ":" + strings.ToLower(p.PID)
 }
 
-// enumerate is the system's port list; tests replace it.
-var enumerate = func() ([]*enumerator.PortDetails, error) { return enumerator.GetDetailedPortsList() }
+// enumerate (the system's port list; tests may replace it) lives in ports_enum.go, or in
+// ports_nocgo_darwin.go for macOS builds without cgo.
 
 // Ports lists the serial ports of the system, USB ones first, then by path.
 func Ports() ([]PortInfo, error) {
