@@ -142,7 +142,7 @@ type CellFit struct {
 	IscA   *Estimate `json:"isc_a"`
 	VocV   *Estimate `json:"voc_v"`
 	I0A    *Estimate `json:"i0_a,omitempty"`
-	N      *Estimate `json:"n,omitempty"` // ideality factor times cells in series
+	N      *Estimate `json:"n,omitempty"` // diode ideality factor per cell (the cells in series are those of the profile)
 	RsOhm  *Estimate `json:"rs_ohm,omitempty"`
 	RshOhm *Estimate `json:"rsh_ohm,omitempty"`
 	MppV   *float64  `json:"mpp_v,omitempty"`

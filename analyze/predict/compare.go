@@ -57,10 +57,6 @@ func Fitted(nominal *model.Circuit, r *analyze.Result) (*model.Circuit, []string
 	}
 	cf := r.Fit.Cell
 	if cf.I0A != nil && cf.N != nil && cf.IscA != nil {
-		cells := c.Cell.Cells
-		if cells == 0 {
-			cells = 1
-		}
 		cell := c.Cell
 		ref := cell.RefWm2
 		if ref == 0 {
@@ -72,7 +68,7 @@ func Fitted(nominal *model.Circuit, r *analyze.Result) (*model.Circuit, []string
 		cell.IphA = cf.IscA.Value
 		cell.RefWm2 = ref
 		cell.I0A = cf.I0A.Value
-		cell.N = cf.N.Value / float64(cells)
+		cell.N = cf.N.Value // per cell; the analysis used the profile's cells in series
 		if cf.RsOhm != nil {
 			cell.RsOhm = cf.RsOhm.Value
 		}
