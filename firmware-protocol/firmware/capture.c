@@ -152,7 +152,7 @@ void cap_end(void)
 	slow_restart();
 }
 
-/* Close the slow interval: the A frame (or a drop, while a burst still drains). */
+/* Close the slow interval: its A frame. */
 static void slow_close(void)
 {
 	uint16_t n = s_n;
@@ -168,8 +168,7 @@ static void slow_close(void)
 		frame_u32(&out_f, s_lo[k]);
 		frame_u32(&out_f, s_hi[k]);
 	}
-	if (state != SLOW || !out_try(frame_end(&out_f)))
-		out_drops++; /* the seq gap shows it too */
+	out_defer(frame_end(&out_f));
 	have_ref = 1;
 	slow_restart();
 }
@@ -186,7 +185,9 @@ static void slow_add(const struct sample *s)
 		if (c > s_hi[k])
 			s_hi[k] = c;
 	}
-	if (++s_n >= s_len)
+	/* While a burst still drains (slow link) the interval runs on, so its A frame
+	 * follows E (with a larger n). */
+	if (++s_n >= s_len && state == SLOW)
 		slow_close();
 }
 

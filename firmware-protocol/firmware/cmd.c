@@ -255,7 +255,7 @@ static uint8_t set_fields(uint8_t c, struct settings *n)
 
 static void handle(void)
 {
-	uint8_t code = 0, body;
+	uint8_t code = 0, body = (uint8_t)(len - 1);
 	uint8_t v = frame_verify(line, len, &body);
 	line[1 + body] = 0;
 
@@ -268,21 +268,27 @@ static void handle(void)
 	uint8_t tlen = (uint8_t)(p - tag);
 	if (tlen < 1 || tlen > 8 || (*p && *p != ' '))
 		tag = 0;
-	while (*p == ' ' && !code) {
+	while (*p == ' ') {
 		*p++ = 0;
-		if (nfields == MAX_FIELDS)
+		if (nfields == MAX_FIELDS) {
 			code = E_SYNTAX;
+			break;
+		}
 		fkey[nfields] = p;
 		while (*p && *p != ' ' && *p != '=')
 			p++;
-		if (*p != '=' || p == fkey[nfields])
+		if (*p != '=' || p == fkey[nfields]) {
 			code = E_SYNTAX;
+			break;
+		}
 		*p++ = 0;
 		fval[nfields] = p;
 		while (*p && *p != ' ')
 			p++;
-		if (p == fval[nfields])
+		if (p == fval[nfields]) {
 			code = E_SYNTAX;
+			break;
+		}
 		nfields++;
 	}
 	if (v == FRAME_BAD_CRC)
@@ -306,8 +312,9 @@ static void handle(void)
 		reply_ok(tag);
 		cap_end();
 		cfg = n;
-		apply_settings();
+		adc_run(0); /* the ID first: sampling restarts with the new settings after it */
 		send_id(0);
+		apply_settings();
 		return;
 	}
 

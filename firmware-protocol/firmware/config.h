@@ -47,6 +47,14 @@
  * at most two less. */
 #define RING_BYTES 288
 
+/* Default fast rate: 500 Hz, or 250 Hz where the link cannot carry 500 S frames a
+ * second (below 250 kbaud; see adc_max_hz). */
+#if BAUD >= 250000UL
+#define DEFAULT_FAST_HZ 500
+#else
+#define DEFAULT_FAST_HZ 250
+#endif
+
 /* Status frame period, seconds. */
 #define ST_PERIOD_S 10
 

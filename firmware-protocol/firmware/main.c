@@ -20,6 +20,7 @@
 #include "adc.h"
 #include "capture.h"
 #include "cmd.h"
+#include "out.h"
 #include "settings.h"
 #include "uart.h"
 
@@ -52,13 +53,16 @@ int main(void)
 	settings_load();
 	uart_init();
 	adc_init();
-	running = 1;
-	apply_settings();
 	wdt_enable(WDTO_1S);
 	sei();
 
+	/* The clock starts now; sampling starts after the boot frames, which at low baud
+	 * rates take longer than the sample queue lasts. */
+	apply_settings();
+	running = 1;
 	send_id(1);
 	send_status();
+	adc_run(1);
 
 	uint32_t next_sec_us = 1000000UL;
 	uint8_t st_count = 0;
@@ -72,6 +76,7 @@ int main(void)
 		}
 		while (adc_pop(&s))
 			cap_sample(&s);
+		out_poll();
 		cap_poll();
 		/* Uptime in whole seconds of the device clock; ST every ST_PERIOD_S. */
 		if ((int32_t)(adc_now_us() - next_sec_us) >= 0) {

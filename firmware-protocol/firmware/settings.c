@@ -33,7 +33,7 @@ static const struct settings defaults PROGMEM = {
 	.nch = 1,
 	.ref = REF_AVCC,
 	.slow_hz = 10,
-	.fast_hz = 500,
+	.fast_hz = DEFAULT_FAST_HZ,
 	.thr = 8,
 	.pre = 32,
 	.post = 32,
@@ -52,7 +52,8 @@ uint8_t settings_load(void)
 {
 	eeprom_read_block(&cfg, &ee_cfg, sizeof cfg);
 	if (cfg.magic == MAGIC && cfg.layout == LAYOUT && cfg.crc == crc_of(&cfg) &&
-	    cfg.nch >= 1 && cfg.nch <= MAX_CH && cfg.ref <= REF_EXT)
+	    cfg.nch >= 1 && cfg.nch <= MAX_CH && cfg.ref <= REF_EXT && cfg.slow_hz &&
+	    cfg.fast_hz <= adc_max_hz(cfg.nch)) /* a build at a lower baud rate */
 		return 1;
 	settings_defaults();
 	return 0;

@@ -11,14 +11,14 @@
 #include <avr/interrupt.h>
 #include <avr/io.h>
 #include <avr/wdt.h>
-#include <util/atomic.h>
 
 #define UBRR_VALUE ((F_CPU + 4UL * BAUD) / (8UL * BAUD) - 1UL)
 
+/* One slot stays empty, so head == tail means empty and no flag is shared: each index
+ * has one writer and a byte is read and written atomically. */
 static volatile uint8_t tx_buf[TX_SIZE];
 static volatile uint8_t tx_head; /* written by the main loop */
 static volatile uint8_t tx_tail; /* advanced by the UDRE interrupt */
-static volatile uint8_t tx_full_flag;
 
 static volatile uint8_t rx_buf[RX_SIZE];
 static volatile uint8_t rx_head, rx_tail;
@@ -37,64 +37,35 @@ void uart_init(void)
 	UCSR0B = _BV(RXEN0) | _BV(TXEN0) | _BV(RXCIE0);
 }
 
-uint8_t uart_tx_used(void)
-{
-	uint8_t h, t, f;
-	ATOMIC_BLOCK(ATOMIC_RESTORESTATE)
-	{
-		h = tx_head;
-		t = tx_tail;
-		f = tx_full_flag;
-	}
-	if (f)
-		return TX_SIZE;
-	return (uint8_t)((h - t) & TX_MASK);
-}
-
 uint8_t uart_tx_free(void)
 {
-	return TX_SIZE - uart_tx_used();
+	return (uint8_t)((tx_tail - tx_head - 1) & TX_MASK);
 }
 
-void uart_put_nowait(uint8_t b)
+void uart_write(const char *p, uint8_t n)
 {
 	uint8_t h = tx_head;
-	tx_buf[h] = b;
-	h = (uint8_t)((h + 1) & TX_MASK);
-	ATOMIC_BLOCK(ATOMIC_RESTORESTATE)
-	{
-		tx_head = h;
-		if (h == tx_tail)
-			tx_full_flag = 1;
+	while (n--) {
+		uint8_t nh = (uint8_t)((h + 1) & TX_MASK);
+		while (nh == tx_tail) /* full: the UDRE interrupt makes room */
+			wdt_reset();
+		tx_buf[h] = (uint8_t)*p++;
+		tx_head = h = nh;
+		/* A race with the interrupt clearing UDRIE0 is harmless: at worst it runs
+		 * once more and finds the queue empty. */
 		UCSR0B |= _BV(UDRIE0);
 	}
-}
-
-void uart_put_wait(uint8_t b)
-{
-	while (uart_tx_free() == 0)
-		wdt_reset();
-	uart_put_nowait(b);
-}
-
-void uart_flush(void)
-{
-	while (uart_tx_used() != 0)
-		wdt_reset();
-	while (!(UCSR0A & _BV(UDRE0)))
-		;
 }
 
 ISR(USART_UDRE_vect)
 {
 	uint8_t t = tx_tail;
-	if (t == tx_head && !tx_full_flag) {
+	if (t == tx_head) {
 		UCSR0B &= (uint8_t)~_BV(UDRIE0);
 		return;
 	}
 	UDR0 = tx_buf[t];
 	tx_tail = (uint8_t)((t + 1) & TX_MASK);
-	tx_full_flag = 0;
 }
 
 ISR(USART_RX_vect)

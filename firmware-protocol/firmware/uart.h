@@ -8,16 +8,10 @@
 
 void uart_init(void);
 
-/* Free bytes in the transmit queue. */
+/* Free bytes in the transmit queue (it holds TX_SIZE - 1). */
 uint8_t uart_tx_free(void);
-/* Bytes waiting in the transmit queue. */
-uint8_t uart_tx_used(void);
-/* Queue one byte; the caller has checked uart_tx_free(). */
-void uart_put_nowait(uint8_t b);
-/* Queue one byte, waiting (with the watchdog fed) while the queue is full. */
-void uart_put_wait(uint8_t b);
-/* Wait until every queued byte has left the shift register. */
-void uart_flush(void);
+/* Queue n bytes, waiting (with the watchdog fed) while the queue is full. */
+void uart_write(const char *p, uint8_t n);
 
 /* Next received byte, or -1 when none is waiting. */
 int16_t uart_get(void);
