@@ -168,6 +168,25 @@ func (b *testBoard) slow(dst []byte, n int, f func(i int) uint16) []byte {
 	return dst
 }
 
+// burst appends a burst: B, n S frames at the fast rate (a fall and recovery), E.
+func (b *testBoard) burst(dst []byte, n int) []byte {
+	b.mu.Lock()
+	defer b.mu.Unlock()
+	step := uint32(1000000 / b.id.FastHz)
+	dst = wire.Append(dst, wire.BurstBegin{Seq: b.seq, TimeUS: b.tUS, Pre: 0})
+	for i := 0; i < n; i++ {
+		s := wire.Sample{Seq: b.seq, TimeUS: b.tUS, NCh: int(b.id.NCh)}
+		for k := 0; k < s.NCh; k++ {
+			s.Counts[k] = uint16(3000 - 10*i)
+		}
+		dst = wire.Append(dst, s)
+		b.seq++
+		b.tUS += step
+	}
+	dst = wire.Append(dst, wire.BurstEnd{Seq: b.seq, TimeUS: b.tUS - step})
+	return dst
+}
+
 // ptyBoard is a testBoard on a pseudo-terminal, reached through a symlink that can be
 // pointed at a new pty to simulate unplugging and plugging back.
 type ptyBoard struct {
