@@ -231,3 +231,41 @@ func TestBrowserRendersReports(t *testing.T) {
 		})
 	}
 }
+
+// TestBrowserPrints prints the day-long report to PDF in headless Chromium and checks
+// the print layout: every section starts its own page, so there are at least as many
+// pages as sections, and no more than a few per section (a runaway layout would spill).
+func TestBrowserPrints(t *testing.T) {
+	bin := chromiumPath(t)
+	t.Parallel()
+	dir := shotDir(t)
+	page := filepath.Join(dir, "wren-print.html")
+	if err := os.WriteFile(page, renderPage(t, wrenOnce(), nil), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	pdf := filepath.Join(dir, "wren.pdf")
+	os.Remove(pdf)
+	ctx, cancel := context.WithTimeout(context.Background(), 2*time.Minute)
+	defer cancel()
+	cmd := exec.CommandContext(ctx, bin, "--headless", "--no-sandbox", "--disable-gpu", "--no-first-run",
+		"--disable-background-networking", "--disable-component-update", "--disable-sync",
+		"--user-data-dir="+filepath.Join(t.TempDir(), "profile"), "--host-resolver-rules=MAP * ~NOTFOUND",
+		"--no-pdf-header-footer", "--print-to-pdf="+pdf, "file://"+page)
+	cmd.Env = append(os.Environ(), "DBUS_SESSION_BUS_ADDRESS=unix:path=/nonexistent")
+	if out, err := cmd.CombinedOutput(); err != nil {
+		t.Fatalf("chromium --print-to-pdf: %v\n%s", err, tail(string(out), 2000))
+	}
+	raw, err := os.ReadFile(pdf)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !bytes.HasPrefix(raw, []byte("%PDF-")) {
+		t.Fatal("not a PDF")
+	}
+	pages := bytes.Count(raw, []byte("/Type /Page\n")) + bytes.Count(raw, []byte("/Type /Page\r")) +
+		bytes.Count(raw, []byte("/Type /Page/")) + bytes.Count(raw, []byte("/Type /Page>")) + bytes.Count(raw, []byte("/Type /Page "))
+	t.Logf("%s: %d pages", pdf, pages)
+	if pages < len(sectionIDs) || pages > 2*len(sectionIDs) {
+		t.Errorf("%d printed pages for %d sections", pages, len(sectionIDs))
+	}
+}
