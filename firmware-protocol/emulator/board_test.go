@@ -630,3 +630,30 @@ func TestCommandErrors(t *testing.T) {
 		t.Error(">save refused")
 	}
 }
+
+func TestBadWaveform(t *testing.T) {
+	if skipMsg != "" {
+		t.Skip("emulated board unavailable: " + skipMsg)
+	}
+	if buildErr != nil {
+		t.Fatalf("building the emulated board: %v", buildErr)
+	}
+	path := filepath.Join(t.TempDir(), "wave.txt")
+	// Line 3 has a time but no volts.
+	if err := os.WriteFile(path, []byte("time_s vcap_v\n0 1\n0.01 x\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	emu, err := emulator.Start(context.Background(), bins, &emulator.Config{Waveform: path, NoWait: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer emu.Close()
+	select {
+	case <-emu.Done():
+	case <-time.After(10 * time.Second):
+		t.Fatal("the harness did not stop on a bad waveform")
+	}
+	if want := "wave.txt:3: expected volts after the time"; !strings.Contains(emu.Stderr(), want) {
+		t.Errorf("harness stderr %q does not say %q", emu.Stderr(), want)
+	}
+}
