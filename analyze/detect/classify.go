@@ -68,8 +68,9 @@ type Summary struct {
 // sits in the lower of two groups that differ by at least a factor of 8 (when the falls
 // form two such groups: fires through the load and slow decays through the leakage), and
 // it falls at least 3 times faster than the charging before it rose, and takes less time
-// than that charging did. Fires whose height is under a quarter of the typical fire (the
-// 75th percentile) or under 3 % of their voltage are chatter.
+// than that charging did. Fires that fall by under 10 % of their voltage, or by under a
+// quarter of the typical fire (the 75th percentile) and under 30 % of their voltage, are
+// chatter.
 func (d *Detector) Finish() *Summary {
 	if !d.booted {
 		if len(d.boot) == 0 {
@@ -172,7 +173,7 @@ func (d *Detector) cycles(s *Summary) []Cycle {
 		h := w.StartV - w.EndV
 		c := Cycle{Swing: i, FireS: w.OnsetS, FireV: w.OnsetV, ResetS: w.EndS, ResetV: w.EndV,
 			ChargeS: w.OnsetS - lastReset,
-			Chatter: h < 0.25*typical || h < 0.03*math.Abs(w.StartV)}
+			Chatter: h < 0.1*math.Abs(w.StartV) || (h < 0.25*typical && h < 0.3*math.Abs(w.StartV))}
 		out = append(out, c)
 		lastReset = w.EndS
 		if w.Gap {

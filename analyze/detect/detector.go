@@ -19,7 +19,8 @@ type Config struct {
 	// Default: 20 times the 90th percentile of the first samples' spacing.
 	GapS float64
 	// FullScaleV is the ADC's full scale referred to the storage node; samples at or
-	// above FullScaleV - StepV/2 are saturated. Default 0: no saturation check.
+	// above FullScaleV - 1.5 StepV (the top code reads one step below full scale; 0.1 %
+	// of full scale when no step shows) are saturated. Default 0: no saturation check.
 	FullScaleV float64
 	// PointLimit bounds the points kept per swing (Point, averaged). Default 1024.
 	PointLimit int
@@ -72,6 +73,7 @@ type sample struct {
 
 const bootN = 1024      // samples used to estimate the noise, step and spacing before detecting
 const noiseBlock = 4096 // samples per noise estimate after that
+const ringN = 256       // raw samples kept for onsets
 
 // Detector finds rises and falls in a stream of samples with memory that does not grow
 // with the stream (beyond one compact Swing per swing). Push samples in time order,
@@ -117,6 +119,14 @@ type Detector struct {
 	provSeg    decim
 	provTrough sample
 	ptsBuf     []Point
+
+	// the last raw samples, for the exact onset of a fall after a long flat top
+	ring    [ringN]sample
+	ringLen int
+	ringPos int
+	onsetOK bool
+	onsetT  float64
+	onsetV  float64
 
 	swings  []Swing
 	samples int
@@ -327,7 +337,12 @@ func (d *Detector) saturation(t, v float64) {
 	if d.cfg.FullScaleV <= 0 {
 		return
 	}
-	at := v >= d.cfg.FullScaleV-d.step/2-1e-12
+	// The top ADC code reads one step below full scale.
+	margin := 1.5 * d.step
+	if margin == 0 {
+		margin = 1e-3 * d.cfg.FullScaleV
+	}
+	at := v >= d.cfg.FullScaleV-margin
 	switch {
 	case at && !d.satOn:
 		d.satOn, d.satStart, d.satV0 = true, t, v

@@ -12,6 +12,9 @@ import "math"
 // trough, or turns down first, was a spike inside the pulse (a motor's commutation), and
 // the fall goes on.
 func (d *Detector) zig(s sample) {
+	d.ring[d.ringPos] = s
+	d.ringPos = (d.ringPos + 1) % ringN
+	d.ringLen = min(d.ringLen+1, ringN)
 	h := d.swingMin
 	switch d.mode {
 	case 0:
@@ -84,11 +87,42 @@ func (d *Detector) turn(s sample) {
 	}
 	d.seg.reset()
 	d.seg.add(d.ext.t, d.ext.v)
-	d.seg.appendFrom(&d.tail, 0)
+	d.onsetOK = false
+	if d.mode > 0 && d.tail.width > 1 {
+		// A long flat top was averaged: take the fall's start from the raw samples.
+		d.rawOnset()
+	}
+	if d.onsetOK {
+		for k := 0; k < d.ringLen; k++ {
+			r := d.ring[(d.ringPos-d.ringLen+k+2*ringN)%ringN]
+			if r.t >= d.onsetT {
+				d.seg.add(r.t, r.v)
+			}
+		}
+	} else {
+		d.seg.appendFrom(&d.tail, 0)
+	}
 	d.tail.reset()
 	d.last = d.ext
 	d.ext = s
 	d.mode = -d.mode
+}
+
+// rawOnset finds, among the last raw samples, the last one still at the level of the
+// running maximum (within 4 noise SDs, at least one ADC step) before the drop.
+func (d *Detector) rawOnset() {
+	c := math.Max(4*d.sdEff(), d.step)
+	level := d.ext.m
+	for k := d.ringLen - 1; k >= 0; k-- {
+		r := d.ring[(d.ringPos-d.ringLen+k+2*ringN)%ringN]
+		if r.t < d.ext.t {
+			return
+		}
+		if r.v >= level-c && k < d.ringLen-1 {
+			d.onsetOK, d.onsetT, d.onsetV = true, r.t, r.v
+			return
+		}
+	}
 }
 
 // confirm emits the provisional fall.
@@ -152,8 +186,14 @@ func (d *Detector) makeSwing(up, open, gap bool) Swing {
 	// at least one ADC step) before the voltage drops away.
 	c := math.Max(4*d.sdEff(), d.step)
 	k := 0
-	for k+1 < len(pts) && pts[k+1].V >= sw.StartV-c {
-		k++
+	if d.onsetOK {
+		for k+1 < len(pts) && pts[k+1].T <= d.onsetT {
+			k++
+		}
+	} else {
+		for k+1 < len(pts) && pts[k+1].V >= sw.StartV-c {
+			k++
+		}
 	}
 	if len(pts) > 0 {
 		// The fire voltage is the mean of the samples at the starting level.

@@ -25,6 +25,9 @@ type Circuit struct {
 	IQA       float64 // constant quiescent drain, amperes
 	OnV, OffV float64 // trigger thresholds
 	V0        float64 // voltage at t = 0
+	// PeriodS and PulseS, when PeriodS > 0, make the trigger a timer instead: on at
+	// k PeriodS (k = 1, 2, ...) for PulseS, whatever the voltage.
+	PeriodS, PulseS float64
 }
 
 // Light is a photocurrent step: from FromS on, the cell gives IA amperes.
@@ -154,6 +157,13 @@ func (s *state) params(t float64) (vinf, tau float64) {
 // event returns the time at which the trigger next switches, from (t0, v0), with the
 // light as it is at t0 (Inf if never).
 func (s *state) event() float64 {
+	if p := s.c.PeriodS; p > 0 {
+		k := math.Floor(s.t0/p + 1e-12)
+		if s.on {
+			return k*p + s.c.PulseS
+		}
+		return (k + 1) * p
+	}
 	vinf, tau := s.params(s.t0)
 	target := s.c.OnV
 	if s.on {
