@@ -657,3 +657,74 @@ func TestBadWaveform(t *testing.T) {
 		t.Errorf("harness stderr %q does not say %q", emu.Stderr(), want)
 	}
 }
+
+func TestStopDuringBurst(t *testing.T) {
+	// Steady for 1 s, then a 125 Hz triangle of 1 V: every fast sample moves by more
+	// than thr, so the burst would never end by itself.
+	var w strings.Builder
+	w.WriteString("0 5\n1 5\n")
+	for i := 0; i < 2000; i++ {
+		fmt.Fprintf(&w, "%g %g\n", 1+0.004*float64(i+1), 5+float64((i+1)%2))
+	}
+	w.WriteString("600 5\n") // device time runs fast while stopped: keep the board alive
+	b := startBoard(t, w.String())
+	b.bootFrames()
+	b.until("B", func(f wire.Frame) bool { _, ok := f.(wire.BurstBegin); return ok })
+	n := 0
+	b.until("100 burst samples", func(f wire.Frame) bool {
+		if _, ok := f.(wire.Sample); ok {
+			n++
+		}
+		return n == 100
+	})
+	b.send(wire.CmdStop{})
+	// Burst frames already made may still arrive; then OK, then E, and nothing more.
+	var last wire.Sample
+	b.until("the OK to >stop", func(f wire.Frame) bool {
+		switch f := f.(type) {
+		case wire.Sample:
+			last = f
+		case wire.Ack:
+			return f.Cmd == "stop"
+		case wire.BurstEnd:
+			t.Fatal("E before the OK to >stop")
+		}
+		return false
+	})
+	end, ok := b.next().(wire.BurstEnd)
+	if !ok || end.Seq != last.Seq+1 || end.TimeUS != last.TimeUS {
+		t.Fatalf("after OK: %+v, want E seq %d t %d", end, last.Seq+1, last.TimeUS)
+	}
+	b.send(wire.CmdStatus{})
+	b.until("the OK to >status", func(f wire.Frame) bool {
+		switch f := f.(type) {
+		case wire.Sample, wire.Average, wire.BurstBegin:
+			t.Fatalf("%T while stopped", f)
+		case wire.Ack:
+			return f.Cmd == "status"
+		}
+		return false
+	})
+	if st, ok := b.next().(wire.Status); !ok || st.Running {
+		t.Errorf("ST after >stop: %+v, want run=0", st)
+	}
+	b.send(wire.CmdStart{})
+	b.expectReply("start")
+	// Sampling resumes where seq left off; the input still swings, so a new burst
+	// (B) may come before any A.
+	b.until("A or B after >start", func(f wire.Frame) bool {
+		var seq uint32
+		switch f := f.(type) {
+		case wire.Average:
+			seq = f.Seq
+		case wire.BurstBegin:
+			seq = f.Seq
+		default:
+			return false
+		}
+		if seq != end.Seq {
+			t.Errorf("first %s after >start: seq %d, want %d", f.Tag(), seq, end.Seq)
+		}
+		return true
+	})
+}

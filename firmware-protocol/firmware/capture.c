@@ -209,9 +209,9 @@ static void burst_add(const struct sample *s)
 {
 	ring_push(s, n_slots);
 	seq++;
+	end_t = s->t_us; /* E carries the time of the burst's last S */
 	if (quiet(s->c[0])) {
 		state = ENDING;
-		end_t = s->t_us;
 		ref = s->c[0];
 		have_ref = 1;
 		slow_restart();
