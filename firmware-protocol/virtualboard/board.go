@@ -113,10 +113,11 @@ type Board struct {
 	closed      bool
 	runCtx      context.Context
 
-	gen  atomic.Uint64 // power generation: frames and commands of an older one are lost
-	txq  chan txItem
-	cmds chan cmdItem
-	drop uint32 // the ST drop counter, since boot
+	gen    atomic.Uint64 // power generation: frames and commands of an older one are lost
+	txq    chan txItem
+	cmds   chan cmdItem
+	drop   uint32 // the ST drop counter, since boot
+	runGen uint64 // the generation Run is producing for (Run goroutine only)
 
 	frames, samples, dropped, discarded, corrupted, commands, boots, bursts atomic.Int64
 	pending                                                                 atomic.Int64 // items queued and not yet written or lost
@@ -402,7 +403,7 @@ func (b *Board) send(f wire.Frame) {
 	if flip {
 		b.corrupted.Add(1)
 	}
-	b.queue(txItem{gen: b.gen.Load(), b: buf, frame: true})
+	b.queue(txItem{gen: b.runGen, b: buf, frame: true})
 }
 
 // queue hands an item to the writer: at Speed 0 it waits for room (or the end of

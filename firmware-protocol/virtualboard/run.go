@@ -66,6 +66,7 @@ func (b *Board) Run(ctx context.Context) error {
 		b.garbage = nil
 		b.mu.Unlock()
 		gen = b.gen.Load()
+		b.runGen = gen
 		if !plugged {
 			powered = false
 		}
