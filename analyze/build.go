@@ -421,13 +421,18 @@ func (b *builder) equilibrium() {
 // range of voltage. Per cycle, the cell's short-circuit current (or I/C) is the light
 // level.
 func (b *builder) cell() {
+	// The drains over C: the fitted dark decay when there is one, else the probe's known
+	// share alone (when C and the probe are known).
 	drains := func(v float64) float64 {
 		d := 0.0
-		if b.tauLeak > 0 && b.res.Fit.Leak.Method == "dark-decay" {
+		switch {
+		case b.tauLeak > 0 && b.res.Fit.Leak.Method == "dark-decay":
 			d += v / b.tauLeak
 			if !math.IsNaN(b.drift) && b.drift > 0 {
 				d += b.drift
 			}
+		case b.capF > 0 && b.opts.ProbeOhm > 0:
+			d += v / (b.opts.ProbeOhm * b.capF)
 		}
 		return d
 	}
@@ -476,7 +481,9 @@ func (b *builder) cell() {
 		}
 		d = fitDiode(w.v, w.i, ns, tk)
 		if d.ok {
-			cf.IscA = est(d.isc, math.NaN(), "fitted")
+			// Isc = Iph Rsh/(Rs + Rsh) minus a diode current that is nil at 0 V for any
+			// real cell: its SE is taken as the photocurrent's.
+			cf.IscA = est(d.isc, d.sd.Iph, "fitted")
 			cf.VocV = est(d.voc, math.NaN(), "fitted")
 			cf.I0A = est(d.p.I0, d.sd.I0, "fitted")
 			cf.N = est(d.p.N, d.sd.N, "fitted")

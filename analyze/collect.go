@@ -41,7 +41,7 @@ type keptSwing struct {
 }
 
 const tracePts = 32
-const ivPerRise = 16
+const ivPerRise = 24
 
 func newCollector(opts *Options) *collector { return &collector{opts: opts} }
 
@@ -132,24 +132,35 @@ func compact(pts []detect.Point, n int) []tvPt {
 	return out
 }
 
-// traceIV evaluates the slope of a rise at up to ivPerRise times spread over it, each
-// from a local quadratic least-squares fit (Savitzky-Golay on the non-uniform points)
-// over the neighbouring points.
+// traceIV evaluates the slope of a rise at up to ivPerRise voltages spread evenly over
+// its range (so the I-V curve is covered where the voltage moves fast and where it
+// crawls alike), each from a local quadratic least-squares fit (Savitzky-Golay on the
+// non-uniform points) over the neighbouring points.
 func traceIV(pts []detect.Point, s *detect.Swing) []ivPt {
 	n := len(pts)
 	if n < 5 {
 		return nil
 	}
 	k := min(ivPerRise, n/3)
-	half := max(2, n/(2*k))
+	half := max(2, n/(4*k))
+	lo, hi := pts[0].V, pts[n-1].V
 	var out []ivPt
 	ts := make([]float64, 0, 2*half+1)
 	vs := make([]float64, 0, 2*half+1)
+	c := 0
+	last := -1
 	for j := 0; j < k; j++ {
-		c := int((float64(j) + 0.5) / float64(k) * float64(n))
-		lo, hi := max(0, c-half), min(n, c+half+1)
+		level := lo + (hi-lo)*(float64(j)+0.5)/float64(k)
+		for c < n-1 && pts[c].V < level {
+			c++
+		}
+		if c == last {
+			continue
+		}
+		last = c
+		a, b := max(0, c-half), min(n, c+half+1)
 		ts, vs = ts[:0], vs[:0]
-		for _, p := range pts[lo:hi] {
+		for _, p := range pts[a:b] {
 			ts = append(ts, p.T)
 			vs = append(vs, p.V)
 		}

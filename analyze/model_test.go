@@ -139,3 +139,43 @@ func TestModelFernEquilibrium(t *testing.T) {
 		t.Errorf("no settling time")
 	}
 }
+
+// Capacitive-load I-V tracing: the Wren cell charging the capacitor from 0 V towards
+// open circuit under steady light (no trigger). The single-diode fit of the traced
+// points gives the model cell's own Isc and Voc (from its Lambert W solution) within 5 %.
+func TestModelCellTracing(t *testing.T) {
+	sc, _ := model.Scenario("wren")
+	c := *sc.Circuit
+	c.Trigger = model.Trigger{Kind: model.TriggerNone}
+	const g = 300.0
+	ts, vs, _ := simulate(t, &c, model.Constant(g), 120, 100, 0.01, detecttest.ADC{NoiseV: 0.5e-3, Seed: 25})
+	res := RunSamples(ts, vs, &Options{CapF: c.Storage.CapF, ProbeOhm: c.ProbeOhm, CellSeries: c.Cell.Cells})
+	isc, voc := c.Cell.Current(0, g), c.Cell.OpenCircuitV(g)
+	t.Logf("traced %d points; model Isc %.4g A Voc %.4g V; fitted %+v %+v; notes %v", len(res.Fit.Cell.IV), isc, voc, res.Fit.Cell.IscA, res.Fit.Cell.VocV, res.Notes)
+	within(t, "isc_a", res.Fit.Cell.IscA, isc, 0.05)
+	within(t, "voc_v", res.Fit.Cell.VocV, voc, 0.05)
+}
+
+// A plateau trigger (fires when the charging current has fallen off) on the model: every
+// fire found, the kind inferred as plateau.
+func TestModelPlateauTrigger(t *testing.T) {
+	sc, _ := model.Scenario("wren")
+	c := *sc.Circuit
+	c.Trigger = model.Trigger{Kind: model.TriggerPlateau, PlateauA: 0.3e-3, ArmV: 2.0, OffV: 1.5}
+	c.Load = model.Load{Kind: model.LoadResistor, Ohm: 30}
+	c.Switch = model.Switch{}
+	ts, vs, sim := simulate(t, &c, model.Constant(300), 600, 50, 1.0, detecttest.ADC{NoiseV: 1e-3, Bits: 12, FullV: 5, Seed: 26})
+	res := RunSamples(ts, vs, &Options{CapF: c.Storage.CapF})
+	want := 0
+	for _, r := range sim.Resets() {
+		if r < ts[len(ts)-3] {
+			want++
+		}
+	}
+	if len(res.Cycles) != want || want < 3 {
+		t.Fatalf("%d cycles, the model had %d", len(res.Cycles), want)
+	}
+	if res.Fit.Trigger.Kind != "plateau" {
+		t.Errorf("trigger kind %q, want plateau", res.Fit.Trigger.Kind)
+	}
+}

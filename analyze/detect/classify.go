@@ -265,7 +265,7 @@ func Carve(base, events []Segment) []Segment {
 
 // InferTrigger says what kind of trigger the full cycles show:
 //   - "plateau" when the charging had all but stopped at most fires (the slope over the
-//     last fifth of the charge is under 15 % of the charge's mean slope);
+//     last fifth of the charge is under a quarter of the slope over its first fifth);
 //   - "voltage" when the fire voltage is steady (SD within 3 noise SDs plus one ADC step)
 //     while the intervals vary (SD above 2 sample spacings);
 //   - "timer" when the intervals are steady while the fire voltage varies;
@@ -285,8 +285,8 @@ func InferTrigger(cycles []Cycle, swings []Swing, noiseV, stepV, spacingS float6
 		prevFire = c.FireS
 		if c.Swing > 0 {
 			r := swings[c.Swing-1]
-			if r.Up && r.DurationS() > 0 && !math.IsNaN(r.EndSlopeVPerS) {
-				flat = append(flat, r.EndSlopeVPerS/(r.AmplitudeV()/r.DurationS()))
+			if r.Up && r.StartSlopeVPerS > 0 && !math.IsNaN(r.EndSlopeVPerS) {
+				flat = append(flat, r.EndSlopeVPerS/r.StartSlopeVPerS)
 				riseStep = append(riseStep, math.Abs(r.EndSlopeVPerS)*spacingS)
 			}
 		}
@@ -296,7 +296,7 @@ func InferTrigger(cycles []Cycle, swings []Swing, noiseV, stepV, spacingS float6
 	}
 	if len(flat) >= 3 {
 		sort.Float64s(flat)
-		if flat[len(flat)/2] < 0.15 {
+		if flat[len(flat)/2] < 0.25 {
 			return TriggerPlateau
 		}
 	}

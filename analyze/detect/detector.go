@@ -49,8 +49,10 @@ type Swing struct {
 	// FlatS is the time within the minimum swing of the level the swing leaves (falls,
 	// at the start) or reaches (rises, at the end): a plateau when long.
 	FlatS float64
-	// EndSlopeVPerS is, for rises, the slope over the last fifth of the swing.
-	EndSlopeVPerS float64
+	// StartSlopeVPerS and EndSlopeVPerS are, for rises, the slopes over the first and
+	// the last fifth of the swing.
+	StartSlopeVPerS float64
+	EndSlopeVPerS   float64
 	// Fire is set by Finish for falls taken to be fires.
 	Fire bool
 	// OnsetIndex and ResetIndex locate the onset and the end of the fall among the

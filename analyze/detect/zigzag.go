@@ -179,7 +179,8 @@ func (d *Detector) makeSwing(up, open, gap bool) Swing {
 		if len(pts) > 0 {
 			sw.FlatS = sw.EndS - pts[k].T
 		}
-		sw.EndSlopeVPerS = endSlope(pts, sw.StartS+0.8*(sw.EndS-sw.StartS))
+		sw.EndSlopeVPerS = slopeOver(pts, sw.StartS+0.8*(sw.EndS-sw.StartS), sw.EndS)
+		sw.StartSlopeVPerS = slopeOver(pts, sw.StartS, sw.StartS+0.2*(sw.EndS-sw.StartS))
 		return sw
 	}
 	// Fall: the onset is the last sample still at the starting level (within 4 noise SDs,
@@ -230,12 +231,12 @@ func (d *Detector) makeSwing(up, open, gap bool) Swing {
 	return sw
 }
 
-// endSlope is the least-squares slope of the points after time from (NaN for fewer than 3).
-func endSlope(pts []Point, from float64) float64 {
+// slopeOver is the least-squares slope of the points in [from, to] (NaN for fewer than 3).
+func slopeOver(pts []Point, from, to float64) float64 {
 	var st, sv, stt, stv, w float64
 	cnt := 0
 	for _, p := range pts {
-		if p.T < from {
+		if p.T < from || p.T > to {
 			continue
 		}
 		cnt++
@@ -249,7 +250,7 @@ func endSlope(pts []Point, from float64) float64 {
 	}
 	mt, mv := st/w, sv/w
 	for _, p := range pts {
-		if p.T < from {
+		if p.T < from || p.T > to {
 			continue
 		}
 		wt := float64(p.N)
