@@ -40,7 +40,7 @@ func TestWriteBundleRoundTrips(t *testing.T) {
 	}
 	// The report rebuilt from the saved JSON is the same page, byte for byte.
 	html, _ := os.ReadFile(b.HTML)
-	again := renderPage(t, &back, &Options{CSVHref: "wren.cycles.csv", JSONHref: "wren.analysis.json"})
+	again := renderFresh(t, &back, &Options{CSVHref: "wren.cycles.csv", JSONHref: "wren.analysis.json"})
 	if !bytes.Equal(html, again) {
 		t.Error("the report rebuilt from the saved JSON differs from the one written")
 	}

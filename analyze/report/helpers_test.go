@@ -29,7 +29,31 @@ func fixtures() map[string]*analyze.Result {
 	return map[string]*analyze.Result{"wren": wrenOnce(), "fern": fernOnce(), "sparse": sparseResult()}
 }
 
+// pageCache keeps rendered pages of the shared fixtures: each test looks at the same
+// bytes, and rendering a day-long Result once is enough (the race detector makes it slow).
+var pageCache sync.Map // key: pageKey, value: []byte
+
+type pageKey struct {
+	r    *analyze.Result
+	o    Options
+	none bool
+}
+
 func renderPage(t testing.TB, r *analyze.Result, o *Options) []byte {
+	t.Helper()
+	k := pageKey{r: r, none: o == nil}
+	if o != nil {
+		k.o = *o
+	}
+	if v, ok := pageCache.Load(k); ok {
+		return v.([]byte)
+	}
+	page := renderFresh(t, r, o)
+	pageCache.Store(k, page)
+	return page
+}
+
+func renderFresh(t testing.TB, r *analyze.Result, o *Options) []byte {
 	t.Helper()
 	var b bytes.Buffer
 	if err := Write(&b, r, o); err != nil {
@@ -110,18 +134,33 @@ func textOf(n *html.Node) string {
 	return strings.Join(strings.Fields(b.String()), " ")
 }
 
+var jsonDocs sync.Map // *analyze.Result -> any
+
+// jsonDoc is r as the generic JSON tree a script reading the analysis would see.
+func jsonDoc(r *analyze.Result) (any, error) {
+	if d, ok := jsonDocs.Load(r); ok {
+		return d, nil
+	}
+	raw, err := json.Marshal(r)
+	if err != nil {
+		return nil, err
+	}
+	var doc any
+	if err := json.Unmarshal(raw, &doc); err != nil {
+		return nil, err
+	}
+	jsonDocs.Store(r, doc)
+	return doc, nil
+}
+
 // spaced are the elements whose text stands apart from its neighbours'.
 var spaced = map[string]bool{"dt": true, "dd": true, "td": true, "th": true, "li": true, "p": true, "div": true, "code": true}
 
 // jsonValue looks up path in the JSON form of r: dotted keys ("fit.trigger.on_v.value"),
 // "len(list)" or "count(list.key=value)".
 func jsonValue(r *analyze.Result, path string) (float64, error) {
-	raw, err := json.Marshal(r)
+	doc, err := jsonDoc(r)
 	if err != nil {
-		return 0, err
-	}
-	var doc any
-	if err := json.Unmarshal(raw, &doc); err != nil {
 		return 0, err
 	}
 	get := func(p string) (any, error) {
