@@ -3,9 +3,12 @@
 package virtualboard
 
 import (
+	"bytes"
 	"context"
 	"errors"
 	"path/filepath"
+	"reflect"
+	"sync"
 	"testing"
 	"time"
 
@@ -332,4 +335,68 @@ func TestRealTimePace(t *testing.T) {
 	if el := time.Since(start); el < 150*time.Millisecond || el > 2*time.Second {
 		t.Errorf("40 A frames at Speed 20 took %v, want about 0.2 s", el)
 	}
+}
+
+func TestReferenceAndDividerErrors(t *testing.T) {
+	// The true reference is 2 % high: a true 2.0 V reads 2.0/(5*1.02)*1024 = 401.57,
+	// truncated 401, 4*401 = 1604 counts, which a host using the nominal 5 V turns into
+	// 1.958 V: a gain error that >cal corrects.
+	b := startBoard(t, &Config{Source: constant(2, 100), RefError: 0.02})
+	h := openHost(t, b.Path())
+	fs := h.until(isTag("A"))
+	if a := fs[len(fs)-1].(wire.Average); a.Mean[0] != 1604 {
+		t.Errorf("mean %d, want 1604", a.Mean[0])
+	}
+	// A 5 % divider tolerance draws each true ratio within ±5 % of nominal, the
+	// same for the same seed.
+	for seed := uint64(0); seed < 20; seed++ {
+		b1, err := Open(&Config{Source: constant(1, 1), Div: []float64{0.5}, DivTolerance: 0.05, Seed: seed})
+		if err != nil {
+			t.Fatal(err)
+		}
+		b2, _ := Open(&Config{Source: constant(1, 1), Div: []float64{0.5}, DivTolerance: 0.05, Seed: seed})
+		if r := b1.trueDiv[0]; r < 0.475 || r > 0.525 || r != b2.trueDiv[0] {
+			t.Errorf("seed %d: true ratio %v (and %v)", seed, r, b2.trueDiv[0])
+		}
+		b1.Close()
+		b2.Close()
+	}
+}
+
+func TestFramesLostWithoutHost(t *testing.T) {
+	// At Speed > 0 frames made while no host has the port open are lost, as on a real
+	// link; the board counts them, and the Tap sees only what went out.
+	var tap syncBuffer
+	b := startBoard(t, &Config{Source: constant(1, 1e6), Speed: 50, Tap: &tap})
+	time.Sleep(200 * time.Millisecond) // 10 world seconds: about 100 A frames
+	h := openHost(t, b.Path())
+	fs := h.until(isTag("A"))
+	if st := b.Stats(); st.Discarded < 50 {
+		t.Errorf("board stats %+v: want at least 50 frames discarded", st)
+	}
+	if a := fs[len(fs)-1].(wire.Average); a.Seq < 50 {
+		t.Errorf("first A the host saw has seq %d, want the ones before lost", a.Seq)
+	}
+	d := wire.NewDecoder(&tap)
+	if f, err := d.Next(); err != nil || !reflect.DeepEqual(f, fs[0]) {
+		t.Errorf("the tap starts with %v %v, want the host's first frame %v", f, err, fs[0])
+	}
+}
+
+// syncBuffer is a bytes.Buffer safe for the board's writer and the test.
+type syncBuffer struct {
+	mu sync.Mutex
+	b  bytes.Buffer
+}
+
+func (s *syncBuffer) Write(p []byte) (int, error) {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	return s.b.Write(p)
+}
+
+func (s *syncBuffer) Read(p []byte) (int, error) {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	return s.b.Read(p)
 }
