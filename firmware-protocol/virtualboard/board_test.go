@@ -377,6 +377,10 @@ func TestFramesLostWithoutHost(t *testing.T) {
 	if a := fs[len(fs)-1].(wire.Average); a.Seq < 50 {
 		t.Errorf("first A the host saw has seq %d, want the ones before lost", a.Seq)
 	}
+	// The tap gets the bytes just after the pseudo-terminal took them.
+	for i := 0; i < 100 && tap.Len() == 0; i++ {
+		time.Sleep(time.Millisecond)
+	}
 	d := wire.NewDecoder(&tap)
 	if f, err := d.Next(); err != nil || !reflect.DeepEqual(f, fs[0]) {
 		t.Errorf("the tap starts with %v %v, want the host's first frame %v", f, err, fs[0])
@@ -393,6 +397,12 @@ func (s *syncBuffer) Write(p []byte) (int, error) {
 	s.mu.Lock()
 	defer s.mu.Unlock()
 	return s.b.Write(p)
+}
+
+func (s *syncBuffer) Len() int {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	return s.b.Len()
 }
 
 func (s *syncBuffer) Read(p []byte) (int, error) {
