@@ -371,3 +371,24 @@ func TestVectorsC(t *testing.T) {
 		}
 	}
 }
+
+// TestFrameBuildsForAVR compiles frame.c for the board, so that nothing host-only
+// creeps into it (the firmware's own build links it).
+func TestFrameBuildsForAVR(t *testing.T) {
+	cc, err := exec.LookPath("avr-gcc")
+	if err != nil {
+		t.Skip("avr-gcc not found: frame.c is not compiled for the ATmega328P (install gcc-avr avr-libc)")
+	}
+	obj := filepath.Join(t.TempDir(), "frame.o")
+	fw := filepath.Join("..", "firmware")
+	cmd := exec.Command(cc, "-std=c99", "-Wall", "-Wextra", "-Werror", "-mmcu=atmega328p", "-Os",
+		"-c", "-o", obj, filepath.Join(fw, "frame.c"))
+	if out, err := cmd.CombinedOutput(); err != nil {
+		t.Fatalf("avr-gcc: %v\n%s", err, out)
+	}
+	if size, err := exec.LookPath("avr-size"); err == nil {
+		if out, err := exec.Command(size, obj).Output(); err == nil {
+			t.Logf("frame.c for the ATmega328P:\n%s", out)
+		}
+	}
+}
