@@ -92,6 +92,12 @@ func (r *timedReader) Read(b []byte) (int, error) {
 // startBoard writes the waveform, starts the emulated board and opens its port.
 func startBoard(t *testing.T, wave string) *board {
 	t.Helper()
+	return startBoardEE(t, wave, "")
+}
+
+// startBoardEE is startBoard with an EEPROM image file ("" for a blank EEPROM).
+func startBoardEE(t *testing.T, wave, eeprom string) *board {
+	t.Helper()
 	if skipMsg != "" {
 		t.Skip("emulated board unavailable: " + skipMsg)
 	}
@@ -103,7 +109,7 @@ func startBoard(t *testing.T, wave string) *board {
 		t.Fatal(err)
 	}
 	ctx, cancel := context.WithCancel(context.Background())
-	emu, err := emulator.Start(ctx, bins, &emulator.Config{Waveform: path, Div: []float64{divider}})
+	emu, err := emulator.Start(ctx, bins, &emulator.Config{Waveform: path, Div: []float64{divider}, EEPROM: eeprom})
 	if err != nil {
 		cancel()
 		t.Fatal(err)
@@ -559,10 +565,10 @@ func TestFourChannels(t *testing.T) {
 		t.Fatalf("after >chan: %+v, want nch=4", id)
 	}
 	// 16 conversions per channel plus one discarded after each mux change, 112 us
-	// each: 1e6 / (68*112 + 64) = 130 Hz. The 288-byte ring holds 24 four-channel
-	// samples, so pre comes down to 22.
-	if id.MaxHz != 130 || id.Pre != 22 {
-		t.Errorf("four channels: max_hz %d pre %d, want 130 and 22", id.MaxHz, id.Pre)
+	// each: 1e6 / (68*112 + 64) = 130 Hz. The 272-byte ring holds 22 four-channel
+	// samples (4 + 2*4 bytes each), so pre comes down to 20.
+	if id.MaxHz != 130 || id.Pre != 20 {
+		t.Errorf("four channels: max_hz %d pre %d, want 130 and 20", id.MaxHz, id.Pre)
 	}
 	chans := make([]wire.Channel, 4)
 	for k := range chans {
@@ -727,4 +733,51 @@ func TestStopDuringBurst(t *testing.T) {
 		}
 		return true
 	})
+}
+
+// stop ends the emulated board now (the harness writes its EEPROM image).
+func (b *board) stop() {
+	b.t.Helper()
+	b.close()
+	if err := b.emu.Close(); err != nil {
+		b.t.Fatal(err)
+	}
+}
+
+func TestEEPROMPersists(t *testing.T) {
+	ee := filepath.Join(t.TempDir(), "eeprom.bin")
+	b := startBoardEE(t, flat(5, 600), ee)
+	b.bootFrames()
+	b.send(wire.CmdRate{SlowHz: 5, FastHz: 250})
+	b.expectReply("rate")
+	b.send(wire.CmdCal{Ch: 0, Div: 250000, Gain: 1001200, OffUV: -3000})
+	b.expectReply("cal")
+	b.send(wire.CmdSave{})
+	if _, ok := b.expectReply("save").(wire.Ack); !ok {
+		t.Fatal(">save refused")
+	}
+	b.stop()
+
+	// Power it up again with the same EEPROM: the saved settings are in force.
+	b = startBoardEE(t, flat(5, 600), ee)
+	id, ch, _ := b.bootFrames()
+	if id.SlowHz != 5 || id.FastHz != 250 || ch.Div != 250000 || ch.Gain != 1001200 || ch.OffUV != -3000 {
+		t.Errorf("after a restart: ID %+v CH %+v, want the saved rate and calibration", id, ch)
+	}
+	b.stop()
+
+	// A damaged copy fails its CRC: the defaults apply.
+	img, err := os.ReadFile(ee)
+	if err != nil {
+		t.Fatal(err)
+	}
+	img[10] ^= 0x01 // inside the stored settings
+	if err := os.WriteFile(ee, img, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	b = startBoardEE(t, flat(5, 600), ee)
+	id, ch, _ = b.bootFrames()
+	if id.SlowHz != 10 || id.FastHz != 500 || ch.Div != 333333 {
+		t.Errorf("damaged EEPROM: ID %+v CH %+v, want the defaults", id, ch)
+	}
 }

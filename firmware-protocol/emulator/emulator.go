@@ -124,6 +124,10 @@ type Config struct {
 	AVccMV int
 	// NoWait starts the firmware at once instead of when a host first opens the port.
 	NoWait bool
+	// EEPROM is the path of an EEPROM image: loaded at start if it exists and written
+	// back when the harness stops, so >save survives a restart. "" means a blank
+	// EEPROM every run.
+	EEPROM string
 }
 
 // Board is a running emulated board.
@@ -173,6 +177,9 @@ func Start(ctx context.Context, bin Binaries, cfg *Config) (*Board, error) {
 	}
 	if cfg.NoWait {
 		args = append(args, "-n")
+	}
+	if cfg.EEPROM != "" {
+		args = append(args, "-e", cfg.EEPROM)
 	}
 	args = append(args, bin.Firmware)
 	cmd := exec.CommandContext(ctx, bin.Harness, args...)

@@ -96,7 +96,7 @@ uint16_t adc_max_hz(uint8_t nch)
 	return pgm_read_word(&max_hz_tab[nch - 1]);
 }
 
-/* Busy-wait conversions on the current ADMUX, results discarded. Interrupts off. */
+/* Busy-wait conversions on the current ADMUX, results discarded (no ADC interrupt). */
 static void settle(uint8_t n)
 {
 	while (n--) {
@@ -117,6 +117,22 @@ void adc_configure(uint16_t fast_hz, uint8_t nch, uint8_t ref)
 	uint8_t slow = us > 32768UL;
 	uint16_t top = slow ? (uint16_t)((us + 8) >> 4) - 1 : (uint16_t)(us * 2 - 1);
 
+	/* Stop any block (the caller has stopped new ones with adc_run(0)); the clock
+	 * keeps running. */
+	ATOMIC_BLOCK(ATOMIC_FORCEON)
+	{
+		ADCSRA = _BV(ADEN) | _BV(ADIF) | ADC_PRESCALER_BITS;
+		busy = 0;
+		q_head = q_tail = 0;
+	}
+	uint8_t rb = refs_bits(ref);
+	if (rb != admux_ref) {
+		/* New reference: let it settle, discarding the conversions. Interrupts stay
+		 * on, so the USART loses no byte meanwhile. */
+		admux_ref = rb;
+		ADMUX = rb;
+		settle(4);
+	}
 	ATOMIC_BLOCK(ATOMIC_FORCEON)
 	{
 		TIMSK1 = 0;
@@ -126,17 +142,7 @@ void adc_configure(uint16_t fast_hz, uint8_t nch, uint8_t ref)
 		clock_us += slow_timer ? (uint32_t)TCNT1 << 4 : TCNT1 >> 1;
 		slow_timer = slow;
 		tick_us = slow ? ((uint32_t)top + 1) << 4 : us;
-		ADCSRA = _BV(ADEN) | _BV(ADIF) | ADC_PRESCALER_BITS; /* stop any block */
-		busy = 0;
-		q_head = q_tail = 0;
 		n_ch = nch;
-		uint8_t rb = refs_bits(ref);
-		if (rb != admux_ref) {
-			/* New reference: let it settle, discarding the conversions. */
-			admux_ref = rb;
-			ADMUX = rb;
-			settle(4);
-		}
 		TCCR1A = 0;
 		TCNT1 = 0;
 		TCCR1B = _BV(WGM12) | (slow ? _BV(CS12) : _BV(CS11)); /* CTC on OCR1A */

@@ -37,15 +37,18 @@
 
 /* Transmit queue (bytes, power of two, at least the longest A frame). */
 #define TX_SIZE 128
-/* Receive queue (bytes, power of two) and the longest command line accepted. */
-#define RX_SIZE 32
+/* Receive queue (bytes, power of two) and the longest command line accepted. The
+ * queue holds a whole command (up to 63 bytes with its "\n"), so a command sent as soon
+ * as the previous reply arrives survives while the firmware is still queueing the ID
+ * and CH frames that follow that reply. */
+#define RX_SIZE 64
 #define CMD_MAX 63
 
 /* Pre-trigger ring: bytes of storage, shared between the channels. One slot is a
- * 32-bit time stamp plus one 16-bit count per enabled channel, so the ring holds 48
- * samples with one channel, 36 with two, 28 with three and 24 with four; `pre` can be
+ * 32-bit time stamp plus one 16-bit count per enabled channel, so the ring holds 45
+ * samples with one channel, 34 with two, 27 with three and 22 with four; `pre` can be
  * at most two less. */
-#define RING_BYTES 288
+#define RING_BYTES 272
 
 /* Default fast rate: 500 Hz, or 250 Hz where the link cannot carry 500 S frames a
  * second (below 250 kbaud; see adc_max_hz). */

@@ -12,6 +12,8 @@
  *     -m MCU      simavr core (default atmega328p)   -f HZ  clock (default 16000000)
  *     -a MV       AVcc in millivolts (default 5000)  -r MV  AREF pin (default = AVcc)
  *     -n          start at once instead of waiting for the first host to open the port
+ *     -e FILE     EEPROM image: loaded at start if the file exists, written back at exit,
+ *                 so settings stored with >save survive a restart as on a real board
  *
  * It prints the pseudo-terminal's path as the first line on standard output, then runs.
  * It exits 0 when device time passes the last waveform point after end of file, and 0 on
@@ -50,6 +52,7 @@
 #include <unistd.h>
 
 #include "avr_adc.h"
+#include "avr_eeprom.h"
 #include "avr_uart.h"
 #include "sim_avr.h"
 #include "sim_elf.h"
@@ -303,19 +306,47 @@ static void on_signal(int sig)
 	stop_flag = 1;
 }
 
+/* ---- EEPROM image ---- */
+
+#define EE_SIZE 1024 /* ATmega328P */
+
+static void eeprom_load(const char *path)
+{
+	uint8_t buf[EE_SIZE];
+	FILE *f = fopen(path, "rb");
+	if (!f)
+		return; /* none yet: the ELF's .eeprom section (blank) stays */
+	size_t n = fread(buf, 1, sizeof buf, f);
+	fclose(f);
+	avr_eeprom_desc_t d = {.ee = buf, .offset = 0, .size = (uint32_t)n};
+	avr_ioctl(avr, AVR_IOCTL_EEPROM_SET, &d);
+}
+
+static void eeprom_save(const char *path)
+{
+	uint8_t buf[EE_SIZE];
+	avr_eeprom_desc_t d = {.ee = buf, .offset = 0, .size = sizeof buf};
+	avr_ioctl(avr, AVR_IOCTL_EEPROM_GET, &d);
+	if (d.ee != buf) /* this simavr hands out a pointer instead of copying */
+		memcpy(buf, d.ee, sizeof buf);
+	FILE *f = fopen(path, "wb");
+	if (!f || fwrite(buf, 1, sizeof buf, f) != sizeof buf || fclose(f) != 0)
+		fprintf(stderr, "emulator: %s: cannot write the EEPROM image\n", path);
+}
+
 static void usage(void)
 {
 	fprintf(stderr, "usage: capcycle-emulator [-w wave] [-d r0,r1,..] [-m mcu] [-f hz] "
-			"[-a avcc_mv] [-r aref_mv] [-n] firmware.elf\n");
+			"[-a avcc_mv] [-r aref_mv] [-e eeprom] [-n] firmware.elf\n");
 	exit(2);
 }
 
 int main(int argc, char **argv)
 {
-	const char *wave_path = NULL, *mcu = "atmega328p";
+	const char *wave_path = NULL, *mcu = "atmega328p", *ee_path = NULL;
 	unsigned long freq = 16000000UL, avcc = 5000, aref = 0;
 	int nowait = 0, c;
-	while ((c = getopt(argc, argv, "w:d:m:f:a:r:n")) != -1) {
+	while ((c = getopt(argc, argv, "w:d:m:f:a:r:e:n")) != -1) {
 		switch (c) {
 		case 'w':
 			wave_path = optarg;
@@ -349,6 +380,9 @@ int main(int argc, char **argv)
 			break;
 		case 'n':
 			nowait = 1;
+			break;
+		case 'e':
+			ee_path = optarg;
 			break;
 		default:
 			usage();
@@ -390,6 +424,8 @@ int main(int argc, char **argv)
 	avr->aref = (uint32_t)aref;
 	avr->sleep = no_sleep;
 	avr->log = 0;
+	if (ee_path)
+		eeprom_load(ee_path);
 
 	adc_irq = avr_io_getirq(avr, AVR_IOCTL_ADC_GETIRQ, 0);
 	avr_irq_register_notify(adc_irq + ADC_IRQ_OUT_TRIGGER, adc_trigger, NULL);
@@ -452,6 +488,8 @@ done:
 	/* Give a connected host the last bytes. */
 	for (int i = 0; i < 50 && out_len && connected(); i++)
 		bridge(20);
+	if (ee_path)
+		eeprom_save(ee_path);
 	if (state == cpu_Crashed)
 		fprintf(stderr, "emulator: the firmware crashed at %.6f s\n",
 			(double)avr->cycle / avr->frequency);
