@@ -60,7 +60,8 @@ const (
 	// TriggerTimer turns on at PhaseS + k PeriodS for PulseS, whatever the voltage.
 	TriggerTimer
 	// TriggerPlateau turns on when the net charging current C dV/dt falls below PlateauA
-	// while V is at least ArmV (the charge has levelled off), and off when V falls to OffV.
+	// while V is at least ArmV (the charge has levelled off), and off when V falls to OffV
+	// (or, with OffV = 0, after PulseS).
 	TriggerPlateau
 )
 
@@ -81,7 +82,7 @@ type Trigger struct {
 	HoldF    float64 // hold: hold capacitance, farads
 	DiodeV   float64 // hold: forward drop of the isolation diode (ideal diode with a fixed drop), volts
 	PeriodS  float64 // timer: period, seconds
-	PulseS   float64 // timer: on time, seconds
+	PulseS   float64 // timer: on time; plateau with OffV = 0: fixed on time, seconds
 	PhaseS   float64 // timer: time of the first fire, seconds (default 0)
 	PlateauA float64 // plateau: net charging current below which it fires, amperes
 	ArmV     float64 // plateau: node voltage at or above which it may fire, volts
@@ -219,9 +220,12 @@ func (t *Trigger) validate() []error {
 		return errs
 	case TriggerPlateau:
 		errs := []error{positive("Trigger.PlateauA", t.PlateauA), positive("Trigger.ArmV", t.ArmV),
-			nonNegative("Trigger.OffV", t.OffV)}
+			nonNegative("Trigger.OffV", t.OffV), nonNegative("Trigger.PulseS", t.PulseS)}
 		if t.OffV >= t.ArmV {
 			errs = append(errs, &FieldError{"Trigger.OffV", t.OffV, "must be below Trigger.ArmV"})
+		}
+		if t.OffV == 0 && !(t.PulseS > 0) {
+			errs = append(errs, &FieldError{"Trigger.PulseS", t.PulseS, "a plateau trigger needs a release: OffV or PulseS"})
 		}
 		return errs
 	}

@@ -101,6 +101,7 @@ type engine struct {
 	// derived constants
 	gLeak, gProbe, gBranch float64
 	hasBranch, hold, motor bool
+	useL                   bool  // integrate the armature inductance
 	active                 []int // indices under error control
 
 	rtol    float64
@@ -173,6 +174,14 @@ func newEngine(c *Circuit, light Light, opt *Options) (*engine, error) {
 	}
 	e.hold = c.Trigger.Kind == TriggerHold
 	e.motor = c.Load.Kind == LoadMotor && c.Trigger.Kind != TriggerNone
+	if e.motor && c.Load.InductH > 0 {
+		tauE := c.Load.InductH / (c.Load.Ohm + c.Switch.OnOhm)
+		min := o.QuasiStaticS
+		if min == 0 {
+			min = DefaultQuasiStaticS
+		}
+		e.useL = min < 0 || tauE >= min
+	}
 	e.rtol = orDefault(o.RelTol, DefaultRelTol)
 	atolV := orDefault(o.AbsTolV, DefaultAbsTolV)
 	e.atol[iV], e.atol[iVb], e.atol[iVh] = atolV, atolV, atolV
@@ -186,7 +195,7 @@ func newEngine(c *Circuit, light Light, opt *Options) (*engine, error) {
 		e.active = append(e.active, iVh)
 	}
 	if e.motor {
-		if c.Load.InductH > 0 {
+		if e.useL {
 			e.active = append(e.active, iI)
 		}
 		e.active = append(e.active, iW)
@@ -254,7 +263,7 @@ func (e *engine) quiescent(s float64) float64 {
 	return iq * u * u * (3 - 2*u)
 }
 
-// motorCurrent returns the armature current: the state when the motor has inductance,
+// motorCurrent returns the armature current: the state when the inductance is integrated,
 // otherwise the quasi-static (V_sw - Ke ω)/(R + R_on), never negative (the switch blocks
 // reverse current).
 func (e *engine) motorCurrent(y *vec, m mode) float64 {
@@ -262,7 +271,7 @@ func (e *engine) motorCurrent(y *vec, m mode) float64 {
 		return 0
 	}
 	l := &e.c.Load
-	if l.InductH > 0 {
+	if e.useL {
 		return math.Max(y[iI], 0)
 	}
 	i := (y[iV] - e.c.Switch.DropV - l.KeVsPerRad*y[iW]) / (l.Ohm + e.c.Switch.OnOhm)
@@ -291,7 +300,7 @@ func (e *engine) eval(t float64, y *vec, m mode, dy *vec) aux {
 		l := &c.Load
 		w := y[iW]
 		if m.on {
-			if l.InductH > 0 {
+			if e.useL {
 				i := y[iI]
 				vsw := v - c.Switch.DropV - c.Switch.OnOhm*i
 				di := (vsw - l.Ohm*i - l.KeVsPerRad*w) / l.InductH
@@ -352,12 +361,13 @@ func (e *engine) watched(m mode, out *[3]transition) int {
 	n := 0
 	switch e.c.Trigger.Kind {
 	case TriggerVoltage, TriggerHold, TriggerPlateau:
-		if m.on {
-			out[n] = trRelease
-		} else {
+		if !m.on {
 			out[n] = trFire
+			n++
+		} else if e.c.Trigger.Kind != TriggerPlateau || e.c.Trigger.OffV > 0 {
+			out[n] = trRelease
+			n++
 		}
-		n++
 	}
 	if e.hold {
 		if m.conducting {
@@ -429,6 +439,9 @@ func (e *engine) apply(tr transition) {
 	case trFire:
 		e.m.on = true
 		e.y[iI] = 0
+		if tg := &e.c.Trigger; tg.Kind == TriggerPlateau && tg.OffV == 0 {
+			e.nextTimed = e.t + tg.PulseS
+		}
 		e.cyc.fired, e.cyc.fireS, e.cyc.fireV = true, e.t, e.y[iV]
 		e.events = append(e.events, Event{TS: e.t, Kind: EventFire, V: e.y[iV], HoldV: e.state().HoldV})
 	case trRelease:
@@ -666,6 +679,11 @@ func (e *engine) advance() (bool, error) {
 // timerTransition switches a timer trigger at e.nextTimed and schedules the next one.
 func (e *engine) timerTransition() {
 	tg := &e.c.Trigger
+	if tg.Kind == TriggerPlateau {
+		e.nextTimed = math.Inf(1)
+		e.apply(trRelease)
+		return
+	}
 	if !e.m.on {
 		e.apply(trFire)
 		e.nextTimed = e.t + tg.PulseS

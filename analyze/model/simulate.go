@@ -8,6 +8,12 @@ const (
 	DefaultAbsTolV  = 1e-9 // absolute tolerance on voltages, volts
 	DefaultMaxStepS = 5.0  // longest step, seconds (keeps light changes and events in view)
 	DefaultRateHz   = 10.0 // Sampler rate when Options.RateHz is zero
+
+	// DefaultQuasiStaticS is the armature time constant L/(R+R_on) below which the motor
+	// current is taken to follow the voltage at once. Such a lag (tens of µs for a small
+	// motor) is far shorter than the pulse and the mechanical time constant, and
+	// integrating it would force microsecond steps through every pulse.
+	DefaultQuasiStaticS = 200e-6
 )
 
 // Options control a run. The zero value (or nil) means the defaults given per field.
@@ -19,6 +25,9 @@ type Options struct {
 	RelTol    float64      // relative step tolerance (0: DefaultRelTol)
 	AbsTolV   float64      // absolute step tolerance on voltages, volts (0: DefaultAbsTolV)
 	MaxStepS  float64      // longest integrator step, seconds (0: DefaultMaxStepS)
+	// QuasiStaticS: armature time constants below it are treated as instantaneous
+	// (0: DefaultQuasiStaticS; negative: always integrate the inductance).
+	QuasiStaticS float64
 }
 
 func (o *Options) validate() error {
@@ -27,6 +36,9 @@ func (o *Options) validate() error {
 		v    float64
 	}{{"Options.DurationS", o.DurationS}, {"Options.StartV", o.StartV}, {"Options.RateHz", o.RateHz},
 		{"Options.RelTol", o.RelTol}, {"Options.AbsTolV", o.AbsTolV}, {"Options.MaxStepS", o.MaxStepS}} {
+		if f.name == "Options.QuasiStaticS" {
+			continue
+		}
 		if err := nonNegative(f.name, f.v); err != nil {
 			return err
 		}

@@ -109,6 +109,11 @@ func runSpice(tb testing.TB, bin string, c *Circuit, light Light, durS, startV, 
 	if msg, err := cmd.CombinedOutput(); err != nil {
 		tb.Fatalf("ngspice: %v\n%s", err, msg)
 	}
+	return readSpiceOut(tb, out, c.Load.Ohm)
+}
+
+// readSpiceOut reads the wrdata file: time, v(v), time, v(l) per line.
+func readSpiceOut(tb testing.TB, out string, rl float64) *spiceRun {
 	f, err := os.Open(out)
 	if err != nil {
 		tb.Fatal(err)
@@ -116,7 +121,6 @@ func runSpice(tb testing.TB, bin string, c *Circuit, light Light, durS, startV, 
 	defer f.Close()
 	r := &spiceRun{}
 	sc := bufio.NewScanner(f)
-	rl := c.Load.Ohm
 	for sc.Scan() {
 		fs := strings.Fields(sc.Text())
 		if len(fs) < 3 {
@@ -318,4 +322,34 @@ func compareEvents(tb testing.TB, c *Circuit, sp *spiceRun, res *Result, durS fl
 func before(ts []float64, end float64) []float64 {
 	n := sort.SearchFloat64s(ts, end)
 	return ts[:n]
+}
+
+// wrenTwin is the sunny-sill rover reduced to what a netlist carries exactly: its panel,
+// capacitor, leakage and probe; a voltage trigger with fixed release in place of the
+// hold-capacitor supervisor; the motor's armature resistance in place of the motor; and the
+// windowsill day as a piecewise-linear light sampled every 30 s.
+func wrenTwin(tb testing.TB) (*Circuit, *Piecewise) {
+	sc, err := Scenario("wren")
+	if err != nil {
+		tb.Fatal(err)
+	}
+	w := sc.Circuit
+	c := &Circuit{
+		Cell:     w.Cell,
+		Storage:  w.Storage,
+		ProbeOhm: w.ProbeOhm,
+		Trigger:  Trigger{Kind: TriggerVoltage, OnV: 2.9, OffV: 1.2},
+		Switch:   Switch{OnOhm: 1},
+		Load:     Load{Ohm: w.Load.Ohm},
+	}
+	var ts, g []float64
+	for t := 0.0; t <= 86400; t += 30 {
+		ts = append(ts, t)
+		g = append(g, sc.Light.IrradianceWm2(t))
+	}
+	light, err := NewPiecewise(ts, g)
+	if err != nil {
+		tb.Fatal(err)
+	}
+	return c, light
 }

@@ -7,37 +7,43 @@ import (
 	"time"
 )
 
-// WindowDay is the light on a cell standing behind a window, from the sun's position, a
-// clear-sky beam, a diffuse share and seeded passing clouds. Time t counts from Start and
+// WindowDay is the light on a cell standing behind a window, from the sun's position, the
+// sky's clearness, a diffuse share and seeded passing clouds. Time t counts from Start and
 // may run over several days.
 //
 // Sun position: the NOAA Global Monitoring Division "General Solar Position Calculations"
-// equations, whose declination and equation of time are the Fourier series of
-// Spencer (1971, Search 2(5), 172). Beam (direct normal) irradiance of a clear sky:
-// DNI = 1353 W/m² × 0.7^(AM^0.678) (Meinel and Meinel, 1976), air mass AM by Kasten and
-// Young (1989). The beam on the window follows the angle of incidence on a plane of tilt β
-// and azimuth γ: cos θ = cos Z cos β + sin Z sin β cos(A - γ).
+// equations, whose declination and equation of time are the Fourier series of Spencer
+// (1971, Search 2(5), 172).
+//
+// Irradiance: the global horizontal irradiance is k_t times the extraterrestrial one,
+// G0 cos Z with G0 = 1361 W/m² (Kopp and Lean, 2011) times the orbital eccentricity factor
+// 1 + 0.033 cos(2π n/365) (Duffie and Beckman; from memory), but never more than the
+// clear-sky value of Haurwitz (1945), 1098 cos Z exp(-0.059/cos Z) W/m² (as given by Reno,
+// Hansen and Stein, Sandia report SAND2012-2389; from memory), which supplies the fall-off
+// at a low sun. The clearness index k_t is the one that gives the stated diffuse fraction
+// in the correlation of Erbs, Klein and Duffie (1982, Solar Energy 28, 293; coefficients
+// from memory), so a diffuse fraction of 0.95 is an overcast day and 0.2 a clear one. The
+// diffuse part reaches a plane of tilt β from the isotropic sky, (1 + cos β)/2 of it; the
+// beam falls on the window at the angle of incidence
+// cos θ = cos Z cos β + sin Z sin β cos(A - γ).
 type WindowDay struct {
-	Start        time.Time // local start of the run (its zone gives the clock)
-	LatitudeDeg  float64   // north positive
-	LongitudeDeg float64   // east positive
-	AzimuthDeg   float64   // direction the window faces, clockwise from north (180 = south)
-	TiltDeg      float64   // window tilt from horizontal (90 = an upright window)
-	Transmit     float64   // glass transmittance, 0..1 (0 means 0.8, clear float glass, from memory)
-	BeamShare    float64   // share of the beam that reaches the cell, 0..1 (frame, buildings; 0 means 1; use Shaded for none)
-	Shaded       bool      // no direct sun at all (a north window in a courtyard)
-	// DiffuseFraction is the diffuse share of the clear-sky global irradiance on a horizontal
-	// plane, 0..1 (0 means 0.2): D_h = f/(1-f) · DNI cos Z.
-	DiffuseFraction float64
-	ScaleWm2        float64 // extra factor on the result, e.g. the cell's share of the pane (0 means 1)
+	Start           time.Time // start of the run; its UTC clock with LongitudeDeg gives solar time
+	LatitudeDeg     float64   // north positive
+	LongitudeDeg    float64   // east positive (0 with a UTC Start means local solar time)
+	AzimuthDeg      float64   // direction the window faces, clockwise from north (180 = south)
+	TiltDeg         float64   // window tilt from horizontal (90 = an upright window)
+	DiffuseFraction float64   // diffuse share of the global horizontal irradiance, 0..1 (0 means 0.2)
+	Transmit        float64   // glass transmittance, 0..1 (0 means 0.8, clear float glass; from memory)
+	Shaded          bool      // no direct sun reaches the cell (buildings, a deep reveal)
+	Shade           float64   // share of all the window's light that is blocked before the cell, 0..1
 
-	// Clouds: passing clouds, each removing CloudDepth of the beam, separated by
+	// Clouds: passing clouds, each removing up to CloudDepth of the beam, separated by
 	// exponentially distributed gaps of mean CloudGapS and lasting exponentially
 	// distributed times of mean CloudS, with CloudEdgeS raised-cosine edges. CloudS = 0
-	// means a cloudless day. The same Seed gives the same clouds.
+	// means no passing clouds. The same Seed gives the same clouds.
 	Seed       uint64
 	CloudS     float64 // mean cloud duration, seconds
-	CloudGapS  float64 // mean clear gap, seconds
+	CloudGapS  float64 // mean clear gap, seconds (0 means 600 s)
 	CloudDepth float64 // beam removed at the heart of a cloud, 0..1
 	CloudEdgeS float64 // edge duration, seconds (0 means 10 s)
 }
@@ -50,8 +56,7 @@ func (w *WindowDay) IrradianceWm2(t float64) float64 {
 
 func (w *WindowDay) combine(beam, diffuse, cloud float64) float64 {
 	tr := orDefault(w.Transmit, 0.8)
-	sc := orDefault(w.ScaleWm2, 1)
-	return sc * tr * (beam*cloud + diffuse)
+	return (1 - w.Shade) * tr * (beam*cloud + diffuse)
 }
 
 func orDefault(v, d float64) float64 {
@@ -95,7 +100,7 @@ func sunPosition(when time.Time, latDeg, lonDeg float64) (zenith, azimuth float6
 }
 
 // clearSky returns the beam and diffuse irradiance on the window plane (before the glass)
-// at t: the geometry part, smooth in t.
+// at t: the smooth part, without passing clouds.
 func (w *WindowDay) clearSky(t float64) (beam, diffuse float64) {
 	when := w.Start.Add(time.Duration(t * float64(time.Second)))
 	zen, az := sunPosition(when, w.LatitudeDeg, w.LongitudeDeg)
@@ -103,19 +108,52 @@ func (w *WindowDay) clearSky(t float64) (beam, diffuse float64) {
 	if cz <= 0 {
 		return 0, 0
 	}
-	zd := zen * 180 / math.Pi
-	am := 1 / (cz + 0.50572*math.Pow(96.07995-zd, -1.6364)) // Kasten and Young (1989)
-	dni := 1353 * math.Pow(0.7, math.Pow(am, 0.678))        // Meinel and Meinel (1976)
+	doy := float64(when.UTC().YearDay())
+	g0 := 1361 * (1 + 0.033*math.Cos(2*math.Pi*doy/365))
+	f := orDefault(w.DiffuseFraction, 0.2)
+	ghi := math.Min(erbsClearness(f)*g0*cz, 1098*cz*math.Exp(-0.059/cz))
 	beta := w.TiltDeg * math.Pi / 180
 	gamma := w.AzimuthDeg * math.Pi / 180
 	cosInc := cz*math.Cos(beta) + math.Sin(zen)*math.Sin(beta)*math.Cos(az-gamma)
 	if cosInc > 0 && !w.Shaded {
-		beam = dni * cosInc * orDefault(w.BeamShare, 1)
+		dni := (1 - f) * ghi / math.Max(cz, 0.02)
+		beam = dni * cosInc
 	}
-	// Isotropic sky: a plane of tilt β sees (1 + cos β)/2 of the sky dome.
-	f := orDefault(w.DiffuseFraction, 0.2)
-	diffuse = f / (1 - f) * dni * cz * (1 + math.Cos(beta)) / 2
+	diffuse = f * ghi * (1 + math.Cos(beta)) / 2
 	return beam, diffuse
+}
+
+// erbsDiffuse is the diffuse fraction of the global horizontal irradiance as a function of
+// the clearness index k_t (Erbs, Klein and Duffie, 1982).
+func erbsDiffuse(kt float64) float64 {
+	switch {
+	case kt <= 0.22:
+		return 1 - 0.09*kt
+	case kt <= 0.8:
+		return 0.9511 - 0.1604*kt + 4.388*kt*kt - 16.638*kt*kt*kt + 12.336*kt*kt*kt*kt
+	}
+	return 0.165
+}
+
+// erbsClearness inverts erbsDiffuse by bisection (it falls monotonically from 1 at k_t = 0
+// to 0.165 at 0.8); fractions below 0.165 give 0.8, and 1 gives 0.
+func erbsClearness(f float64) float64 {
+	if f <= erbsDiffuse(0.8) {
+		return 0.8
+	}
+	if f >= 1 {
+		return 0
+	}
+	lo, hi := 0.0, 0.8
+	for range 60 {
+		mid := 0.5 * (lo + hi)
+		if erbsDiffuse(mid) > f {
+			lo = mid
+		} else {
+			hi = mid
+		}
+	}
+	return 0.5 * (lo + hi)
 }
 
 // cloud is one passing cloud: its start and end, and its depth.

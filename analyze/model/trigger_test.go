@@ -51,7 +51,8 @@ func TestHoldTrigger(t *testing.T) {
 		if math.Abs(cy.ResetV-wantV) > 1e-6 {
 			t.Errorf("cycle %d reset at %.7f V, want %.7f V", cy.Index, cy.ResetV, wantV)
 		}
-		if r := cy.Residual(); math.Abs(r) > 1e-7*cy.HarvestedJ {
+		// The balance holds to the integration error, about RelTol of the flows.
+		if r := cy.Residual(); math.Abs(r) > 10*DefaultRelTol*cy.HarvestedJ {
 			t.Errorf("cycle %d: energy residual %.3g J of %.3g J harvested", cy.Index, r, cy.HarvestedJ)
 		}
 	}
@@ -116,7 +117,7 @@ func TestMotorSpinUp(t *testing.T) {
 	// With a small inductance the current lags by L/R but the speed barely changes.
 	c.Load.InductH = 200e-6
 	var got2 []Sample
-	if _, err := Simulate(c, Constant(0), &Options{DurationS: 0.2, StartV: v, RateHz: 20,
+	if _, err := Simulate(c, Constant(0), &Options{DurationS: 0.2, StartV: v, RateHz: 20, QuasiStaticS: -1,
 		OnSample: func(s Sample) { got2 = append(got2, s) }}); err != nil {
 		t.Fatal(err)
 	}
