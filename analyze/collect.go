@@ -18,6 +18,22 @@ type collector struct {
 	last  keptSwing   // the last rise, kept in full for the equilibrium fit
 	ts    []float64
 	vs    []float64
+	falls int
+}
+
+// fitThisFall says whether the fall gets its own exponential fit: every long one (a
+// decay: 64 points or more), every one of the first 256, and then every k-th with k the
+// power of two nearest below falls/256, so a day of thousands of pulses costs a few
+// hundred fits while the load's SE still rests on hundreds of them.
+func (c *collector) fitThisFall(points int) bool {
+	if points >= 64 || c.falls <= 256 {
+		return true
+	}
+	k := 1
+	for k*2 <= c.falls/256 {
+		k *= 2
+	}
+	return c.falls%k == 0
 }
 
 // swingInfo is what is kept per swing.
@@ -53,6 +69,11 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 	inf.trace = compact(pts, tracePts)
 	noise := math.Max(c.det.NoiseV(), c.det.StepV()/math.Sqrt(12))
 	if !s.Up {
+		c.falls++
+		if !c.fitThisFall(len(pts)) {
+			c.keepDecay(i, s, pts)
+			return
+		}
 		// Only the samples strictly inside the pulse: the onset sample is still on the
 		// charging curve (the switch closed after it) and the reset sample may already be
 		// the first of the recharge.

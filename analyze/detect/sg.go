@@ -113,23 +113,86 @@ func localWeights(x []float64, x0 float64, order, deriv int) []float64 {
 	return w
 }
 
-// LocalPoly fits a polynomial of the given order by least squares to the points (t_i, v_i)
-// and returns its value and first derivative at t0 (the Savitzky-Golay smoothed value and
-// slope on a non-uniform grid). ok is false when there are too few distinct times.
+// LocalPoly fits a polynomial of the given order (at most 7) by least squares to the
+// points (t_i, v_i) and returns its value and first derivative at t0 (the Savitzky-Golay
+// smoothed value and slope on a non-uniform grid). ok is false when there are too few
+// distinct times. It does not allocate.
 func LocalPoly(t, v []float64, t0 float64, order int) (value, slope float64, ok bool) {
 	if len(t) != len(v) {
 		panic("detect: slice length mismatch")
 	}
-	w0 := localWeights(t, t0, order, 0)
-	if w0 == nil {
+	p := order + 1
+	if p > 8 {
+		panic("detect: polynomial order above 7")
+	}
+	if len(t) < p {
 		return 0, 0, false
 	}
-	w1 := localWeights(t, t0, order, 1)
-	for i := range v {
-		value += w0[i] * v[i]
-		slope += w1[i] * v[i]
+	s := 0.0
+	for _, x := range t {
+		s = math.Max(s, math.Abs(x-t0))
 	}
-	return value, slope, true
+	if s == 0 {
+		return 0, 0, false
+	}
+	// Normal equations G c = r with G = A^T A, r = A^T v, A_{i,k} = u_i^k, u = (t - t0)/s.
+	var g [8][8]float64
+	var r [8]float64
+	var pw [8]float64
+	for i, x := range t {
+		u := (x - t0) / s
+		pw[0] = 1
+		for k := 1; k < p; k++ {
+			pw[k] = pw[k-1] * u
+		}
+		for a := 0; a < p; a++ {
+			r[a] += pw[a] * v[i]
+			for b := a; b < p; b++ {
+				g[a][b] += pw[a] * pw[b]
+			}
+		}
+	}
+	for a := 0; a < p; a++ {
+		for b := 0; b < a; b++ {
+			g[a][b] = g[b][a]
+		}
+	}
+	if !solveSmall(&g, &r, p, float64(len(t))) {
+		return 0, 0, false
+	}
+	return r[0], r[1] / s, true
+}
+
+// solveSmall solves the p-by-p system g x = r in place (x in r) by Gaussian elimination
+// with partial pivoting; false when it is singular.
+func solveSmall(g *[8][8]float64, r *[8]float64, p int, n float64) bool {
+	for col := 0; col < p; col++ {
+		piv := col
+		for q := col + 1; q < p; q++ {
+			if math.Abs(g[q][col]) > math.Abs(g[piv][col]) {
+				piv = q
+			}
+		}
+		if math.Abs(g[piv][col]) < 1e-12*n {
+			return false
+		}
+		g[col], g[piv] = g[piv], g[col]
+		r[col], r[piv] = r[piv], r[col]
+		for q := col + 1; q < p; q++ {
+			f := g[q][col] / g[col][col]
+			for k := col; k < p; k++ {
+				g[q][k] -= f * g[col][k]
+			}
+			r[q] -= f * r[col]
+		}
+	}
+	for q := p - 1; q >= 0; q-- {
+		for k := q + 1; k < p; k++ {
+			r[q] -= g[q][k] * r[k]
+		}
+		r[q] /= g[q][q]
+	}
+	return true
 }
 
 // Smooth writes into dst the Savitzky-Golay smoothed values (deriv 0) or first derivative

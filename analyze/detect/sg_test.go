@@ -54,3 +54,21 @@ func TestSmoothNonUniformExactForPolynomials(t *testing.T) {
 		}
 	}
 }
+
+func TestLocalPolyMatchesWeights(t *testing.T) {
+	ts := []float64{0, 0.1, 0.15, 0.4, 0.41, 0.9, 1.3}
+	vs := []float64{1, 1.3, 0.9, 2, 2.2, 1.7, 3}
+	for _, order := range []int{1, 2, 3} {
+		val, slope, ok := LocalPoly(ts, vs, 0.41, order)
+		w0 := localWeights(ts, 0.41, order, 0)
+		w1 := localWeights(ts, 0.41, order, 1)
+		var a, b float64
+		for i := range vs {
+			a += w0[i] * vs[i]
+			b += w1[i] * vs[i]
+		}
+		if !ok || math.Abs(val-a) > 1e-9 || math.Abs(slope-b) > 1e-9 {
+			t.Errorf("order %d: %v %v, weights give %v %v", order, val, slope, a, b)
+		}
+	}
+}

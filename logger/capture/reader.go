@@ -229,8 +229,12 @@ func (r *Reader) nextLine() (line []byte, complete bool, err error) {
 	}
 	r.line++
 	complete = err == nil
-	line = bytes.TrimSuffix(line, []byte{'\n'})
-	line = bytes.TrimSuffix(line, []byte{'\r'})
+	if n := len(line); n > 0 && line[n-1] == '\n' {
+		line = line[:n-1]
+	}
+	if n := len(line); n > 0 && line[n-1] == '\r' {
+		line = line[:n-1]
+	}
 	return line, complete, nil
 }
 
