@@ -781,3 +781,40 @@ func TestEEPROMPersists(t *testing.T) {
 		t.Errorf("damaged EEPROM: ID %+v CH %+v, want the defaults", id, ch)
 	}
 }
+
+func TestMaxRates(t *testing.T) {
+	// At max_hz for each channel count the board keeps up: no overrun, no drop, no
+	// seq gap, even with an A frame per fast sample (slow_hz = fast_hz).
+	b := startBoard(t, "0 2 4 6 8\n600 2 4 6 8\n")
+	b.bootFrames()
+	for n := uint32(1); n <= 4; n++ {
+		b.send(wire.CmdRate{SlowHz: 1, FastHz: 1})
+		b.expectReply("rate")
+		b.send(wire.CmdChan{N: n})
+		b.expectReply("chan")
+		id, ok := b.next().(wire.Identity)
+		if !ok {
+			t.Fatal("no ID after >chan")
+		}
+		b.send(wire.CmdRate{SlowHz: id.MaxHz, FastHz: id.MaxHz})
+		if _, ok := b.expectReply("rate").(wire.Ack); !ok {
+			t.Fatalf("%d channels: >rate at max_hz %d refused", n, id.MaxHz)
+		}
+		as := b.averages(2, 200)
+		for i := 1; i < len(as); i++ {
+			if as[i].Seq != as[i-1].Seq+1 {
+				t.Fatalf("%d channels at %d Hz: seq %d after %d", n, id.MaxHz, as[i].Seq, as[i-1].Seq)
+			}
+		}
+		rate := float64(len(as)-1) / (float64(as[len(as)-1].TimeUS-as[0].TimeUS) / 1e6)
+		if math.Abs(rate-float64(id.MaxHz))/float64(id.MaxHz) > 0.001 {
+			t.Errorf("%d channels: %.3f Hz, want %d Hz within 0.1 %%", n, rate, id.MaxHz)
+		}
+		b.send(wire.CmdStatus{})
+		b.expectReply("status")
+		st, ok := b.next().(wire.Status)
+		if !ok || st.Overruns != 0 || st.Dropped != 0 {
+			t.Errorf("%d channels at %d Hz: ST %+v, want ovr=0 drop=0", n, id.MaxHz, st)
+		}
+	}
+}

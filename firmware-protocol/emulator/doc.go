@@ -38,6 +38,12 @@
 // Unlike a real board, the emulated one does not reset when the port is opened (a real
 // bridge pulses the reset pin through DTR).
 //
+// # EEPROM
+//
+// Each run starts with a blank EEPROM (so the firmware's defaults apply) unless
+// Config.EEPROM names an image file: it is loaded at start when it exists and written
+// back when the harness stops, so settings stored with >save survive a restart.
+//
 // # Requirements
 //
 // avr-gcc and avr-libc (Debian gcc-avr, avr-libc), libsimavr-dev, a C compiler and make.
