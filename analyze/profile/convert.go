@@ -7,35 +7,67 @@ import (
 	"capcycle/analyze/units"
 )
 
+// profile converts every table, keeping the first problem of each, and then reports the
+// problem that comes first in the file (problems without a line come last).
 func (c *conv) profile(r *rawProfile) *Profile {
-	p := &Profile{}
-	p.Name = c.text("name", r.Name, false)
-	p.Notes = c.text("notes", r.Notes, false)
-	c.requireTable("storage", r.Storage != nil)
-	c.requireTable("trigger", r.Trigger != nil)
-	c.requireTable("load", r.Load != nil)
-	c.requireTable("cell", r.Cell != nil)
-	c.requireTable("adc", r.ADC != nil)
-	if c.err == nil && len(r.Channel) == 0 {
-		c.fail("channel", ErrMissing, "no [[channel]] table: at least one ADC channel must read the storage capacitor (node = \"vcap\")")
-	}
 	if c.err != nil {
 		return nil
 	}
-	p.Trigger = c.trigger(r.Trigger)
-	p.Storage = c.storage(r.Storage, &p.Trigger)
-	if r.Switch != nil {
-		p.Switch = c.switchTable(r.Switch)
+	p := &Profile{}
+	var errs []*Error
+	part := func(f func()) {
+		c.err = nil
+		f()
+		if c.err != nil {
+			errs = append(errs, c.err)
+		}
 	}
-	p.Load = c.load(r.Load)
-	p.Cell = c.cell(r.Cell)
-	p.ADC = c.adc(r.ADC)
-	p.Channels = c.channels(r.Channel)
+	part(func() {
+		p.Name = c.text("name", r.Name, false)
+		p.Notes = c.text("notes", r.Notes, false)
+	})
+	if r.Trigger != nil {
+		part(func() { p.Trigger = c.trigger(r.Trigger) })
+	}
+	if r.Storage != nil {
+		part(func() { p.Storage = c.storage(r.Storage, &p.Trigger) })
+	}
+	if r.Switch != nil {
+		part(func() { p.Switch = c.switchTable(r.Switch) })
+	}
+	if r.Load != nil {
+		part(func() { p.Load = c.load(r.Load) })
+	}
+	if r.Cell != nil {
+		part(func() { p.Cell = c.cell(r.Cell) })
+	}
+	if r.ADC != nil {
+		part(func() { p.ADC = c.adc(r.ADC) })
+	}
+	if len(r.Channel) > 0 {
+		part(func() { p.Channels = c.channels(r.Channel) })
+	}
 	if r.Calibration != nil {
-		p.Calibration = c.calibration(r.Calibration)
+		part(func() { p.Calibration = c.calibration(r.Calibration) })
 	}
 	if r.Light != nil {
-		p.Light = c.light(r.Light)
+		part(func() { p.Light = c.light(r.Light) })
+	}
+	part(func() {
+		c.requireTable("storage", r.Storage != nil)
+		c.requireTable("trigger", r.Trigger != nil)
+		c.requireTable("load", r.Load != nil)
+		c.requireTable("cell", r.Cell != nil)
+		c.requireTable("adc", r.ADC != nil)
+		if len(r.Channel) == 0 {
+			c.fail("channel", ErrMissing, "no [[channel]] table: at least one ADC channel must read the storage capacitor (node = \"vcap\")")
+		}
+	})
+	c.err = nil
+	for _, e := range errs {
+		if c.err == nil || (e.Line > 0 && (c.err.Line == 0 || e.Line < c.err.Line)) {
+			c.err = e
+		}
 	}
 	return p
 }

@@ -290,3 +290,16 @@ func TestDefaultName(t *testing.T) {
 		t.Errorf("name %q", p.Name)
 	}
 }
+
+// TestFirstProblemInFileOrder: with mistakes in two tables, the one nearer the top of the
+// file is reported, whatever order the tables are converted in.
+func TestFirstProblemInFileOrder(t *testing.T) {
+	text := loadText(t, wrenPath)
+	text = strings.Replace(text, `reference = "avcc"`, `reference = "vcc"`, 1)
+	text = strings.Replace(text, `kind = "motor"`, `kind = "solenoid"`, 1)
+	_, err := Parse("two.toml", []byte(text))
+	var pe *Error
+	if !errors.As(err, &pe) || pe.Key != "load.kind" {
+		t.Fatalf("got %v, want the load.kind error (it comes before adc.reference)", err)
+	}
+}
