@@ -90,7 +90,13 @@ func cyclesFigure(id string, sets []traceSet, pulseS float64, o *Options) (figur
 	markFire(full)
 
 	plots := []*plot.Plot{full}
-	caption := "Every traced cycle drawn on one axis, shifted so that its fire falls at time zero; the thick line is the fitted model's cycle."
+	caption := "Every traced cycle drawn on one axis, shifted so that its fire falls at time zero."
+	for _, s := range sets {
+		if s.model != nil {
+			caption += " The thick line is the fitted model's cycle."
+			break
+		}
+	}
 	if pulseS > 0 && finite(pulseS) {
 		lo, hi := -1.5*pulseS, 4*pulseS
 		win := func(t float64) bool { return t >= lo && t <= hi }

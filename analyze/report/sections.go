@@ -153,10 +153,10 @@ func cyclesSection(r *analyze.Result, o *Options) *section {
 	s := &section{ID: "cycles", Title: "Every cycle, aligned at the fire"}
 	set := traceSet{traces: r.Traces, model: r.ModelTrace, col: colBlue}
 	fig, absent := cyclesFigure("cycles", []traceSet{set}, pulseOf(r), o)
-	s.addFigure(fig, absent)
-	if r.ModelTrace == nil && len(r.Traces) > 0 {
-		s.Absent = append(s.Absent, "The analysis carries no model cycle to draw over the measured ones.")
+	if r.ModelTrace == nil && absent == "" {
+		fig.Caption += " The analysis carries no model cycle, so none is drawn over the measured ones."
 	}
+	s.addFigure(fig, absent)
 	if t := loadTable(r); t != nil {
 		s.Tables = append(s.Tables, t)
 	}
