@@ -41,7 +41,10 @@
 // the port open are lost (as on a real link), and a full transmit queue drops frames
 // (counted in ST's drop). Speed 0 runs as fast as the host reads: the board waits for
 // a host and for room in the queue, so nothing is lost, and while sampling is stopped
-// world time waits for a command.
+// world time waits for a command. At Speed 0 the board runs ahead of the host by what
+// the queue (TxQueue frames) and the pseudo-terminal (a few kilobytes) hold, so the
+// reply to a command comes after the frames already buffered; its OK, ID and CH frames
+// still come in order, and the new settings apply from the command's device time on.
 //
 // # Unplugging, resets and faults
 //

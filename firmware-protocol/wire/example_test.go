@@ -1,6 +1,7 @@
 package wire_test
 
 import (
+	"bufio"
 	"errors"
 	"fmt"
 	"io"
@@ -71,4 +72,23 @@ func ExampleChannel_Volts() {
 	fmt.Printf("%.4f V\n", ch.Volts(2048, 12, 5000000))
 	// Output:
 	// 7.5000 V
+}
+
+func ExampleScanFrames() {
+	in := "noise!OK cmd=id *A91D\n!S 1 2"
+	sc := bufio.NewScanner(strings.NewReader(in))
+	sc.Split(wire.ScanFrames)
+	for sc.Scan() {
+		f, err := wire.Parse(sc.Bytes())
+		fmt.Printf("%q: %v %v\n", sc.Text(), f, err)
+	}
+	// Output:
+	// "!OK cmd=id *A91D\n": {id} <nil>
+	// "!S 1 2": <nil> wire: malformed frame at byte 0: cut: no end of line
+}
+
+func ExampleMicro() {
+	fmt.Println(wire.MicroOf(1.0/3), wire.Micro(1001200), wire.Micro(-500000), wire.MicroOf(2).Float64())
+	// Output:
+	// 0.333333 1.0012 -0.5 2
 }
