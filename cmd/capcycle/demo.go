@@ -1,10 +1,366 @@
 package main
 
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"strings"
+	"sync"
+	"sync/atomic"
+	"time"
+
+	"capcycle/analyze"
+	"capcycle/analyze/profile"
+	htmlreport "capcycle/analyze/report"
+	"capcycle/analyze/units"
+	"capcycle/cmd/capcycle/demodata"
+	"capcycle/firmware-protocol/virtualboard"
+	"capcycle/logger"
+	"capcycle/logger/capture"
+)
+
 // demoCommand is "capcycle demo".
 func demoCommand() *command {
 	return &command{
 		name:    "demo",
 		summary: "record an accelerated windowsill day from the virtual robot, analyse it and write reports",
-		run:     notBuilt("demo"),
+		built:   true,
+		run:     runDemo,
 	}
+}
+
+// The demo's board settings. The model runs at demoFastHz; the board sends an averaged
+// row demoSlowHz times a second and a burst at the fast rate when the voltage moves by
+// more than demoThr counts from the last row (a fire), so a day of thousands of cycles
+// stays a file of a few hundred thousand rows. At demoSpeed a 24-hour day takes 14.4 s.
+const (
+	demoSpeed  = 6000
+	demoSlowHz = 2
+	demoFastHz = 50
+	demoThr    = 48 // counts at 12 bits: about 0.12 V at Wren's storage node
+	demoPre    = 16
+	demoPost   = 16
+)
+
+// demoOptions are the demo's settings from its flags.
+type demoOptions struct {
+	out   string
+	hours float64
+	board string
+	keep  bool
+	speed float64
+	seed  uint64
+	only  []string // scenarios to run; default all
+}
+
+// demoOutcome is what one scenario's run produced.
+type demoOutcome struct {
+	name     string
+	capture  string
+	bundle   htmlreport.Bundle
+	result   *analyze.Result
+	summary  *logger.Summary
+	verdict  string
+	finding  string // the first finding's message, or ""
+	recordS  float64
+	analyseS float64
+}
+
+func runDemo(ctx context.Context, args []string, e *env) error {
+	fs := newFlags("demo", "[--out DIR] [--hours 24] [--board virtual|emulated] [--keep]", e.stderr,
+		"capcycle demo",
+		"capcycle demo --out /tmp/demo --keep",
+		"capcycle demo --hours 6 --board emulated")
+	o := demoOptions{}
+	fs.StringVar(&o.out, "out", "capcycle-demo", "directory for the reports (an earlier demo's files there are replaced)")
+	fs.Float64Var(&o.hours, "hours", 24, "model time to record per scenario, hours, from midnight")
+	fs.StringVar(&o.board, "board", "virtual", "the board that measures the model: virtual (in-process) or emulated (the firmware in simavr)")
+	fs.BoolVar(&o.keep, "keep", false, "keep the capture files in --out (by default they go to a temporary directory that is removed)")
+	fs.Float64Var(&o.speed, "speed", demoSpeed, "how many times faster than real time the virtual robot runs; 0 runs as fast as the recorder reads")
+	fs.Uint64Var(&o.seed, "seed", 1, "seed of the virtual board's noise and divider errors")
+	scen := fs.String("scenario", "", "run only these scenarios (comma-separated: "+strings.Join(demodata.Names(), ", ")+"); default all")
+	if err := parseFlags(fs, args); err != nil {
+		return err
+	}
+	if fs.NArg() > 0 {
+		return usageErrorf("unexpected argument %q", fs.Arg(0))
+	}
+	switch {
+	case !(o.hours > 0):
+		return usageErrorf("--hours %g: must be more than zero", o.hours)
+	case o.speed < 0:
+		return usageErrorf("--speed %g: must not be negative", o.speed)
+	case o.board != "virtual" && o.board != "emulated":
+		return usageErrorf("--board %q: want virtual or emulated", o.board)
+	}
+	o.only = demodata.Names()
+	if *scen != "" {
+		o.only = nil
+		for _, s := range recordSplit(*scen) {
+			if _, err := demodata.Profile(strings.ToLower(s)); err != nil {
+				return usageErrorf("--scenario %q: want %s", s, strings.Join(demodata.Names(), " or "))
+			}
+			o.only = append(o.only, strings.ToLower(s))
+		}
+	}
+	return demo(ctx, &o, e)
+}
+
+// demo runs every scenario of o, concurrently, and prints the paths and verdicts.
+func demo(ctx context.Context, o *demoOptions, e *env) error {
+	if err := os.MkdirAll(o.out, 0o755); err != nil {
+		return workErrorf("demo: %w", err)
+	}
+	capDir := o.out
+	if !o.keep {
+		tmp, err := os.MkdirTemp("", "capcycle-demo-")
+		if err != nil {
+			return workErrorf("demo: %w", err)
+		}
+		defer os.RemoveAll(tmp)
+		capDir = tmp
+	}
+	var emu *emulatedBoards
+	if o.board == "emulated" {
+		var err error
+		if emu, err = prepareEmulated(ctx, e.stderr); err != nil {
+			return err
+		}
+		defer emu.close()
+	}
+	fmt.Fprintf(e.stderr, "capcycle demo: recording %s of model time per scenario (%s) through the serial stack; no hardware, no network\n",
+		units.Format(o.hours*3600, units.Second), strings.Join(o.only, ", "))
+	start := time.Now()
+	outs := make([]*demoOutcome, len(o.only))
+	errs := make([]error, len(o.only))
+	var wg sync.WaitGroup
+	for i, name := range o.only {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			outs[i], errs[i] = demoScenario(ctx, name, o, capDir, emu)
+		}()
+	}
+	wg.Wait()
+	if err := errors.Join(errs...); err != nil {
+		return err
+	}
+	for _, out := range outs {
+		printOutcome(e.stdout, out, o.keep)
+	}
+	fmt.Fprintf(e.stderr, "capcycle demo: done in %.1f s\n", time.Since(start).Seconds())
+	return nil
+}
+
+func printOutcome(w io.Writer, out *demoOutcome, keep bool) {
+	r := out.result
+	full := 0
+	for _, c := range r.Cycles {
+		if c.Kind == "full" {
+			full++
+		}
+	}
+	fmt.Fprintf(w, "%s: %s\n", r.Source.Profile, out.verdict)
+	if out.finding != "" {
+		fmt.Fprintf(w, "  first finding: %s\n", out.finding)
+	}
+	fmt.Fprintf(w, "  %d samples over %s, %d cycles (%d full); recorded in %.1f s, analysed in %.1f s\n",
+		r.Samples, units.Format(r.DurationS, units.Second), len(r.Cycles), full, out.recordS, out.analyseS)
+	if s := out.summary; s != nil && (s.Stats.Lost > 0 || s.Stats.BadFrames > 0) {
+		fmt.Fprintf(w, "  the recorder lost %d samples and dropped %d bad frames\n", s.Stats.Lost, s.Stats.BadFrames)
+	}
+	fmt.Fprintf(w, "  report:   %s\n  analysis: %s\n  cycles:   %s\n", out.bundle.HTML, out.bundle.JSON, out.bundle.CSV)
+	if keep {
+		fmt.Fprintf(w, "  capture:  %s\n", out.capture)
+	}
+}
+
+// demoScenario records, analyses and reports one scenario.
+func demoScenario(ctx context.Context, name string, o *demoOptions, capDir string, emu *emulatedBoards) (*demoOutcome, error) {
+	raw, err := demodata.Profile(name)
+	if err != nil {
+		return nil, workErrorf("demo: %w", err)
+	}
+	p, err := profile.Parse(name+".toml", raw)
+	if err != nil {
+		return nil, workErrorf("demo: built-in profile: %w", err)
+	}
+	rig, err := rigFromProfile(p)
+	if err != nil {
+		return nil, workErrorf("demo %s: %w", name, err)
+	}
+	out := &demoOutcome{name: name, capture: filepath.Join(capDir, name+".capture.csv")}
+	t0 := time.Now()
+	if emu != nil {
+		out.summary, err = recordEmulated(ctx, emu, rig, p, o, out.capture)
+	} else {
+		out.summary, err = recordVirtual(ctx, rig, p, o, out.capture)
+	}
+	if err != nil {
+		return nil, err
+	}
+	out.recordS = time.Since(t0).Seconds()
+
+	t1 := time.Now()
+	res, err := analyseDemo(p, out.capture)
+	if err != nil {
+		return nil, err
+	}
+	out.analyseS = time.Since(t1).Seconds()
+	out.result = res
+	out.verdict = htmlreport.Verdict(res).String()
+	if len(res.Findings) > 0 {
+		out.finding = res.Findings[0].Message
+	}
+	title := fmt.Sprintf("capcycle demo: %s, a day on the windowsill (%s board)", p.Name, o.board)
+	out.bundle, err = htmlreport.WriteBundle(o.out, name, res, &htmlreport.Options{Title: title, Overwrite: true})
+	if err != nil {
+		return nil, workErrorf("demo %s: %w", name, err)
+	}
+	return out, nil
+}
+
+// analyseDemo runs the analysis and the later stages on a capture with the profile.
+func analyseDemo(p *profile.Profile, path string) (*analyze.Result, error) {
+	opts := &analyze.Options{Path: path, Profile: p.Name}
+	fromProfile(opts, p)
+	opts.Post = laterStages(p, opts, path, nil)
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, workErrorf("demo: %w", err)
+	}
+	defer f.Close()
+	res, err := analyze.Run(capture.NewReader(f, path), opts)
+	if err != nil {
+		return nil, workErrorf("demo %s: analysis: %w", p.Name, err)
+	}
+	return res, nil
+}
+
+// demoFlaws are the virtual board's imperfections in the demo: a little noise, a
+// reference 0.2 % off its nominal volts and dividers within 0.5 %.
+func demoFlaws(seed uint64) boardFlaws {
+	return boardFlaws{NoiseV: 2e-3, RefError: 0.002, DivTol: 0.005, Seed: seed}
+}
+
+// recordVirtual runs the model behind a virtual board on a pseudo-terminal and records
+// it with the logger over the real serial stack until the model time is over and every
+// byte the board wrote has been read.
+func recordVirtual(ctx context.Context, rig *robotRig, p *profile.Profile, o *demoOptions, path string) (*logger.Summary, error) {
+	src, err := newModelSource(rig, o.hours*3600, demoFastHz)
+	if err != nil {
+		return nil, workErrorf("demo %s: %w", rig.Name, err)
+	}
+	fl := demoFlaws(o.seed)
+	fl.EBits = min(16, rig.Bits+2)
+	bcfg := boardConfig(rig, src, fl)
+	bcfg.Speed = o.speed
+	bcfg.SlowHz, bcfg.FastHz, bcfg.Thr, bcfg.Pre, bcfg.Post = demoSlowHz, demoFastHz, demoThr, demoPre, demoPost
+	bcfg.TxQueue = 4096
+	var written counter
+	bcfg.Tap = &written
+	b, err := virtualboard.Open(bcfg)
+	if err != nil {
+		return nil, workErrorf("demo %s: %w", rig.Name, err)
+	}
+	defer b.Close()
+
+	var read counter
+	lcfg := &logger.Config{
+		Port: b.Path(), Open: countingOpen(&read), Out: path, Force: true,
+		Notes: []string{"demo: the virtual robot (circuit model) on a virtual board, " + fmt.Sprintf("%gx real time", o.speed)},
+	}
+	if err := recordFromProfile(lcfg, p, false); err != nil {
+		return nil, err
+	}
+	run := func(ctx context.Context) error {
+		if err := b.Run(ctx); err != nil {
+			return err
+		}
+		return src.Err()
+	}
+	return recordUntilDrained(ctx, lcfg, rig.Name, run, func() bool { return read.n.Load() >= written.n.Load() })
+}
+
+// recordUntilDrained runs the logger while run drives the board; once run returns, it
+// waits until drained reports that the host has read everything (and a moment more for
+// the logger to write it), then stops the logger and returns its summary.
+func recordUntilDrained(ctx context.Context, lcfg *logger.Config, name string, run func(context.Context) error, drained func() bool) (*logger.Summary, error) {
+	recCtx, stopRec := context.WithCancel(ctx)
+	defer stopRec()
+	boardCtx, stopBoard := context.WithCancel(ctx)
+	defer stopBoard()
+	type recResult struct {
+		s   *logger.Summary
+		err error
+	}
+	recDone := make(chan recResult, 1)
+	go func() {
+		s, err := logger.Record(recCtx, lcfg)
+		recDone <- recResult{s, err}
+	}()
+	runDone := make(chan error, 1)
+	go func() { runDone <- run(boardCtx) }()
+	select {
+	case r := <-recDone: // the recorder stopped before the board: that is a failure
+		stopBoard()
+		<-runDone
+		if r.err != nil {
+			return nil, workErrorf("demo %s: recording: %w", name, r.err)
+		}
+		return nil, workErrorf("demo %s: the recorder stopped early (%s)", name, r.s.Stop)
+	case err := <-runDone:
+		if err != nil {
+			stopRec()
+			<-recDone
+			return nil, workErrorf("demo %s: board: %w", name, err)
+		}
+	}
+	// Let the host read what is still in the pseudo-terminal, then give the logger
+	// a moment to write it.
+	deadline := time.Now().Add(10 * time.Second)
+	for !drained() && time.Now().Before(deadline) {
+		time.Sleep(5 * time.Millisecond)
+	}
+	time.Sleep(100 * time.Millisecond)
+	stopRec()
+	r := <-recDone
+	if r.err != nil {
+		return nil, workErrorf("demo %s: recording: %w", name, r.err)
+	}
+	return r.s, nil
+}
+
+// counter counts bytes; as an io.Writer it counts what is written to it.
+type counter struct{ n atomic.Int64 }
+
+func (c *counter) Write(p []byte) (int, error) {
+	c.n.Add(int64(len(p)))
+	return len(p), nil
+}
+
+// countingOpen opens ports with the real serial stack (logger.Open) and counts the
+// bytes read from them.
+func countingOpen(c *counter) logger.Opener {
+	return func(path string, mode *logger.Mode) (logger.Port, error) {
+		p, err := logger.Open(path, mode)
+		if err != nil {
+			return nil, err
+		}
+		return &countingPort{Port: p, c: c}, nil
+	}
+}
+
+type countingPort struct {
+	logger.Port
+	c *counter
+}
+
+func (p *countingPort) Read(b []byte) (int, error) {
+	n, err := p.Port.Read(b)
+	p.c.n.Add(int64(n))
+	return n, err
 }
