@@ -410,3 +410,29 @@ func (s *syncBuffer) Read(p []byte) (int, error) {
 	defer s.mu.Unlock()
 	return s.b.Read(p)
 }
+
+func TestHostReconnectAtSpeed0(t *testing.T) {
+	// The host closes its port mid-stream and opens it again. At Speed 0 the board
+	// waits for it: every sample frame sent after the reopen arrives, in order.
+	b := startBoard(t, &Config{Source: constant(1, 1e6)})
+	h := openHost(t, b.Path())
+	fs := h.until(isTag("A"))
+	last := fs[len(fs)-1].(wire.Average).Seq
+	h.port.Close()
+	time.Sleep(100 * time.Millisecond)
+	h2 := openHost(t, b.Path())
+	first := h2.until(isTag("A"))
+	seq := first[len(first)-1].(wire.Average).Seq
+	if seq <= last {
+		t.Fatalf("after the reopen seq %d, before %d", seq, last)
+	}
+	for range 500 {
+		h2.next()
+	}
+	st := h2.dec.Stats()
+	if st.Lost != 0 || st.BadCRC != 0 {
+		t.Errorf("after the reopen: %+v", st)
+	}
+	t.Logf("seq %d before closing, %d first after reopening (%d lost in between); host stats %+v",
+		last, seq, seq-last-1, st)
+}

@@ -59,6 +59,12 @@
 // so a host sees a new boot ID on the same open port. The board does not reset when a
 // host opens the port; call Reset for that.
 //
+// When the host closes its port and opens it again (the board stays plugged in), the
+// path stays the same. What the pseudo-terminal held unread when the host closed it
+// (a few kilobytes, perhaps ending in part of a frame) is lost, as a real bridge's
+// buffer would be; at Speed 0 the board then waits for the host, so everything made
+// after the reopen arrives (the first bytes may be the tail of a cut frame).
+//
 // InjectGarbage puts bytes between frames, Corrupt flips one bit in each of the next n
 // frames, BitErrorRate flips bits at random, FailNextSave makes >save fail. Stats
 // counts what the board made, sent, dropped and lost, and Config.Tap sees every byte
