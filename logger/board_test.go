@@ -98,6 +98,10 @@ func (b *testBoard) command(line []byte) {
 	case wire.CmdID:
 		b.write(append(ack, b.idFrames(false)...))
 	case wire.CmdRate:
+		if c.FastHz > b.id.MaxHz || c.SlowHz > c.FastHz {
+			b.write(wire.Append(nil, wire.Nak{Cmd: "rate", Code: wire.CodeRange, Msg: "range"}))
+			return
+		}
 		b.mu.Lock()
 		b.id.SlowHz, b.id.FastHz = c.SlowHz, c.FastHz
 		b.mu.Unlock()

@@ -60,7 +60,12 @@ func (ss *session) handshake(rd *chunkReader, first bool) error {
 		if err := ss.send(cmd); err != nil {
 			return err
 		}
-		err := ss.await(rd, ss.cfg.Now().Add(ss.cfg.Handshake), func() bool { return reply != nil && ids > n && haveAllCh() })
+		err := ss.await(rd, ss.cfg.Now().Add(ss.cfg.Handshake), func() bool {
+			if _, refused := reply.(wire.Nak); refused {
+				return true
+			}
+			return reply != nil && ids > n && haveAllCh()
+		})
 		if nak, ok := reply.(wire.Nak); ok {
 			return fmt.Errorf("logger: the board refused >%s: %s (code %d)", nak.Cmd, nak.Msg, nak.Code)
 		}

@@ -113,6 +113,12 @@ func TestRecordOverPty(t *testing.T) {
 	r.waitFor("0 samples")
 	pb.write(pb.slow(nil, 200, func(i int) uint16 { return uint16(1000 + i) }))
 	r.waitFor("200 samples")
+	// Flushed at least every second while recording: the rows are in the file before
+	// the recording stops.
+	time.Sleep(1300 * time.Millisecond)
+	if b, _ := os.ReadFile(cfg.Out); bytes.Count(b, []byte("\n")) < 200 {
+		t.Errorf("after 1.3 s only %d lines on disk", bytes.Count(b, []byte("\n")))
+	}
 	sum := r.stop()
 	if sum.Stats.Samples != 200 || sum.Stats.Lost != 0 || sum.Stats.BadFrames != 0 {
 		t.Errorf("stats %+v", sum.Stats)
@@ -170,13 +176,37 @@ func TestRecordSendsSettings(t *testing.T) {
 	}
 }
 
+func TestRecordUntil(t *testing.T) {
+	pb := newPtyBoard(t)
+	cfg := ptyConfig(pb)
+	cfg.Out = filepath.Join(t.TempDir(), "until.csv")
+	cfg.Until = time.Now().Add(400 * time.Millisecond)
+	start := time.Now()
+	sum, err := Record(context.Background(), cfg)
+	if err != nil || sum.Stop != "until" {
+		t.Fatalf("stop %q, %v", sum.Stop, err)
+	}
+	if d := time.Since(start); d < 400*time.Millisecond || d > 2*time.Second {
+		t.Errorf("stopped after %v", d)
+	}
+}
+
 func TestRecordRefusedSetting(t *testing.T) {
 	pb := newPtyBoard(t)
 	cfg := ptyConfig(pb)
 	cfg.Channels = 9
-	_, err := Record(context.Background(), cfg)
-	if err == nil {
+	if _, err := Record(context.Background(), cfg); err == nil {
 		t.Fatal("9 channels accepted")
+	}
+	cfg = ptyConfig(pb)
+	cfg.FastHz = 5000 // above the board's max_hz
+	cfg.Out = filepath.Join(t.TempDir(), "refused.csv")
+	_, err := Record(context.Background(), cfg)
+	if err == nil || !strings.Contains(err.Error(), "refused >rate: range") {
+		t.Fatalf("a refused rate: %v", err)
+	}
+	if _, serr := os.Stat(cfg.Out); serr == nil {
+		t.Error("a capture was created although the board refused the settings")
 	}
 }
 
