@@ -47,8 +47,9 @@ func (b *Board) Run(ctx context.Context) error {
 	wall := time.Now()
 	every := uint64(math.Round(b.cfg.StatusEveryS * 1e6))
 	nowUS := func() uint64 { return uint64(math.Max(0, math.Round((w-ck.bootW)*1e6))) }
+	// After a settings change sample 0 comes one fast period after the command.
 	restartClock := func() {
-		ck.startUS, ck.j = nowUS(), 0
+		ck.startUS, ck.j = nowUS()+1000000/uint64(b.dev.set.fastHz), 0
 	}
 	for {
 		if err := ctx.Err(); err != nil {
