@@ -25,7 +25,7 @@ const (
 )
 
 // Clouds of a windowsill day with a cloud seed (our own numbers for a day of fair-weather
-// cumulus): three-minute clouds every quarter hour or so, taking most of the beam.
+// cumulus): three-minute clouds every quarter hour or so, taking most of the direct sunlight.
 const (
 	profileCloudS     = 180
 	profileCloudGapS  = 900

@@ -52,7 +52,7 @@ func TestSunPosition(t *testing.T) {
 	w := &WindowDay{Start: time.Date(2026, 12, 2, 0, 0, 0, 0, time.UTC), LatitudeDeg: 52.2, AzimuthDeg: 0, TiltDeg: 90}
 	for s := 0.0; s < 86400; s += 300 {
 		if b, _ := w.clearSky(s); b != 0 {
-			t.Fatalf("north window in December gets beam %.3g W/m² at %.0f s", b, s)
+			t.Fatalf("north window in December gets direct sun %.3g W/m² at %.0f s", b, s)
 		}
 	}
 }
@@ -76,7 +76,7 @@ func TestErbs(t *testing.T) {
 }
 
 // TestLightCache checks that the simulator's interpolated windowsill light stays within
-// 0.1 % (or 0.01 W/m²) of the direct evaluation, over a whole cloudy day.
+// 0.1 % (or 0.01 W/m²) of the uncached evaluation, over a whole cloudy day.
 func TestLightCache(t *testing.T) {
 	sc, err := Scenario("wren")
 	if err != nil {

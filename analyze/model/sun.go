@@ -24,7 +24,7 @@ import (
 // in the correlation of Erbs, Klein and Duffie (1982, Solar Energy 28, 293; coefficients
 // from memory), so a diffuse fraction of 0.95 is an overcast day and 0.2 a clear one. The
 // diffuse part reaches a plane of tilt β from the isotropic sky, (1 + cos β)/2 of it; the
-// beam falls on the window at the angle of incidence
+// direct sunlight falls on the window at the angle of incidence
 // cos θ = cos Z cos β + sin Z sin β cos(A - γ).
 type WindowDay struct {
 	Start           time.Time // start of the run; its UTC clock with LongitudeDeg gives solar time
@@ -37,26 +37,26 @@ type WindowDay struct {
 	Shaded          bool      // no direct sun reaches the cell (buildings, a deep reveal)
 	Shade           float64   // share of all the window's light that is blocked before the cell, 0..1
 
-	// Clouds: passing clouds, each removing up to CloudDepth of the beam, separated by
+	// Clouds: passing clouds, each removing up to CloudDepth of the direct sunlight, separated by
 	// exponentially distributed gaps of mean CloudGapS and lasting exponentially
 	// distributed times of mean CloudS, with CloudEdgeS raised-cosine edges. CloudS = 0
 	// means no passing clouds. The same Seed gives the same clouds.
 	Seed       uint64
 	CloudS     float64 // mean cloud duration, seconds
 	CloudGapS  float64 // mean clear gap, seconds (0 means 600 s)
-	CloudDepth float64 // beam removed at the heart of a cloud, 0..1
+	CloudDepth float64 // share of the direct sunlight removed at the heart of a cloud, 0..1
 	CloudEdgeS float64 // edge duration, seconds (0 means 10 s)
 }
 
 // IrradianceWm2 returns the irradiance on the cell at t seconds after Start.
 func (w *WindowDay) IrradianceWm2(t float64) float64 {
-	beam, diffuse := w.clearSky(t)
-	return w.combine(beam, diffuse, w.cloudFactor(t, nil))
+	direct, diffuse := w.clearSky(t)
+	return w.combine(direct, diffuse, w.cloudFactor(t, nil))
 }
 
-func (w *WindowDay) combine(beam, diffuse, cloud float64) float64 {
+func (w *WindowDay) combine(direct, diffuse, cloud float64) float64 {
 	tr := orDefault(w.Transmit, 0.8)
-	return (1 - w.Shade) * tr * (beam*cloud + diffuse)
+	return (1 - w.Shade) * tr * (direct*cloud + diffuse)
 }
 
 func orDefault(v, d float64) float64 {
@@ -99,9 +99,9 @@ func sunPosition(when time.Time, latDeg, lonDeg float64) (zenith, azimuth float6
 	return zenith, azimuth
 }
 
-// clearSky returns the beam and diffuse irradiance on the window plane (before the glass)
+// clearSky returns the direct and diffuse irradiance on the window plane (before the glass)
 // at t: the smooth part, without passing clouds.
-func (w *WindowDay) clearSky(t float64) (beam, diffuse float64) {
+func (w *WindowDay) clearSky(t float64) (direct, diffuse float64) {
 	when := w.Start.Add(time.Duration(t * float64(time.Second)))
 	zen, az := sunPosition(when, w.LatitudeDeg, w.LongitudeDeg)
 	cz := math.Cos(zen)
@@ -117,10 +117,10 @@ func (w *WindowDay) clearSky(t float64) (beam, diffuse float64) {
 	cosInc := cz*math.Cos(beta) + math.Sin(zen)*math.Sin(beta)*math.Cos(az-gamma)
 	if cosInc > 0 && !w.Shaded {
 		dni := (1 - f) * ghi / math.Max(cz, 0.02)
-		beam = dni * cosInc
+		direct = dni * cosInc
 	}
 	diffuse = f * ghi * (1 + math.Cos(beta)) / 2
-	return beam, diffuse
+	return direct, diffuse
 }
 
 // erbsDiffuse is the diffuse fraction of the global horizontal irradiance as a function of
@@ -182,7 +182,7 @@ func (w *WindowDay) dayClouds(d int64) []cloud {
 	}
 }
 
-// cloudFactor returns the share of the beam that gets through the clouds at t. The cache,
+// cloudFactor returns the share of the direct sunlight that gets through the clouds at t. The cache,
 // when not nil, keeps one day's clouds.
 func (w *WindowDay) cloudFactor(t float64, c *cloudCache) float64 {
 	if w.CloudS <= 0 {
@@ -269,7 +269,7 @@ func (c *lightCache) at(t float64) float64 {
 		c.k, c.ok = k, true
 	}
 	u := t/c.gridS - float64(k)
-	beam := c.b0 + u*(c.b1-c.b0)
+	direct := c.b0 + u*(c.b1-c.b0)
 	diffuse := c.d0 + u*(c.d1-c.d0)
-	return c.wd.combine(beam, diffuse, c.wd.cloudFactor(t, &c.clouds))
+	return c.wd.combine(direct, diffuse, c.wd.cloudFactor(t, &c.clouds))
 }
