@@ -59,7 +59,7 @@ type Config struct {
 	RetryMin  time.Duration    // first wait before reopening a lost port; default 250 ms
 	RetryMax  time.Duration    // longest wait between reopen attempts; default 5 s
 	Silence   time.Duration    // no bytes for this long means the link is lost; default 15 s
-	Handshake time.Duration    // how long to wait for the identity and replies; default 3 s
+	Handshake time.Duration    // how long to wait for the identity and replies; default 5 s (a boot loader after the DTR reset takes 1-2 s)
 }
 
 // Burst is the adaptive-capture setting sent with ">burst".
@@ -116,7 +116,7 @@ func (c *Config) defaults() Config {
 		r.Silence = 15 * time.Second
 	}
 	if r.Handshake <= 0 {
-		r.Handshake = 3 * time.Second
+		r.Handshake = 5 * time.Second
 	}
 	if r.LogEvery <= 0 {
 		r.LogEvery = time.Minute
@@ -415,7 +415,12 @@ func (ss *session) consume(b []byte, now time.Time) error {
 // reconnect notes the gap and reopens the port with back-off until it answers, a stop
 // comes (it returns nil, nil) or a write fails.
 func (ss *session) reconnect(cause error) (*chunkReader, error) {
-	ss.s.openGap(capture.GapUnplugged, 0)
+	reason := capture.GapReadError
+	var pe *PortError
+	if errors.As(cause, &pe) && pe.Kind == PortGone {
+		reason = capture.GapUnplugged
+	}
+	ss.s.openGap(reason, 0)
 	if err := ss.w.Flush(); err != nil {
 		return nil, err
 	}
@@ -457,7 +462,6 @@ func (ss *session) reconnect(cause error) (*chunkReader, error) {
 			}
 		}
 		ss.sum.Reconnects++
-		_ = cause
 		return rd, nil
 	}
 }

@@ -282,3 +282,23 @@ func TestAppendContinues(t *testing.T) {
 		t.Errorf("no append note:\n%s", b)
 	}
 }
+
+// TestSilenceReopens: a link that stays connected but sends nothing for longer than
+// Silence is reopened (a hung USB bridge), and the gap says read-error.
+func TestSilenceReopens(t *testing.T) {
+	pb := newPtyBoard(t)
+	cfg := ptyConfig(pb)
+	cfg.Silence = 500 * time.Millisecond
+	r := startRecording(t, cfg)
+	r.waitFor("0 samples")
+	pb.write(pb.slow(nil, 5, func(int) uint16 { return 1 }))
+	r.waitFor("5 samples")
+	r.waitFor("1 reconnects")
+	pb.write(pb.slow(nil, 5, func(int) uint16 { return 2 }))
+	r.waitFor("10 samples")
+	r.stop()
+	_, _, rd := readCapture(t, cfg.Out)
+	if g := rd.Gaps(); len(g) != 1 || g[0].Reason != capture.GapReadError {
+		t.Errorf("gaps %+v", g)
+	}
+}
