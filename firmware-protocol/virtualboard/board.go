@@ -58,8 +58,8 @@ type Config struct {
 	Seed uint64
 
 	// Capture settings at boot (PROTOCOL.md, "The adaptive capture"). Defaults:
-	// SlowHz 10, FastHz 500, Thr 8 (negative: 0, no bursts), Pre 32 (negative: 0),
-	// Post 32.
+	// SlowHz 10, FastHz 500 (or the fastest multiple of SlowHz that Channels and EBits
+	// allow, if lower), Thr 8 (negative: 0, no bursts), Pre 32 (negative: 0), Post 32.
 	SlowHz, FastHz, Thr, Pre, Post int
 	// StatusEveryS is the ST period in device seconds. Default 10.
 	StatusEveryS float64
@@ -197,12 +197,16 @@ func (b *Board) defaults() error {
 	def(&c.Bits, 10)
 	def(&c.EBits, 12)
 	def(&c.SlowHz, 10)
-	def(&c.FastHz, 500)
 	def(&c.Thr, 8)
 	def(&c.Pre, 32)
 	def(&c.Post, 32)
 	def(&c.TxQueue, 64)
 	c.Thr, c.Pre = max(c.Thr, 0), max(c.Pre, 0)
+	if c.FastHz == 0 && c.Channels >= 1 && c.Channels <= wire.MaxChannels && c.EBits >= c.Bits && c.SlowHz > 0 {
+		// 500 Hz, or the fastest multiple of SlowHz the channels and bits allow.
+		mx := int(maxHz(c.Channels, c.Bits, c.EBits))
+		c.FastHz = max(min(500, mx-mx%c.SlowHz), c.SlowHz)
+	}
 	deff(&c.AVccV, 5.0)
 	deff(&c.BandgapV, 1.1)
 	deff(&c.ExtRefV, 2.5)

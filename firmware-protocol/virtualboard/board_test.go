@@ -436,3 +436,18 @@ func TestHostReconnectAtSpeed0(t *testing.T) {
 	t.Logf("seq %d before closing, %d first after reopening (%d lost in between); host stats %+v",
 		last, seq, seq-last-1, st)
 }
+
+func TestDefaultFastRateFitsChannels(t *testing.T) {
+	// 4 channels at 12 bits: 9615 conversions/s / 4 / 16 = 150 Hz at most.
+	b, err := Open(&Config{Source: constant(1, 1), Channels: 4})
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer b.Close()
+	if b.cfg.FastHz != 150 {
+		t.Errorf("FastHz %d, want 150", b.cfg.FastHz)
+	}
+	if _, err := Open(&Config{Source: constant(1, 1), Channels: 4, FastHz: 500}); err == nil {
+		t.Error("FastHz 500 with 4 channels accepted")
+	}
+}
