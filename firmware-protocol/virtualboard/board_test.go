@@ -451,3 +451,35 @@ func TestDefaultFastRateFitsChannels(t *testing.T) {
 		t.Error("FastHz 500 with 4 channels accepted")
 	}
 }
+
+func TestBitErrorsOverPTY(t *testing.T) {
+	// One flipped bit per thousand bytes: the host's decoder resynchronises, reports
+	// the damaged frames, and counts the samples they carried as lost.
+	w, err := NewWaveform([]float64{0, 0.5, 0.502, 1, 1.002, 60}, [][]float64{{2}, {2}, {1}, {1}, {2}, {2}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	b := startBoard(t, &Config{Source: w, BitErrorRate: 1e-3, NoiseLSB: 0.7, Seed: 3})
+	h := openHost(t, b.Path())
+	bad := 0
+	for bad < 5 {
+		_, err := h.dec.Next()
+		var fe *wire.FrameError
+		switch {
+		case errors.As(err, &fe):
+			bad++
+		case err != nil:
+			t.Fatal(err)
+		}
+	}
+	// A damaged sample frame is lost: reported bad, or, if its start character was
+	// hit, skipped as garbage (at least one byte each). A flipped "\n" cuts its frame
+	// at the next start character, and the next frame still decodes.
+	st := h.dec.Stats()
+	if st.BadCRC+st.Malformed != 5 || st.Good == 0 || st.Lost < 1 || st.Lost > st.BadCRC+st.Malformed+st.Skipped {
+		t.Errorf("host stats %+v", st)
+	}
+	if b.Stats().Corrupted < 5 {
+		t.Errorf("board corrupted %d frames, the host saw 5 bad ones", b.Stats().Corrupted)
+	}
+}
