@@ -28,13 +28,14 @@ func loadProfile(t *testing.T, name string) *profile.Profile {
 	return p
 }
 
-func scene(t *testing.T, name string) *model.Circuit {
+// circuit is the profile's circuit, as the command line builds it.
+func circuit(t *testing.T, p *profile.Profile) *model.Circuit {
 	t.Helper()
-	sc, err := model.Scenario(name)
+	c, _, err := model.FromProfile(p)
 	if err != nil {
 		t.Fatal(err)
 	}
-	return sc.Circuit
+	return c
 }
 
 // stalled is the analysis of a circuit that settled at its equilibrium under light g.
@@ -50,10 +51,14 @@ func stalled(c *model.Circuit, g float64) *analyze.Result {
 // A circuit that stalls below its trigger gets a fault with the equilibrium, the light
 // factor, the drain cut and the lower trigger, each checked against the model directly.
 func TestNeverReachesTrigger(t *testing.T) {
-	c := scene(t, "fern")
+	p := loadProfile(t, "fern.toml")
+	c := circuit(t, p)
 	const g = 60.0
 	r := stalled(c, g)
-	fs := Diagnose(&Input{Result: r, Nominal: c, Fitted: c, Profile: loadProfile(t, "fern.toml")})
+	if r.EquilibriumV.Value >= c.Trigger.OnV {
+		t.Fatalf("fern reaches its trigger at %v W/m²; the test needs a stall", g)
+	}
+	fs := Diagnose(&Input{Result: r, Nominal: c, Fitted: c, Profile: p})
 	f := find(fs, CodeNeverFires)
 	if f == nil || f.Severity != "fault" {
 		t.Fatalf("no never-reaches-trigger fault in %+v", fs)
@@ -104,12 +109,12 @@ func TestNeverReachesTrigger(t *testing.T) {
 }
 
 func TestNoDump(t *testing.T) {
-	c := scene(t, "fern")
+	p := loadProfile(t, "fern.toml") // on_v 4.0 V
 	r := &analyze.Result{Schema: analyze.Schema, DurationS: 3600,
-		Envelope: []analyze.EnvelopePt{{TS: 0, MinV: 1, MaxV: 4.4}}}
-	fs := Diagnose(&Input{Result: r, Nominal: c, Profile: loadProfile(t, "fern.toml")})
+		Envelope: []analyze.EnvelopePt{{TS: 0, MinV: 1, MaxV: 4.6}}}
+	fs := Diagnose(&Input{Result: r, Nominal: circuit(t, p), Profile: p})
 	f := find(fs, CodeNoDump)
-	if f == nil || f.Severity != "fault" || f.Numbers["max_v"] != 4.4 {
+	if f == nil || f.Severity != "fault" || f.Numbers["max_v"] != 4.6 {
 		t.Fatalf("no-dump missing or wrong: %+v", fs)
 	}
 	if find(fs, CodeNeverFires) != nil {
@@ -146,50 +151,10 @@ func healthy(t *testing.T, c *model.Circuit, g float64) *analyze.Result {
 	return r
 }
 
-// The healthy rover: same parts as the wren scenario, declared honestly.
-const wrenProfile = `
-name = "Wren"
-[storage]
-kind = "electrolytic"
-cap_f = "4700u"
-tolerance = "M"
-rated_v = 6.3
-[trigger]
-kind = "voltage"
-release = "hold"
-on_v = 2.9
-accuracy_pct = 2
-quiescent_a = "1u"
-hold_f = "10u"
-hysteresis_v = 0.05
-diode_v = 0.3
-[load]
-kind = "motor"
-armature_ohm = 20
-back_emf_v_s = "1m"
-inertia_kg_m2 = "10n"
-[cell]
-voc_v = 5.0
-isc_a = "12m"
-series_cells = 8
-[adc]
-reference = "avcc"
-reference_v = 5.0
-bits = 10
-[[channel]]
-node = "vcap"
-adc = 0
-top_ohm = "500k"
-bottom_ohm = "500k"
-`
-
 // A healthy capture produces no warn or fault finding, only the info ones.
 func TestHealthyHasNoWarnings(t *testing.T) {
-	p, err := profile.Parse("wren-honest.toml", []byte(wrenProfile))
-	if err != nil {
-		t.Fatal(err)
-	}
-	c := scene(t, "wren")
+	p := loadProfile(t, "wren.toml")
+	c := circuit(t, p)
 	for _, g := range []float64{300, 600, 900} {
 		r := healthy(t, c, g)
 		fs := Diagnose(&Input{Result: r, Nominal: c, Fitted: c, Profile: p})
@@ -205,11 +170,8 @@ func TestHealthyHasNoWarnings(t *testing.T) {
 }
 
 func TestChatterHoldNeeded(t *testing.T) {
-	p, err := profile.Parse("wren-honest.toml", []byte(wrenProfile))
-	if err != nil {
-		t.Fatal(err)
-	}
-	c := scene(t, "wren")
+	p := loadProfile(t, "wren.toml")
+	c := circuit(t, p)
 	r := healthy(t, c, 600)
 	for i := range r.Cycles {
 		if i%4 != 0 {
@@ -224,9 +186,9 @@ func TestChatterHoldNeeded(t *testing.T) {
 	if f == nil || f.Severity != "warn" {
 		t.Fatalf("no chatter warning: %+v", fs)
 	}
-	// t = τ ln(Von/Voff) with Voff = 0.7 Von when none is declared: C_hold = I_q t / ΔV.
+	// t = τ ln(Von/Voff) to swing down to the declared off_v: C_hold = I_q t / ΔV.
 	on := r.Fit.Trigger.OnV.Value
-	wantHold := 1e-6 * tau * math.Log(on/(0.7*on)) / 0.05
+	wantHold := p.Trigger.QuiescentA * tau * math.Log(on/p.Trigger.OffV) / p.Trigger.HysteresisV
 	if math.Abs(f.Numbers["hold_needed_f"]-wantHold)/wantHold > 1e-9 {
 		t.Errorf("hold needed %.4g F, want %.4g F", f.Numbers["hold_needed_f"], wantHold)
 	}
@@ -297,19 +259,38 @@ func TestCaptureFindings(t *testing.T) {
 }
 
 func TestProbeHeavySeverity(t *testing.T) {
-	c := scene(t, "fern")
-	// With a 20 kΩ probe the sculpture stalls below its trigger at a light (400 W/m²) at
-	// which it fires with the probe ten times larger: the probe itself keeps it from firing.
-	cc := *c
-	cc.ProbeOhm = 20e3
-	r := stalled(&cc, 400)
-	fs := Diagnose(&Input{Result: r, Nominal: &cc, Fitted: &cc, Profile: loadProfile(t, "fern.toml"), LightWm2: 400})
+	p := loadProfile(t, "fern.toml")
+	c := circuit(t, p)
+	// With a 20 kΩ probe, find a light at which the sculpture stalls below its trigger but
+	// would fire with a probe of ten times the resistance: the probe itself stops it.
+	heavy, light := *c, *c
+	heavy.ProbeOhm, light.ProbeOhm = 20e3, 200e3
+	g := 0.0
+	for x := 20.0; x < 5000; x *= 1.05 {
+		if predict.EquilibriumV(&heavy, x) < 0.97*c.Trigger.OnV && predict.EquilibriumV(&light, x) > 1.05*c.Trigger.OnV {
+			g = x
+			break
+		}
+	}
+	if g == 0 {
+		t.Fatal("no light separates the two probes")
+	}
+	r := stalled(&heavy, g)
+	fs := Diagnose(&Input{Result: r, Nominal: &heavy, Fitted: &heavy, Profile: p, LightWm2: g})
 	f := find(fs, CodeProbeHeavy)
 	if f == nil || f.Severity != "warn" {
-		t.Fatalf("probe-heavy missing: %+v", fs)
+		t.Fatalf("probe-heavy missing or not a warning: %+v", fs)
 	}
 	if _, ok := f.Numbers["period_probe_x10_s"]; !ok {
 		t.Errorf("no predicted period with the larger probe: %+v", f.Numbers)
+	}
+	// A probe that hardly changes a firing circuit is only info.
+	wp := loadProfile(t, "wren.toml")
+	wc := circuit(t, wp)
+	for _, f := range Diagnose(&Input{Result: healthy(t, wc, 600), Nominal: wc, Fitted: wc, Profile: wp}) {
+		if f.Code == CodeProbeHeavy && f.Severity != "info" {
+			t.Errorf("wren's probe: %s %s", f.Severity, f.Message)
+		}
 	}
 }
 
