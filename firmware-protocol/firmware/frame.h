@@ -16,6 +16,10 @@
  *
  * Tags, keys and frame_key_pstr values are FRAME_P strings: in program memory on AVR
  * (PSTR), plain string literals on the host. frame_key_str values are in RAM.
+ *
+ * Size: all of frame.c takes about 2.4 KB of flash and no RAM on the ATmega328P with
+ * avr-gcc -Os (measured by wire.TestFrameBuildsForAVR); build with -ffunction-sections
+ * and link with -Wl,--gc-sections to keep only the functions the firmware calls.
  */
 #ifndef CAPCYCLE_FRAME_H
 #define CAPCYCLE_FRAME_H

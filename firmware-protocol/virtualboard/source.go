@@ -74,3 +74,8 @@ func (w *Waveform) Sample(t float64, v []float64) bool {
 	}
 	return true
 }
+
+var (
+	_ Source = SourceFunc(nil)
+	_ Source = (*Waveform)(nil)
+)
