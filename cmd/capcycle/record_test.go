@@ -281,3 +281,35 @@ func TestRecordDefaultName(t *testing.T) {
 		t.Errorf("recordFileWord = %q", got)
 	}
 }
+
+// TestRecordTextInput: a board running other firmware prints counts; --input text with
+// --bits, --vref and --divider converts them, and no command is sent to it.
+func TestRecordTextInput(t *testing.T) {
+	m, s, err := pty.Open()
+	if err != nil {
+		t.Skip("no pseudo-terminals:", err)
+	}
+	defer m.Close()
+	defer s.Close()
+	term.MakeRaw(int(s.Fd()))
+	out := filepath.Join(t.TempDir(), "text.csv")
+	go func() {
+		for i := 0; i < 20; i++ {
+			time.Sleep(20 * time.Millisecond)
+			m.Write([]byte("512\r\n"))
+		}
+	}()
+	code, _, errs := runCmd(t, "record", "--port", s.Name(), "--input", "text", "--bits", "10", "--vref", "5",
+		"--divider", "0.5", "--out", out, "--duration", "800ms", "--quiet")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	text, _ := os.ReadFile(out)
+	// 512 of 1024 at 5 V is 2.5 V at the pin, 5 V at the node through the 0.5 divider.
+	if n := strings.Count(string(text), ",5.00000\n"); n < 15 {
+		t.Errorf("%d rows of 5 V:\n%s", n, text)
+	}
+	if !strings.Contains(string(text), "# channel: vcap_v adc=0 bits=10 ref_v=5 divider=0.5 scale=1") {
+		t.Errorf("channel line missing:\n%s", text)
+	}
+}
