@@ -33,27 +33,44 @@ func demoCommand() *command {
 }
 
 // The demo's board settings. The model runs at demoFastHz; the board sends an averaged
-// row demoSlowHz times a second and a burst at the fast rate when the voltage moves by
-// more than demoThr counts from the last row (a fire), so a day of thousands of cycles
-// stays a file of a few hundred thousand rows. At demoSpeed a 24-hour day takes 14.4 s.
+// row demoSlowHz times a second, and a burst at the fast rate when the storage voltage
+// moves from the last row by more than half the trigger's nominal swing (demoThr: a
+// fire, not the charging between two rows), so a day of thousands of cycles stays a file
+// of a few hundred thousand rows. At speed 0 the board runs as fast as the recorder
+// reads, which loses nothing and takes a few seconds per simulated day.
 const (
-	demoSpeed  = 6000
+	demoSpeed  = 0
 	demoSlowHz = 2
 	demoFastHz = 50
-	demoThr    = 48 // counts at 12 bits: about 0.12 V at Wren's storage node
-	demoPre    = 16
-	demoPost   = 16
+	demoPre    = 8
+	demoPost   = 8
+	// demoExtraBits is the oversampling of the virtual board: one extra bit from four
+	// conversions per sample (AVR121), which keeps a simulated day quick.
+	demoExtraBits = 1
 )
+
+// demoThr is the burst threshold in counts at the board's oversampled resolution:
+// half of on_v - off_v at the storage node, through ADC0's divider; at least 8 counts.
+func demoThr(p *profile.Profile, rig *robotRig, ebits int) int {
+	swing := p.Trigger.OnV - p.Trigger.OffV
+	if !(swing > 0) || !(rig.RefV > 0) {
+		return 8
+	}
+	c := 0.5 * swing * rig.Div[0] / rig.RefV * float64(int(1)<<ebits)
+	return max(8, int(c))
+}
 
 // demoOptions are the demo's settings from its flags.
 type demoOptions struct {
-	out   string
-	hours float64
-	board string
-	keep  bool
-	speed float64
-	seed  uint64
-	only  []string // scenarios to run; default all
+	out    string
+	hours  float64
+	start  string  // time of day the run starts, "HH:MM"
+	startS float64 // the same in seconds from midnight
+	board  string
+	keep   bool
+	speed  float64
+	seed   uint64
+	only   []string // scenarios to run; default all
 }
 
 // demoOutcome is what one scenario's run produced.
@@ -76,7 +93,8 @@ func runDemo(ctx context.Context, args []string, e *env) error {
 		"capcycle demo --hours 6 --board emulated")
 	o := demoOptions{}
 	fs.StringVar(&o.out, "out", "capcycle-demo", "directory for the reports (an earlier demo's files there are replaced)")
-	fs.Float64Var(&o.hours, "hours", 24, "model time to record per scenario, hours, from midnight")
+	fs.Float64Var(&o.hours, "hours", 24, "model time to record per scenario, hours")
+	fs.StringVar(&o.start, "start", "00:00", "time of day (solar time, HH:MM) at which the robot is put on the sill, its storage empty")
 	fs.StringVar(&o.board, "board", "virtual", "the board that measures the model: virtual (in-process) or emulated (the firmware in simavr)")
 	fs.BoolVar(&o.keep, "keep", false, "keep the capture files in --out (by default they go to a temporary directory that is removed)")
 	fs.Float64Var(&o.speed, "speed", demoSpeed, "how many times faster than real time the virtual robot runs; 0 runs as fast as the recorder reads")
@@ -96,6 +114,11 @@ func runDemo(ctx context.Context, args []string, e *env) error {
 	case o.board != "virtual" && o.board != "emulated":
 		return usageErrorf("--board %q: want virtual or emulated", o.board)
 	}
+	startS, err := clockSeconds(o.start)
+	if err != nil {
+		return usageErrorf("--start: %v", err)
+	}
+	o.startS = startS
 	o.only = demodata.Names()
 	if *scen != "" {
 		o.only = nil
@@ -192,6 +215,7 @@ func demoScenario(ctx context.Context, name string, o *demoOptions, capDir strin
 	if err != nil {
 		return nil, workErrorf("demo %s: %w", name, err)
 	}
+	rig.StartS = o.startS
 	out := &demoOutcome{name: name, capture: filepath.Join(capDir, name+".capture.csv")}
 	t0 := time.Now()
 	if emu != nil {
@@ -205,7 +229,11 @@ func demoScenario(ctx context.Context, name string, o *demoOptions, capDir strin
 	out.recordS = time.Since(t0).Seconds()
 
 	t1 := time.Now()
-	res, err := analyseDemo(p, out.capture)
+	ebits := min(16, rig.Bits+demoExtraBits)
+	if emu != nil {
+		ebits = emulatedEBits
+	}
+	res, err := analyseDemo(p, rig, ebits, out.capture)
 	if err != nil {
 		return nil, err
 	}
@@ -224,9 +252,18 @@ func demoScenario(ctx context.Context, name string, o *demoOptions, capDir strin
 }
 
 // analyseDemo runs the analysis and the later stages on a capture with the profile.
-func analyseDemo(p *profile.Profile, path string) (*analyze.Result, error) {
+//
+// The smallest swing the detector follows is set from the ADC step the demo knows
+// (three steps of the recorded resolution at the storage node, the detector's own rule
+// when it can see the step), because a demo day starts at night with the storage empty:
+// every early sample reads 0 V, so no step or noise shows in the first samples the
+// detector estimates them from, and one-count dither at dawn would count as cycles.
+func analyseDemo(p *profile.Profile, rig *robotRig, ebits int, path string) (*analyze.Result, error) {
 	opts := &analyze.Options{Path: path, Profile: p.Name}
 	fromProfile(opts, p)
+	if rig.RefV > 0 && rig.Div[0] > 0 {
+		opts.MinSwingV = 3 * rig.RefV / float64(int(1)<<ebits) / rig.Div[0]
+	}
 	opts.Post = laterStages(p, opts, path, nil)
 	f, err := os.Open(path)
 	if err != nil {
@@ -255,10 +292,10 @@ func recordVirtual(ctx context.Context, rig *robotRig, p *profile.Profile, o *de
 		return nil, workErrorf("demo %s: %w", rig.Name, err)
 	}
 	fl := demoFlaws(o.seed)
-	fl.EBits = min(16, rig.Bits+2)
+	fl.EBits = min(16, rig.Bits+demoExtraBits)
 	bcfg := boardConfig(rig, src, fl)
 	bcfg.Speed = o.speed
-	bcfg.SlowHz, bcfg.FastHz, bcfg.Thr, bcfg.Pre, bcfg.Post = demoSlowHz, demoFastHz, demoThr, demoPre, demoPost
+	bcfg.SlowHz, bcfg.FastHz, bcfg.Thr, bcfg.Pre, bcfg.Post = demoSlowHz, demoFastHz, demoThr(p, rig, fl.EBits), demoPre, demoPost
 	bcfg.TxQueue = 4096
 	var written counter
 	bcfg.Tap = &written
@@ -363,4 +400,13 @@ func (p *countingPort) Read(b []byte) (int, error) {
 	n, err := p.Port.Read(b)
 	p.c.n.Add(int64(n))
 	return n, err
+}
+
+// clockSeconds reads a time of day "HH:MM" as seconds from midnight.
+func clockSeconds(s string) (float64, error) {
+	t, err := time.Parse("15:04", s)
+	if err != nil {
+		return 0, fmt.Errorf("%q: want HH:MM (24-hour clock)", s)
+	}
+	return float64(t.Hour()*3600 + t.Minute()*60), nil
 }

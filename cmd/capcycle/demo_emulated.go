@@ -65,7 +65,7 @@ func recordEmulated(ctx context.Context, emu *emulatedBoards, rig *robotRig, p *
 	var read counter
 	lcfg := &logger.Config{
 		Port: board.Path, Open: countingOpen(&read), Out: path, Force: true,
-		SlowHz: demoSlowHz, FastHz: demoFastHz, Burst: &logger.Burst{Thr: demoThr, Pre: demoPre, Post: demoPost},
+		SlowHz: demoSlowHz, FastHz: demoFastHz, Burst: &logger.Burst{Thr: uint32(demoThr(p, rig, emulatedEBits)), Pre: demoPre, Post: demoPost},
 		Notes: []string{"demo: the board firmware in simavr, its ADC driven by the circuit model"},
 	}
 	if err := recordFromProfile(lcfg, p, false); err != nil {
@@ -90,6 +90,9 @@ func recordEmulated(ctx context.Context, emu *emulatedBoards, rig *robotRig, p *
 	}
 	return recordUntilDrained(ctx, lcfg, rig.Name, run, drained)
 }
+
+// emulatedEBits is the firmware's resolution after oversampling (its default).
+const emulatedEBits = 12
 
 // waveTolV is how far the waveform file may stray from the model between its points.
 const waveTolV = 2e-3

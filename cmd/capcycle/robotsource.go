@@ -49,6 +49,9 @@ type robotRig struct {
 	Circuit *model.Circuit
 	Light   model.Light
 	StartV  float64 // node voltage at t = 0, volts
+	// StartS shifts the run into the light's day: the board's t = 0 is the light's
+	// StartS (the robot is put on the sill then, with the storage at StartV).
+	StartS float64
 
 	// The board: Nodes[k] is what ADC input k reads through a divider of ratio Div[k]
 	// (ADC-pin volts over node volts). Nodes[0] is always nodeVcap.
@@ -197,7 +200,11 @@ var _ virtualboard.Source = (*modelSource)(nil)
 // newModelSource starts the model of rig for durationS seconds (0: endless) sampled at
 // rateHz.
 func newModelSource(rig *robotRig, durationS, rateHz float64) (*modelSource, error) {
-	sp, err := model.NewSampler(rig.Circuit, rig.Light, &model.Options{DurationS: durationS, RateHz: rateHz, StartV: rig.StartV})
+	light := rig.Light
+	if rig.StartS > 0 {
+		light = shiftedLight{rig.Light, rig.StartS}
+	}
+	sp, err := model.NewSampler(rig.Circuit, light, &model.Options{DurationS: durationS, RateHz: rateHz, StartV: rig.StartV})
 	if err != nil {
 		return nil, err
 	}
@@ -291,3 +298,11 @@ func robotStatus(src *modelSource, b *virtualboard.Board) string {
 	}
 	return sb.String()
 }
+
+// shiftedLight is a light seen from StartS seconds into its day.
+type shiftedLight struct {
+	l      model.Light
+	startS float64
+}
+
+func (s shiftedLight) IrradianceWm2(t float64) float64 { return s.l.IrradianceWm2(t + s.startS) }
