@@ -112,6 +112,7 @@ type Board struct {
 	running     bool
 	closed      bool
 	runCtx      context.Context
+	closedCh    chan struct{} // closed by Close, to end Run
 
 	gen    atomic.Uint64 // power generation: frames and commands of an older one are lost
 	txq    chan txItem
@@ -142,7 +143,7 @@ func Open(cfg *Config) (*Board, error) {
 	if cfg == nil || cfg.Source == nil {
 		return nil, errors.New("virtualboard: Config.Source is required")
 	}
-	b := &Board{cfg: *cfg}
+	b := &Board{cfg: *cfg, closedCh: make(chan struct{})}
 	if err := b.defaults(); err != nil {
 		return nil, err
 	}
@@ -369,14 +370,21 @@ func (b *Board) Corrupt(n int) {
 // FailNextSave makes the next >save answer ER code=5 (EEPROM failure).
 func (b *Board) FailNextSave() { b.saveErr.Store(true) }
 
-// Close unplugs the board for good. A second Close does nothing.
+// Close unplugs the board for good and ends Run (which returns ErrClosed). A second
+// Close does nothing.
 func (b *Board) Close() error {
 	b.Unplug()
 	b.mu.Lock()
-	b.closed = true
-	b.mu.Unlock()
+	defer b.mu.Unlock()
+	if !b.closed {
+		b.closed = true
+		close(b.closedCh)
+	}
 	return nil
 }
+
+// ErrClosed is what Run returns when the board was closed.
+var ErrClosed = errors.New("virtualboard: board closed")
 
 // send encodes a frame the device made and queues it for the wire. It runs on the
 // Run goroutine.
@@ -418,6 +426,8 @@ func (b *Board) queue(it txItem) {
 		select {
 		case b.txq <- it:
 		case <-b.runCtx.Done():
+			b.pending.Add(-1)
+		case <-b.closedCh:
 			b.pending.Add(-1)
 		}
 		return

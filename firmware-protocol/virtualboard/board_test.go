@@ -483,3 +483,24 @@ func TestBitErrorsOverPTY(t *testing.T) {
 		t.Errorf("board corrupted %d frames, the host saw 5 bad ones", b.Stats().Corrupted)
 	}
 }
+
+func TestCloseEndsRun(t *testing.T) {
+	// At Speed 0 with no host, Run waits for one; Close must still end it.
+	b, err := Open(&Config{Source: constant(1, 1e6)})
+	if err != nil {
+		t.Fatal(err)
+	}
+	done := make(chan error, 1)
+	go func() { done <- b.Run(context.Background()) }()
+	time.Sleep(50 * time.Millisecond)
+	b.Close()
+	b.Close()
+	select {
+	case err := <-done:
+		if !errors.Is(err, ErrClosed) {
+			t.Errorf("Run returned %v, want ErrClosed", err)
+		}
+	case <-time.After(2 * time.Second):
+		t.Fatal("Run still running after Close")
+	}
+}

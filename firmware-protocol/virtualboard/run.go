@@ -25,8 +25,9 @@ type clock struct {
 
 func (c *clock) sampleUS(fastHz uint32) uint64 { return c.startUS + c.j*1000000/uint64(fastHz) }
 
-// Run boots the board and runs it until ctx ends (it returns ctx.Err()) or the
-// Source ends (it returns nil once the transmit queue is empty). Run may be called once.
+// Run boots the board and runs it until ctx ends (it returns ctx.Err()), Close is
+// called (ErrClosed) or the Source ends (it returns nil once the transmit queue is
+// empty). Run may be called once.
 func (b *Board) Run(ctx context.Context) error {
 	b.mu.Lock()
 	if b.running || b.closed {
@@ -54,6 +55,11 @@ func (b *Board) Run(ctx context.Context) error {
 	for {
 		if err := ctx.Err(); err != nil {
 			return err
+		}
+		select {
+		case <-b.closedCh:
+			return ErrClosed
+		default:
 		}
 		if b.cfg.Speed > 0 {
 			w = math.Max(w, time.Since(wall).Seconds()*b.cfg.Speed)
@@ -178,6 +184,8 @@ func (b *Board) finish(ctx context.Context) error {
 		select {
 		case <-ctx.Done():
 			return ctx.Err()
+		case <-b.closedCh:
+			return ErrClosed
 		case <-time.After(tick):
 		}
 	}
