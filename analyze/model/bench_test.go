@@ -32,14 +32,13 @@ func BenchmarkWrenDay(b *testing.B) {
 // capacitor, leakage and probe, a voltage switch with hysteresis and a resistive load,
 // under the day's light as a piecewise-linear source) over 24 hours with the model and, in
 // the same run, with ngspice, and reports the speed ratio and how well the cycles agree.
-// ngspice runs with a 10 ms step limit, which keeps its switch lag near 1 ms. With -short
-// the span is 2 hours around noon.
+// ngspice runs with a 10 ms step limit. With -short the span is the 2 hours from 11:00.
 func BenchmarkDayVersusNgspice(b *testing.B) {
-	c, light := wrenTwin(b)
-	span := 86400.0
+	span, from := 86400.0, 0.0
 	if testing.Short() {
-		span = 7200
+		span, from = 7200, 11*3600
 	}
+	c, light := wrenTwin(b, from)
 	var res *Result
 	var err error
 	t0 := time.Now()
@@ -85,22 +84,34 @@ func BenchmarkDayVersusNgspice(b *testing.B) {
 	b.ReportMetric(spiceS, "ngspice_s")
 	b.ReportMetric(spiceCPU, "ngspice_cpu_s")
 	b.ReportMetric(spiceS/modelS, "speedup")
+	b.ReportMetric(spiceCPU/modelS, "speedup_cpu")
 	b.ReportMetric(float64(len(sf)), "ngspice_fires")
 
-	// Agreement: the number of fires, and the k-th charge-and-fire period of each.
-	b.ReportMetric(100*math.Abs(float64(len(sf)-len(mf)))/float64(max(len(mf), 1)), "fires_diff_%")
+	// Agreement. ngspice's switch acts at the first time point past its threshold, so with
+	// a 10 ms step limit its consecutive, nearly identical cycles scatter by a few tenths of
+	// a percent (the model's own periods agree with a run at a 1000 times tighter tolerance
+	// to about 1e-6). Reported: the difference in the number of fires, the median
+	// difference of the k-th period, and ngspice's own period-to-period scatter for scale.
+	// The strict 0.1 % comparison is TestSpiceCrossCheck, with ngspice at 10 µs steps.
+	fd := math.Abs(float64(len(sf)-len(mf))) / float64(max(len(mf), 1))
+	b.ReportMetric(100*fd, "fires_diff_%")
 	m := min(len(sf), len(mf))
-	var rels []float64
+	var rels, scatter []float64
 	for k := 1; k < m; k++ {
 		ps, pm := sf[k]-sf[k-1], mf[k]-mf[k-1]
 		rels = append(rels, math.Abs(ps-pm)/pm)
+		if k > 1 {
+			scatter = append(scatter, math.Abs(ps-(sf[k-1]-sf[k-2]))/ps)
+		}
 	}
-	if len(rels) > 0 {
+	if len(scatter) > 0 {
 		sort.Float64s(rels)
-		b.ReportMetric(100*rels[len(rels)/2], "period_median_diff_%")
-		b.ReportMetric(100*rels[len(rels)*99/100], "period_p99_diff_%")
-		if rels[len(rels)/2] > 1e-3 {
-			b.Errorf("median period differs from ngspice by %.3g %% (limit 0.1 %%)", 100*rels[len(rels)/2])
+		sort.Float64s(scatter)
+		med := rels[len(rels)/2]
+		b.ReportMetric(100*med, "period_median_diff_%")
+		b.ReportMetric(100*scatter[len(scatter)/2], "ngspice_scatter_%")
+		if med > 0.01 || fd > 0.01 {
+			b.Errorf("the cycles disagree with ngspice by more than 1 %%: median period %.3g %%, fires %.3g %%", 100*med, 100*fd)
 		}
 	}
 	if spiceS/modelS < 10 {

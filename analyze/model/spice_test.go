@@ -85,11 +85,15 @@ func spiceNetlist(c *Circuit, light Light, durS, startV, tmaxS float64, out stri
 	fmt.Fprintf(&b, "S1 v l v 0 SWV\n.model SWV SW(VT=%.12g VH=%.12g RON=%.12g ROFF=1e12)\n",
 		vt, vh, math.Max(c.Switch.OnOhm, 1e-3))
 	fmt.Fprintf(&b, "Rload l 0 %.12g\n", c.Load.Ohm)
-	fmt.Fprintf(&b, ".options TEMP=%.6g TNOM=%.6g RELTOL=1e-6 ABSTOL=1e-12 VNTOL=1e-7\n", tc, tc)
+	fmt.Fprintf(&b, ".options TEMP=%.6g TNOM=%.6g RELTOL=1e-6 ABSTOL=1e-12 VNTOL=1e-7 TRTOL=%g\n", tc, tc, spiceTrtol)
 	fmt.Fprintf(&b, ".control\nset wr_singlescale\ntran %.6g %.12g 0 %.6g uic\nwrdata %s v(v) v(l)\nquit\n.endc\n.end\n",
 		tmaxS, durS, tmaxS, out)
 	return b.String(), nil
 }
+
+// spiceTrtol is ngspice's truncation-error factor (its default is 7; smaller takes shorter
+// steps where the waveform bends, which shortens the switch's lag).
+var spiceTrtol = 7.0
 
 // runSpice runs the netlist of c in ngspice and reads its output.
 func runSpice(tb testing.TB, bin string, c *Circuit, light Light, durS, startV, tmaxS float64) *spiceRun {
@@ -327,8 +331,9 @@ func before(ts []float64, end float64) []float64 {
 // wrenTwin is the sunny-sill rover reduced to what a netlist carries exactly: its panel,
 // capacitor, leakage and probe; a voltage trigger with fixed release in place of the
 // hold-capacitor supervisor; the motor's armature resistance in place of the motor; and the
-// windowsill day as a piecewise-linear light sampled every 30 s.
-func wrenTwin(tb testing.TB) (*Circuit, *Piecewise) {
+// windowsill day as a piecewise-linear light sampled every 30 s, starting fromS seconds
+// after midnight.
+func wrenTwin(tb testing.TB, fromS float64) (*Circuit, *Piecewise) {
 	sc, err := Scenario("wren")
 	if err != nil {
 		tb.Fatal(err)
@@ -345,7 +350,7 @@ func wrenTwin(tb testing.TB) (*Circuit, *Piecewise) {
 	var ts, g []float64
 	for t := 0.0; t <= 86400; t += 30 {
 		ts = append(ts, t)
-		g = append(g, sc.Light.IrradianceWm2(t))
+		g = append(g, sc.Light.IrradianceWm2(fromS+t))
 	}
 	light, err := NewPiecewise(ts, g)
 	if err != nil {
