@@ -36,6 +36,7 @@ type robotFlags struct {
 	slowHz, fastHz    int
 	rateHz            float64
 	link              string
+	start             string
 	linger            time.Duration
 }
 
@@ -59,6 +60,7 @@ func newRobotFlags(w io.Writer) (*flag.FlagSet, *robotFlags) {
 	fs.IntVar(&f.slowHz, "slow-hz", 10, "the board's slow (averaged) row rate at boot, Hz; a host may change it")
 	fs.IntVar(&f.fastHz, "fast-hz", 100, "the board's fast sample rate at boot, Hz; a host may change it")
 	fs.Float64Var(&f.rateHz, "rate-hz", 0, "model sample rate, Hz (default: the fast rate)")
+	fs.StringVar(&f.start, "start", "00:00", "time of day (solar time, HH:MM) at which the robot is put on the sill, its storage empty")
 	fs.StringVar(&f.link, "link", "", "keep a symbolic link at this path pointing at the pseudo-terminal")
 	fs.DurationVar(&f.linger, "linger", time.Second, "after the model time ends, keep the port open this long so a host reads the last frames")
 	return fs, f
@@ -112,9 +114,9 @@ func (f *robotFlags) check() error {
 	return nil
 }
 
-// start makes the model source and the virtual board for the flags; the board is
+// open makes the model source and the virtual board for the flags; the board is
 // open (its path exists) but not running.
-func (f *robotFlags) start(rig *robotRig) (*modelSource, *virtualboard.Board, error) {
+func (f *robotFlags) open(rig *robotRig) (*modelSource, *virtualboard.Board, error) {
 	if f.bits != 0 {
 		rig.Bits = f.bits
 	}
@@ -154,7 +156,10 @@ func runRobot(ctx context.Context, args []string, e *env) error {
 	if err != nil {
 		return err
 	}
-	src, b, err := f.start(rig)
+	if rig.StartS, err = clockSeconds(f.start); err != nil {
+		return usageErrorf("--start: %v", err)
+	}
+	src, b, err := f.open(rig)
 	if err != nil {
 		return err
 	}

@@ -1,0 +1,234 @@
+//go:build unix
+
+package main
+
+import (
+	"bufio"
+	"bytes"
+	"context"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"sync"
+	"testing"
+	"time"
+
+	"capcycle/analyze/model"
+	"capcycle/analyze/profile"
+	"capcycle/firmware-protocol/wire"
+	"capcycle/logger"
+	"capcycle/logger/capture"
+)
+
+// syncBuffer is a bytes.Buffer safe for one writer and one reader goroutine.
+type syncBuffer struct {
+	mu sync.Mutex
+	b  bytes.Buffer
+}
+
+func (s *syncBuffer) Write(p []byte) (int, error) {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	return s.b.Write(p)
+}
+
+func (s *syncBuffer) String() string {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	return s.b.String()
+}
+
+// TestModelSourceFollowsModel: the source gives the model's own samples at the model's
+// sample instants, interpolates between them, reads vcell as the storage node and ends
+// with the run.
+func TestModelSourceFollowsModel(t *testing.T) {
+	sc, err := model.Scenario("wren")
+	if err != nil {
+		t.Fatal(err)
+	}
+	rig := rigFromScenario(sc)
+	rig.Nodes = []robotNode{nodeVcap, nodeVcell, nodeNone}
+	rig.StartS = 12 * 3600 // noon: the sun is on the window and it fires
+	const dur, rate = 120.0, 20.0
+	src, err := newModelSource(rig, dur, rate)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The same run through the plain simulator, sampled at the same rate.
+	var want []model.Sample
+	if _, err := model.Simulate(rig.Circuit, shiftedLight{rig.Light, rig.StartS},
+		&model.Options{DurationS: dur, RateHz: rate, StartV: rig.StartV, OnSample: func(s model.Sample) { want = append(want, s) }}); err != nil {
+		t.Fatal(err)
+	}
+	v := make([]float64, 3)
+	for i := 0; i+1 < len(want); i += 7 {
+		clear(v)
+		if !src.Sample(want[i].TS, v) {
+			t.Fatalf("source ended at %g s", want[i].TS)
+		}
+		if math.Abs(v[0]-want[i].V) > 1e-9 || v[1] != v[0] || v[2] != 0 {
+			t.Fatalf("at %g s: got %v, want vcap = vcell = %g and 0 on the unwired input", want[i].TS, v, want[i].V)
+		}
+		// Half-way to the next sample: the mean of the two.
+		mid := (want[i].TS + want[i+1].TS) / 2
+		src.Sample(mid, v)
+		if m := (want[i].V + want[i+1].V) / 2; math.Abs(v[0]-m) > 1e-9 {
+			t.Fatalf("at %g s: got %g V, want the mean %g V", mid, v[0], m)
+		}
+	}
+	_, _, fires := src.progress()
+	if fires == 0 {
+		t.Error("no fire counted in two minutes of noon sun")
+	}
+	if src.Sample(dur+1, v) {
+		t.Error("the source did not end after the model run")
+	}
+}
+
+// TestRigFromProfile: the board is wired as the Wren profile's channels say.
+func TestRigFromProfile(t *testing.T) {
+	p, err := profile.Load(filepath.Join("..", "..", "testdata", "profiles", "wren.toml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	rig, err := rigFromProfile(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rig.Nodes) != 2 || rig.Nodes[0] != nodeVcap || rig.Nodes[1] != nodeVcell {
+		t.Errorf("nodes %v, want [vcap vcell]", rig.Nodes)
+	}
+	// 1 MΩ over 1 MΩ on both channels (wren.toml).
+	if len(rig.Div) != 2 || rig.Div[0] != 0.5 || rig.Div[1] != 0.5 {
+		t.Errorf("dividers %v, want [0.5 0.5]", rig.Div)
+	}
+	if rig.Bits != 10 || rig.RefV != 5 || rig.Ref != wire.RefAVcc {
+		t.Errorf("ADC %d bits, %g V %s; want 10 bits, 5 V avcc", rig.Bits, rig.RefV, rig.Ref)
+	}
+	p.Light = nil
+	if _, err := rigFromProfile(p); err == nil || !strings.Contains(err.Error(), "[light]") {
+		t.Errorf("a profile without light: %v, want an error naming the [light] table", err)
+	}
+}
+
+// TestBoardConfigNoise: the noise given at the node becomes LSB at the converter through
+// ADC0's divider. 10 bits on 5 V through a divider of 0.5: one LSB is 5/1024/0.5 =
+// 9.765625 mV at the node, so 2 mV rms is 0.2048 LSB.
+func TestBoardConfigNoise(t *testing.T) {
+	rig := &robotRig{Nodes: []robotNode{nodeVcap}, Div: []float64{0.5}, Bits: 10, Ref: wire.RefAVcc, RefV: 5}
+	cfg := boardConfig(rig, nil, boardFlaws{NoiseV: 2e-3})
+	if math.Abs(cfg.NoiseLSB-0.2048) > 1e-12 {
+		t.Errorf("NoiseLSB = %g, want 0.2048", cfg.NoiseLSB)
+	}
+	if cfg.AVccV != 5 || cfg.EBits != 10 || cfg.Channels != 1 {
+		t.Errorf("AVcc %g V, ebits %d, %d channels; want 5 V, 10, 1", cfg.AVccV, cfg.EBits, cfg.Channels)
+	}
+}
+
+// TestRobotOverPTY runs "capcycle robot" with a profile, reads the path it prints and
+// records it with the logger over the real serial stack (go.bug.st/serial on the
+// pseudo-terminal) until the robot's model time is over.
+func TestRobotOverPTY(t *testing.T) {
+	prof := filepath.Join("..", "..", "testdata", "profiles", "wren.toml")
+	stdoutR, stdoutW := io.Pipe()
+	stderr := &syncBuffer{}
+	ctx, cancel := context.WithTimeout(context.Background(), time.Minute)
+	defer cancel()
+	// Three minutes of noon, as fast as the host reads.
+	args := []string{"robot", "--profile", prof, "--speed", "0", "--hours", "0.05", "--start", "12:00", "--linger", "300ms"}
+	code := make(chan int, 1)
+	go func() {
+		code <- run(ctx, args, &env{stdin: strings.NewReader(""), stdout: stdoutW, stderr: stderr})
+		stdoutW.Close()
+	}()
+	line, err := bufio.NewReader(stdoutR).ReadString('\n')
+	if err != nil {
+		t.Fatalf("no path on stdout: %v; stderr: %s", err, stderr.String())
+	}
+	go io.Copy(io.Discard, stdoutR)
+	path := strings.TrimSpace(line)
+	if !strings.HasPrefix(path, "/dev/") {
+		t.Fatalf("stdout line %q is not a device path", line)
+	}
+	out := filepath.Join(t.TempDir(), "robot.csv")
+	recCtx, stopRec := context.WithCancel(ctx)
+	defer stopRec()
+	recDone := make(chan error, 1)
+	cfg := &logger.Config{Port: path, Out: out, Channels: 2, Columns: []string{"vcell_v"}}
+	go func() {
+		_, err := logger.Record(recCtx, cfg)
+		recDone <- err
+	}()
+	select {
+	case c := <-code:
+		if c != 0 {
+			t.Fatalf("robot: exit %d: %s", c, stderr.String())
+		}
+	case <-ctx.Done():
+		t.Fatal("the robot did not finish three minutes of model time within a minute")
+	}
+	stopRec()
+	if err := <-recDone; err != nil {
+		t.Fatalf("record: %v", err)
+	}
+	if s := stderr.String(); !strings.Contains(s, "Wren") || !strings.Contains(s, "model time is over") {
+		t.Errorf("robot status lacks the name or the end: %s", s)
+	}
+
+	f, err := os.Open(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	r := capture.NewReader(f, out)
+	ts, vs := make([]float64, 4096), make([]float64, 4096)
+	var n int
+	var first, last, vmax float64
+	for {
+		k, err := r.Read(ts, vs)
+		for i := range k {
+			if n == 0 {
+				first = ts[i]
+			}
+			last, vmax = ts[i], max(vmax, vs[i])
+			n++
+		}
+		if err == io.EOF {
+			break
+		}
+		if err != nil {
+			t.Fatalf("capture does not parse: %v", err)
+		}
+	}
+	// 180 s at 10 averaged rows a second, plus bursts at the fires.
+	if n < 1500 || last-first < 170 {
+		t.Errorf("capture holds %d rows over %.1f s; want at least 1500 over about 180 s", n, last-first)
+	}
+	// Wren's trigger is at 2.7 V (wren.toml); noon sun takes it there within the minutes.
+	if vmax < 2.5 || vmax > 3.2 {
+		t.Errorf("highest storage voltage %.3f V; want near the 2.7 V trigger", vmax)
+	}
+	raw, _ := os.ReadFile(out)
+	if !bytes.Contains(raw, []byte("time_s,vcap_v,vcell_v")) || !bytes.Contains(raw, []byte("board=virtual-robot")) {
+		t.Errorf("capture header lacks the vcell column or the board's identity:\n%s", raw[:min(len(raw), 800)])
+	}
+}
+
+// TestRobotFlags: impossible values are usage errors (exit 2).
+func TestRobotFlags(t *testing.T) {
+	for _, args := range [][]string{
+		{"robot", "--scenario", "wren", "--profile", "x.toml"},
+		{"robot", "--scenario", "nosuch"},
+		{"robot", "--hours", "0"},
+		{"robot", "--speed", "-1"},
+		{"robot", "--start", "25:00"},
+		{"robot", "extra"},
+	} {
+		var out, errs bytes.Buffer
+		if code := run(context.Background(), args, &env{stdin: strings.NewReader(""), stdout: &out, stderr: &errs}); code != exitUsage {
+			t.Errorf("%v: exit %d, want %d (%s)", args, code, exitUsage, errs.String())
+		}
+	}
+}
