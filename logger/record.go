@@ -283,6 +283,7 @@ func (ss *session) openFile(h *capture.Header) error {
 			}
 			ss.w, ss.start = w, ex.Start
 			ss.resumeS, ss.resumed = ex.AtS, true
+			ss.status.note("recording %s, appending to %s (cut %d torn bytes; Ctrl-C stops)", ss.path, ss.cfg.Out, ex.TornBytes)
 			if h.Board != "" {
 				w.Meta(capture.KeyBoard, h.Board)
 			}
@@ -294,6 +295,7 @@ func (ss *session) openFile(h *capture.Header) error {
 		return err
 	}
 	ss.w, ss.start = w, ss.begun
+	ss.status.note("recording %s to %s (Ctrl-C stops and closes it)", ss.path, ss.cfg.Out)
 	return nil
 }
 
@@ -421,6 +423,7 @@ func (ss *session) reconnect(cause error) (*chunkReader, error) {
 		reason = capture.GapUnplugged
 	}
 	ss.s.openGap(reason, 0)
+	ss.status.note("lost %s (%v); retrying", ss.path, cause)
 	if err := ss.w.Flush(); err != nil {
 		return nil, err
 	}
@@ -462,6 +465,7 @@ func (ss *session) reconnect(cause error) (*chunkReader, error) {
 			}
 		}
 		ss.sum.Reconnects++
+		ss.status.note("%s is back; recording goes on in the same file", ss.path)
 		return rd, nil
 	}
 }

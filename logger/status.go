@@ -117,3 +117,17 @@ func (l *statusLine) done(s Snapshot) {
 	}
 	fmt.Fprintf(l.w, "record: %s\n", s)
 }
+
+// note prints one event line (the file opened, the port lost or back), above the status
+// line on a terminal.
+func (l *statusLine) note(format string, a ...any) {
+	if l.w == nil {
+		return
+	}
+	msg := fmt.Sprintf(format, a...)
+	if l.term {
+		fmt.Fprintf(l.w, "\r%s\x1b[K\n", msg)
+		return
+	}
+	fmt.Fprintf(l.w, "record: %s\n", msg)
+}

@@ -69,9 +69,9 @@ func newRecordFlags(w io.Writer) (*flag.FlagSet, *recordFlags) {
 	fs.StringVar(&f.columns, "columns", "", "names of the columns after vcap_v, comma-separated (default: from the profile, else ch1_v,...)")
 	fs.IntVar(&f.slowHz, "slow-hz", 0, "slow (averaged) sample rate, Hz (default: keep the board's)")
 	fs.IntVar(&f.fastHz, "fast-hz", 0, "fast (burst) sample rate, Hz (default: keep the board's)")
-	fs.IntVar(&f.burstThr, "burst-thr", -1, "burst threshold, counts; 0 disables bursts (default: keep the board's)")
-	fs.IntVar(&f.burstPre, "burst-pre", -1, "pre-trigger samples kept before a burst (default: keep the board's)")
-	fs.IntVar(&f.burstPost, "burst-post", -1, "quiet samples that end a burst (default: keep the board's)")
+	fs.IntVar(&f.burstThr, "burst-thr", -1, "burst threshold, counts; 0 disables bursts; -1 keeps the board's")
+	fs.IntVar(&f.burstPre, "burst-pre", -1, "pre-trigger samples kept before a burst; -1 keeps the board's")
+	fs.IntVar(&f.burstPost, "burst-post", -1, "quiet samples that end a burst; -1 keeps the board's")
 	fs.StringVar(&f.ref, "ref", "", "ADC reference: avcc, int or ext (default: the profile's, else keep the board's)")
 	return fs, f
 }
@@ -104,7 +104,6 @@ func runRecord(ctx context.Context, args []string, e *env) error {
 		if fl, ok := e.stderr.(*os.File); ok && term.IsTerminal(int(fl.Fd())) {
 			cfg.Terminal = true
 		}
-		fmt.Fprintf(e.stderr, "record: writing %s (Ctrl-C stops and closes it)\n", cfg.Out)
 	}
 	sum, err := logger.Record(ctx, cfg)
 	if err != nil {
@@ -124,7 +123,7 @@ func recordError(err error) error {
 	case errors.Is(err, os.ErrExist):
 		return usageErrorf("%v (use --force to replace it or --append to continue it)", err)
 	case errors.Is(err, logger.ErrNoBoard), errors.Is(err, logger.ErrManyBoards):
-		return usageErrorf("%v", err)
+		return usageErrorf("%v; pick one with --port PATH", err)
 	case errors.As(err, &pe) && pe.Op == "open":
 		return workErrorf("%v", err)
 	}
