@@ -33,15 +33,23 @@
 //
 // The trajectory is delivered at a fixed rate through Options.OnSample, or pulled one
 // sample at a time from a Sampler (for a virtual board), so a day-long run never holds its
-// samples. Result carries the event list, the cycles and the energy bookkeeping: what the
+// samples. A small motor's armature current, whose L/R lag is tens of microseconds, is
+// taken to follow the voltage at once (Options.QuasiStaticS) rather than forcing
+// microsecond steps through every pulse; a dry-friction stop is an event of its own. Result carries the event list, the cycles and the energy bookkeeping: what the
 // cell delivered, what went into the load, and what leakage, the probe, the supervisor,
 // the hold diode and the slow branch took; it balances against the change of ½CV².
 //
 // # Light
 //
-// Constant, Piecewise (linear between points) and WindowDay (the sun through a window,
-// from date, time, latitude and the window's azimuth and tilt, with a diffuse share and
-// seeded passing clouds).
+// Constant, Piecewise (linear between points) and WindowDay (the sun through a window:
+// the sun's position by the NOAA equations with Spencer's 1971 series, the sky's clearness
+// from the diffuse share by the correlation of Erbs, Klein and Duffie (1982), the angle of
+// incidence on the window's plane, and seeded passing clouds).
+//
+// # Profiles
+//
+// FromProfile turns a bench profile (package profile) into a Circuit and its Light, filling
+// what the profile leaves out with stated assumptions (the Assumed... constants).
 //
 // # Scenarios
 //

@@ -46,9 +46,11 @@ func (o *Options) validate() error {
 	return nil
 }
 
-// Sample is the state at one sample instant.
+// Sample is the state at one sample instant. The cell is wired straight across the node, so
+// its terminal voltage is State.V.
 type Sample struct {
-	TS float64 // seconds from the start
+	TS       float64 // seconds from the start
+	LightWm2 float64 // irradiance on the cell, W/m²
 	State
 }
 
@@ -208,14 +210,14 @@ func (s *sampling) emitUpTo(e *engine, fn func(Sample), atStart bool) {
 			if ts > e.t {
 				return
 			}
-			fn(Sample{TS: ts, State: e.state()})
+			fn(Sample{TS: ts, LightWm2: e.lc.at(ts), State: e.state()})
 		} else {
 			e.dense(ts, &y)
 			st := e.stateOf(&y, e.m)
 			// The dense output belongs to the mode the step was taken in; an event can change
 			// the switch only at validEnd.
 			st.On = e.stepOn
-			fn(Sample{TS: ts, State: st})
+			fn(Sample{TS: ts, LightWm2: e.lc.at(ts), State: st})
 		}
 		s.k++
 	}
