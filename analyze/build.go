@@ -268,7 +268,8 @@ func (b *builder) energy() {
 // errors say).
 func (b *builder) load() {
 	var taus, sds, rms, early, late []float64
-	nSys, n := 0, 0
+	var runs, runsVar float64
+	nBig, n := 0, 0
 	for _, c := range b.full() {
 		_, inf := b.swing(c.Swing)
 		if !inf.exp.ok {
@@ -278,15 +279,24 @@ func (b *builder) load() {
 		taus = append(taus, inf.exp.tau)
 		sds = append(sds, inf.exp.tauSD)
 		rms = append(rms, inf.exp.rms)
-		// Not a resistor: the residuals are systematic (runs and chi-square against the
-		// noise) and large enough to matter (over 0.1 % of the fall; a noise-free trace
-		// shows systematic residuals of the integrator alone).
-		if inf.exp.systematic && inf.exp.rms > 1e-3*inf.fallV {
-			nSys++
+		runs += inf.exp.runs - inf.exp.runsMean
+		runsVar += inf.exp.runsVar
+		if inf.exp.rms > 3e-4*inf.fallV {
+			nBig++
 		}
-		if !math.IsNaN(inf.earlyTau) && !math.IsNaN(inf.lateTau) {
-			early = append(early, inf.earlyTau)
-			late = append(late, inf.lateTau)
+		// The effective resistance R = V / I with C dV/dt = I_cell - I: the cell's current
+		// (and the slow drains) taken as they were just before the fire, from the
+		// charging slope there. Needs no model of the load.
+		if c.Swing > 0 && b.capF > 0 {
+			pre := b.sum.Swings[c.Swing-1].EndSlopeVPerS
+			if b.sum.Swings[c.Swing-1].Up && !math.IsNaN(pre) {
+				i1 := b.capF * (pre - inf.earlySlope)
+				i2 := b.capF * (pre - inf.lateSlope)
+				if i1 > 0 && i2 > 0 && !math.IsNaN(i1+i2) {
+					early = append(early, inf.earlyV/i1)
+					late = append(late, inf.lateV/i2)
+				}
+			}
 		}
 	}
 	lf := &b.res.Fit.Load
@@ -299,7 +309,15 @@ func (b *builder) load() {
 	m, se := combine(taus, sds)
 	lf.TauS = est(m, se, "fitted")
 	lf.RMSResidV = ptr(median(rms))
-	resistive := 2*nSys <= n
+	// Not a resistor when the residuals of the exponential are systematic: far fewer
+	// sign runs than chance gives, pooled over all fitted pulses (z below -4), and
+	// large enough to matter in most pulses (over 0.03 % of the fall; a noise-free
+	// trace shows systematic residuals of the integrator alone, some 1e-6 of the fall).
+	z := 0.0
+	if runsVar > 0 {
+		z = runs / math.Sqrt(runsVar)
+	}
+	resistive := !(z < -4 && 2*nBig > n)
 	lf.Resistive = &resistive
 	if b.capF > 0 {
 		// R_pulse = tau/C is the load in parallel with the slow drains; take those out.
@@ -315,8 +333,8 @@ func (b *builder) load() {
 		}
 		lf.Ohm = est(r, rsd, "fitted")
 		if len(early) > 0 {
-			lf.StartOhm = spread(scale(early, 1/b.capF), "fitted")
-			lf.EndOhm = spread(scale(late, 1/b.capF), "fitted")
+			lf.StartOhm = spread(early, "measured")
+			lf.EndOhm = spread(late, "measured")
 		}
 	}
 }
@@ -442,14 +460,13 @@ func (b *builder) cell() {
 		t    float64
 	}
 	var rises []riseIV
-	widest, wspan := -1, 0.0
+	widest := -1
 	for idx := range b.sum.Swings {
 		s, inf := b.swing(idx)
 		if !s.Up || len(inf.iv) < 3 {
 			continue
 		}
 		r := riseIV{idx: idx, t: (s.StartS + s.EndS) / 2}
-		lo, hi := math.Inf(1), math.Inf(-1)
 		for _, p := range inf.iv {
 			ic := p.dvdt + drains(p.v)
 			if b.capF > 0 {
@@ -457,11 +474,10 @@ func (b *builder) cell() {
 			}
 			r.v = append(r.v, p.v)
 			r.i = append(r.i, ic)
-			lo, hi = math.Min(lo, p.v), math.Max(hi, p.v)
 		}
 		rises = append(rises, r)
-		if hi-lo > wspan {
-			widest, wspan = len(rises)-1, hi-lo
+		if idx == b.a.col.widest && len(b.a.col.widestIV) > 0 {
+			widest = len(rises) - 1
 		}
 	}
 	if len(rises) == 0 {
@@ -471,6 +487,13 @@ func (b *builder) cell() {
 	var d diodeResult
 	if b.capF > 0 && widest >= 0 {
 		w := rises[widest]
+		if col := b.a.col; len(col.widestIV) > 0 && col.widest == w.idx {
+			w.v, w.i = nil, nil
+			for _, p := range col.widestIV {
+				w.v = append(w.v, p.v)
+				w.i = append(w.i, (p.dvdt+drains(p.v))*b.capF)
+			}
+		}
 		for k := range w.v {
 			cf.IV = append(cf.IV, [2]float64{w.v[k], w.i[k]})
 		}
@@ -485,11 +508,16 @@ func (b *builder) cell() {
 			// real cell: its SE is taken as the photocurrent's.
 			cf.IscA = est(d.isc, d.sd.Iph, "fitted")
 			cf.VocV = est(d.voc, math.NaN(), "fitted")
-			cf.I0A = est(d.p.I0, d.sd.I0, "fitted")
-			cf.N = est(d.p.N, d.sd.N, "fitted")
-			cf.RsOhm = est(d.p.Rs, d.sd.Rs, "fitted")
-			cf.RshOhm = est(d.p.Rsh, d.sd.Rsh, "fitted")
 			cf.MppV, cf.MppW = ptr(d.vmp), ptr(d.pmp)
+			if d.partial {
+				cf.IscA.SD, cf.IscA.Lo95, cf.IscA.Hi95 = nil, nil, nil
+				b.note("the cell looks near-ideal (series resistance near 0, shunt near infinite): its curve is traced, but Rs, Rsh, I0 and n are not determined")
+			} else {
+				cf.I0A = est(d.p.I0, d.sd.I0, "fitted")
+				cf.N = est(d.p.N, d.sd.N, "fitted")
+				cf.RsOhm = est(d.p.Rs, d.sd.Rs, "fitted")
+				cf.RshOhm = est(d.p.Rsh, d.sd.Rsh, "fitted")
+			}
 		} else {
 			b.note("the traced I-V points do not determine the single-diode model (too narrow a span of voltage)")
 		}

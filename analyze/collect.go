@@ -19,6 +19,10 @@ type collector struct {
 	ts    []float64
 	vs    []float64
 	falls int
+
+	widest     int
+	widestSpan float64
+	widestIV   []ivPt
 }
 
 // fitThisFall says whether the fall gets its own exponential fit: every long one (a
@@ -40,8 +44,9 @@ func (c *collector) fitThisFall(points int) bool {
 type swingInfo struct {
 	exp   expResult // falls (from the onset), and rises that level off or end the capture
 	fallV float64   // falls: the height
-	// effective time constants early and late in a fall: (V - vinf) / (-dV/dt)
-	earlyTau, lateTau float64
+	// the voltage and its slope early and late in a fall (a line through the first and
+	// through the last third), for the effective load resistance
+	earlyV, earlySlope, lateV, lateSlope float64
 	iv                []ivPt // rises: traced points
 	trace             []tvPt // compact copy for the overlay plot
 }
@@ -86,13 +91,23 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 		}
 		inf.exp = fitExp(c.ts, c.vs, noise)
 		inf.fallV = s.AmplitudeV()
-		if inf.exp.ok {
-			inf.earlyTau, inf.lateTau = localTaus(c.ts, c.vs, inf.exp.vinf)
-		}
+		inf.earlyV, inf.earlySlope, inf.lateV, inf.lateSlope = localSlopes(c.ts, c.vs)
 		c.keepDecay(i, s, pts)
 		return
 	}
-	inf.iv = traceIV(pts, s)
+	iv := traceIV(pts, s)
+	if len(iv) > 0 {
+		span := iv[len(iv)-1].v - iv[0].v
+		if span > c.widestSpan {
+			// The rise over the widest range of voltage keeps all its points, for the
+			// single-diode fit; every rise keeps a few, for its light level.
+			c.widestSpan, c.widest = span, i
+			c.widestIV = append(c.widestIV[:0], iv...)
+		}
+	}
+	for k := 0; k < len(iv); k += 4 {
+		inf.iv = append(inf.iv, iv[k])
+	}
 	if s.Open || s.FlatS > 0.2*s.DurationS() {
 		c.ts, c.vs = c.ts[:0], c.vs[:0]
 		for _, p := range pts {
@@ -198,23 +213,23 @@ func traceIV(pts []detect.Point, s *detect.Swing) []ivPt {
 	return out
 }
 
-// localTaus returns (V - vinf)/(-dV/dt) from a line through the first and through the
-// last third of a fall.
-func localTaus(t, v []float64, vinf float64) (early, late float64) {
+// localSlopes returns the value and slope of a line through the first third and of one
+// through the last third of a fall (NaN for fewer than 6 points).
+func localSlopes(t, v []float64) (v1, s1, v2, s2 float64) {
 	n := len(t)
-	early, late = math.NaN(), math.NaN()
+	v1, s1, v2, s2 = math.NaN(), math.NaN(), math.NaN(), math.NaN()
 	if n < 6 {
 		return
 	}
 	k := n / 3
-	tau := func(ts, vs []float64) float64 {
-		val, slope, ok := detect.LocalPoly(ts, vs, ts[len(ts)/2], 1)
-		if !ok || slope >= 0 {
-			return math.NaN()
-		}
-		return (val - vinf) / -slope
+	var ok bool
+	if v1, s1, ok = detect.LocalPoly(t[:k+1], v[:k+1], t[k/2], 1); !ok {
+		v1, s1 = math.NaN(), math.NaN()
 	}
-	return tau(t[:k+1], v[:k+1]), tau(t[n-k-1:], v[n-k-1:])
+	if v2, s2, ok = detect.LocalPoly(t[n-k-1:], v[n-k-1:], t[n-1-k/2], 1); !ok {
+		v2, s2 = math.NaN(), math.NaN()
+	}
+	return
 }
 
 // calWindow collects the samples of the calibration stretch, thinned to at most 8192.

@@ -1,6 +1,7 @@
 package analyze
 
 import (
+	"errors"
 	"math"
 
 	"capcycle/analyze/fit"
@@ -20,6 +21,9 @@ type expResult struct {
 	n            int
 	systematic   bool
 	ratio        float64 // residual RMS over the noise
+	// the Wald-Wolfowitz runs test of the residual signs: runs seen, expected and their
+	// variance, for pooling over many pulses
+	runs, runsMean, runsVar float64
 	// drift = -vinf/tau, the constant part of the drain over C (V/s), with its SD from
 	// the covariance (in the fit's parameters (V0, A, k), drift = -(V0 k + A)).
 	drift, driftSD float64
@@ -54,6 +58,10 @@ func fitExp(t, v []float64, noiseV float64) expResult {
 	if f.Result != nil && len(f.Result.Residuals) == len(t) {
 		p := fit.ResidualPattern(f.Result.Residuals, 3, noiseV)
 		e.systematic, e.ratio = p.Systematic, p.Ratio
+		if mu := p.ExpectedRuns; p.N > 2 && mu > 2 {
+			// Var = (mu - 1)(mu - 2)/(N - 1) (Wald and Wolfowitz 1940)
+			e.runs, e.runsMean, e.runsVar = float64(p.Runs), mu, (mu-1)*(mu-2)/float64(p.N-1)
+		}
 	}
 	return e
 }
@@ -84,6 +92,7 @@ type diodeResult struct {
 	vt                 float64
 	voc, isc, vmp, pmp float64
 	rmse               float64
+	partial            bool // the solver did not converge: Rs, Rsh (and I0, N) not determined
 }
 
 // fitDiode fits the single-diode model to the traced points (volts, amperes).
@@ -92,11 +101,25 @@ func fitDiode(v, i []float64, ns int, tK float64) diodeResult {
 		return diodeResult{}
 	}
 	f, err := fit.SingleDiode(v, i, ns, tK, nil)
-	if err != nil || f == nil {
+	if f == nil {
 		return diodeResult{}
 	}
-	return diodeResult{ok: true, p: f.Params, sd: f.SD, vt: f.Vt, voc: f.Voc, isc: f.Isc,
+	d := diodeResult{ok: true, p: f.Params, sd: f.SD, vt: f.Vt, voc: f.Voc, isc: f.Isc,
 		vmp: f.Vmp, pmp: f.Pmp, rmse: f.RMSE}
+	if err != nil {
+		// A near-ideal cell drives Rs to 0 and Rsh to infinity, where the solver stops
+		// without converging: the curve (Isc, Voc, the maximum power point) is still
+		// determined when it fits the points to 1 % of the current; Rs and Rsh are not.
+		top := 0.0
+		for _, x := range i {
+			top = math.Max(top, math.Abs(x))
+		}
+		if !errors.Is(err, fit.ErrNotConverged) || !(f.RMSE < 0.01*top) {
+			return diodeResult{}
+		}
+		d.partial = true
+	}
+	return d
 }
 
 // photocurrent returns the photocurrent that puts the point (v, i) on the fitted cell's

@@ -265,7 +265,7 @@ func Carve(base, events []Segment) []Segment {
 
 // InferTrigger says what kind of trigger the full cycles show:
 //   - "plateau" when the charging had all but stopped at most fires (the slope over the
-//     last fifth of the charge is under a quarter of the slope over its first fifth);
+//     end of the charge is under a quarter of the slope over its first fifth);
 //   - "voltage" when the fire voltage is steady (SD within 3 noise SDs plus one ADC step)
 //     while the intervals vary (SD above 2 sample spacings);
 //   - "timer" when the intervals are steady while the fire voltage varies;

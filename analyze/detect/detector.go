@@ -49,8 +49,9 @@ type Swing struct {
 	// FlatS is the time within the minimum swing of the level the swing leaves (falls,
 	// at the start) or reaches (rises, at the end): a plateau when long.
 	FlatS float64
-	// StartSlopeVPerS and EndSlopeVPerS are, for rises, the slopes over the first and
-	// the last fifth of the swing.
+	// StartSlopeVPerS is, for rises, the mean slope over the first fifth of the swing,
+	// and EndSlopeVPerS the slope at its end (a local quadratic over the last 15 %, at
+	// most 64 points).
 	StartSlopeVPerS float64
 	EndSlopeVPerS   float64
 	// Fire is set by Finish for falls taken to be fires.

@@ -179,7 +179,7 @@ func (d *Detector) makeSwing(up, open, gap bool) Swing {
 		if len(pts) > 0 {
 			sw.FlatS = sw.EndS - pts[k].T
 		}
-		sw.EndSlopeVPerS = slopeOver(pts, sw.StartS+0.8*(sw.EndS-sw.StartS), sw.EndS)
+		sw.EndSlopeVPerS = slopeAtEnd(pts, sw.EndS-0.15*(sw.EndS-sw.StartS))
 		sw.StartSlopeVPerS = slopeOver(pts, sw.StartS, sw.StartS+0.2*(sw.EndS-sw.StartS))
 		return sw
 	}
@@ -229,6 +229,29 @@ func (d *Detector) makeSwing(up, open, gap bool) Swing {
 		sw.FlatS = pts[j].T - sw.StartS
 	}
 	return sw
+}
+
+// slopeAtEnd is the slope at the last point of a local quadratic through the points
+// after from (a straight line for fewer than 5; NaN for fewer than 3).
+func slopeAtEnd(pts []Point, from float64) float64 {
+	var t, v [64]float64
+	n := 0
+	for k := len(pts) - 1; k >= 0 && n < len(t) && (pts[k].T >= from || n < 3); k-- {
+		t[n], v[n] = pts[k].T, pts[k].V
+		n++
+	}
+	if n < 3 {
+		return math.NaN()
+	}
+	order := 2
+	if n < 5 {
+		order = 1
+	}
+	_, slope, ok := LocalPoly(t[:n], v[:n], t[0], order)
+	if !ok {
+		return math.NaN()
+	}
+	return slope
 }
 
 // slopeOver is the least-squares slope of the points in [from, to] (NaN for fewer than 3).
