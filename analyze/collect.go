@@ -47,8 +47,8 @@ type swingInfo struct {
 	// the voltage and its slope early and late in a fall (a line through the first and
 	// through the last third), for the effective load resistance
 	earlyV, earlySlope, lateV, lateSlope float64
-	iv                []ivPt // rises: traced points
-	trace             []tvPt // compact copy for the overlay plot
+	iv                                   []ivPt // rises: traced points
+	trace                                []tvPt // compact copy for the overlay plot
 }
 
 type ivPt struct{ t, v, dvdt float64 }
