@@ -41,7 +41,7 @@ type spiceRun struct {
 // step.
 func spiceNetlist(c *Circuit, light Light, durS, startV, tmaxS float64, out string) (string, error) {
 	if c.Trigger.Kind != TriggerVoltage || c.Load.Kind != LoadResistor || c.Switch.DropV != 0 ||
-		c.Storage.Branch2F != 0 || c.Supervisor.QuiescentA != 0 {
+		c.Storage.Branch2F != 0 {
 		return "", fmt.Errorf("circuit has parts the netlist does not carry")
 	}
 	cell := c.Cell
@@ -79,6 +79,16 @@ func spiceNetlist(c *Circuit, light Light, durS, startV, tmaxS float64, out stri
 	}
 	if c.ProbeOhm > 0 {
 		fmt.Fprintf(&b, "Rprobe v 0 %.12g\n", c.ProbeOhm)
+	}
+	if iq := c.Supervisor.QuiescentA; iq > 0 {
+		// The supervisor's draw with its smoothstep fade below MinSupplyV, as a behavioural
+		// current source.
+		if vm := c.Supervisor.MinSupplyV; vm > 0 {
+			fmt.Fprintf(&b, "Bq v 0 I = %.12g * (V(v) >= %.12g ? 1 : (V(v) <= 0 ? 0 : (V(v)/%.12g)*(V(v)/%.12g)*(3-2*V(v)/%.12g)))\n",
+				iq, vm, vm, vm, vm)
+		} else {
+			fmt.Fprintf(&b, "Iq v 0 DC %.12g\n", iq)
+		}
 	}
 	vt := (c.Trigger.OnV + c.Trigger.OffV) / 2
 	vh := (c.Trigger.OnV - c.Trigger.OffV) / 2
@@ -196,16 +206,18 @@ func at(vs []float64, dt, t float64) float64 {
 }
 
 // spiceCircuit is a solar engine that ngspice can carry: a 8-cell panel, an electrolytic
-// with leakage, the probe, a voltage trigger with fixed release, a MOSFET-like switch and a
-// resistive load.
+// with leakage, the probe, a supervisor whose draw fades below 2 V (so that the fade acts
+// during every recharge from 1.4 V), a voltage trigger with fixed release, a MOSFET-like
+// switch and a resistive load.
 func spiceCircuit() *Circuit {
 	return &Circuit{
-		Cell:     Cell{IphA: 12e-3, I0A: 2e-9, N: 1.5, RsOhm: 8, RshOhm: 5e3, Cells: 8},
-		Storage:  Storage{CapF: 1000e-6, LeakOhm: 1.5e6},
-		ProbeOhm: 1e6,
-		Trigger:  Trigger{Kind: TriggerVoltage, OnV: 2.6, OffV: 1.4},
-		Switch:   Switch{OnOhm: 1},
-		Load:     Load{Ohm: 20},
+		Cell:       Cell{IphA: 12e-3, I0A: 2e-9, N: 1.5, RsOhm: 8, RshOhm: 5e3, Cells: 8},
+		Storage:    Storage{CapF: 1000e-6, LeakOhm: 1.5e6},
+		ProbeOhm:   1e6,
+		Supervisor: Supervisor{QuiescentA: 20e-6, MinSupplyV: 2},
+		Trigger:    Trigger{Kind: TriggerVoltage, OnV: 2.6, OffV: 1.4},
+		Switch:     Switch{OnOhm: 1},
+		Load:       Load{Ohm: 20},
 	}
 }
 
