@@ -30,9 +30,9 @@ var syntheticCaptures = []struct {
 }{
 	{"wren-rc-10min.csv", "Wren as an RC circuit: 4.7 mF, 1 MOhm leak, 20 Ohm load, trigger 2.8 V / 1.6 V, 0.6 mA of light, 20 Hz, 2 mV noise, 12-bit ADC on 5 V",
 		wrenRC, []detecttest.Light{{FromS: 0, IA: 0.6e-3}}, 600, detecttest.Sampling{DtS: 0.05}, detecttest.ADC{NoiseV: 2e-3, Bits: 12, FullV: 5, Seed: 11}, -1},
-	{"fern-rc-stall-3h.csv", "Fern as an RC circuit: 0.1 F, 200 kOhm leak, trigger 4.5 V (never reached), 20 uA of light, 1 Hz, 1 mV noise",
+	{"fern-rc-stall-3h.csv", "Fern as an RC circuit: 0.1 F, 200 kOhm leak, trigger 4.5 V (never reached), 20 uA of light, one sample every 2 s, 1 mV noise",
 		detecttest.Circuit{C: 0.1, RLeakOhm: 2e5, RLoadOhm: 50, OnV: 4.5, OffV: 3, V0: 0.2}, []detecttest.Light{{FromS: 0, IA: 20e-6}}, 3 * 3600,
-		detecttest.Sampling{DtS: 1}, detecttest.ADC{NoiseV: 1e-3, Seed: 12}, 0},
+		detecttest.Sampling{DtS: 2}, detecttest.ADC{NoiseV: 1e-3, Seed: 13}, 0},
 }
 
 func TestSyntheticCaptures(t *testing.T) {
