@@ -302,3 +302,32 @@ func TestSilenceReopens(t *testing.T) {
 		t.Errorf("gaps %+v", g)
 	}
 }
+
+// TestDriftRecorded: a board whose clock runs 1 % fast (101 ms of device time per 100 ms
+// of host time) gets a clock line of about +10000 ppm in the trailer.
+func TestDriftRecorded(t *testing.T) {
+	pb := newPtyBoard(t)
+	cfg := ptyConfig(pb)
+	r := startRecording(t, cfg)
+	r.waitFor("0 samples")
+	tick := time.NewTicker(100 * time.Millisecond)
+	defer tick.Stop()
+	for i := 0; i < 25; i++ {
+		<-tick.C
+		pb.write(pb.slow(nil, 1, func(int) uint16 { return 100 }))
+		pb.mu.Lock()
+		pb.tUS += 1000 // 101 ms per frame instead of 100
+		pb.mu.Unlock()
+	}
+	r.waitFor("25 samples")
+	sum := r.stop()
+	// Arrival jitter of a few ms over 2.4 s limits the fit to a few thousand ppm.
+	if c := sum.Clock; c.Points < 20 || math.Abs(c.DriftPPM-10000) > 3000 {
+		t.Errorf("clock %+v, want about +10000 ppm", c)
+	}
+	t.Logf("clock %+v", sum.Clock)
+	b, _ := os.ReadFile(cfg.Out)
+	if !strings.Contains(string(b), "# clock: drift_ppm=") {
+		t.Errorf("no clock line:\n%s", b)
+	}
+}

@@ -107,13 +107,13 @@ func (s *stream) line(tok []byte) error {
 	}
 	switch f := f.(type) {
 	case wire.Sample:
-		return s.sample(f.Seq, s.clock.Micros(f.TimeUS), f.Counts[:], f.NCh)
+		return s.sample(f.Seq, s.clock.Micros(f.TimeUS), f.Counts[:], f.NCh, false)
 	case wire.Average:
 		us := s.clock.Micros(f.TimeUS)
 		if s.id.FastHz > 0 && f.N > 1 {
 			us += int64(math.Round(float64(f.N-1) * 1e6 / (2 * float64(s.id.FastHz))))
 		}
-		return s.sample(f.Seq, us, f.Mean[:], f.NCh)
+		return s.sample(f.Seq, us, f.Mean[:], f.NCh, true)
 	case wire.BurstBegin, wire.BurstEnd:
 		s.clock.Micros(timeOf(f)) // keep the unwrapping step short
 	case wire.Identity:
@@ -225,7 +225,9 @@ func (s *stream) divider(k int) float64 {
 	return 1
 }
 
-func (s *stream) sample(seq uint32, us int64, counts []uint16, nch int) error {
+// sample turns one sample frame into a row. slow is true for A frames: only they feed
+// the drift fit, since a burst's pre-trigger S frames arrive late by design.
+func (s *stream) sample(seq uint32, us int64, counts []uint16, nch int, slow bool) error {
 	if !s.haveID || s.hold {
 		return nil // no conversion yet, or the handshake is still going on
 	}
@@ -256,7 +258,9 @@ func (s *stream) sample(seq uint32, us int64, counts []uint16, nch int) error {
 		}
 	}
 	t := s.anchorS + float64(us-s.anchorUS)/1e6
-	s.drift.Add(float64(us)/1e6, s.hostS)
+	if slow {
+		s.drift.Add(float64(us)/1e6, s.hostS)
+	}
 	for k := 0; k < s.ncol; k++ {
 		s.vals[k] = float64(counts[k])*s.factor[k] + s.offV[k]
 	}
