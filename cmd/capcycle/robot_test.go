@@ -58,7 +58,7 @@ func TestModelSourceFollowsModel(t *testing.T) {
 	}
 	// The same run through the plain simulator, sampled at the same rate.
 	var want []model.Sample
-	if _, err := model.Simulate(rig.Circuit, shiftedLight{rig.Light, rig.StartS},
+	if _, err := model.Simulate(rig.Circuit, shiftLight(rig.Light, rig.StartS),
 		&model.Options{DurationS: dur, RateHz: rate, StartV: rig.StartV, OnSample: func(s model.Sample) { want = append(want, s) }}); err != nil {
 		t.Fatal(err)
 	}

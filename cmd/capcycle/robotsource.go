@@ -200,10 +200,7 @@ var _ virtualboard.Source = (*modelSource)(nil)
 // newModelSource starts the model of rig for durationS seconds (0: endless) sampled at
 // rateHz.
 func newModelSource(rig *robotRig, durationS, rateHz float64) (*modelSource, error) {
-	light := rig.Light
-	if rig.StartS > 0 {
-		light = shiftedLight{rig.Light, rig.StartS}
-	}
+	light := shiftLight(rig.Light, rig.StartS)
 	sp, err := model.NewSampler(rig.Circuit, light, &model.Options{DurationS: durationS, RateHz: rateHz, StartV: rig.StartV})
 	if err != nil {
 		return nil, err
@@ -299,7 +296,23 @@ func robotStatus(src *modelSource, b *virtualboard.Board) string {
 	return sb.String()
 }
 
-// shiftedLight is a light seen from StartS seconds into its day.
+// shiftLight returns the light seen from startS seconds into its day. A windowsill day
+// is moved by its start time, so the simulator keeps its own fast path for it (its
+// passing clouds, drawn per day from the seed, then fall differently, as on another
+// day); any other light is wrapped.
+func shiftLight(l model.Light, startS float64) model.Light {
+	if startS == 0 {
+		return l
+	}
+	if w, ok := l.(*model.WindowDay); ok {
+		c := *w
+		c.Start = w.Start.Add(time.Duration(startS * float64(time.Second)))
+		return &c
+	}
+	return shiftedLight{l, startS}
+}
+
+// shiftedLight is a light seen from startS seconds into its day.
 type shiftedLight struct {
 	l      model.Light
 	startS float64
