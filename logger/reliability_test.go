@@ -303,8 +303,8 @@ func TestSilenceReopens(t *testing.T) {
 	}
 }
 
-// TestDriftRecorded: a board whose clock runs 1 % fast (101 ms of device time per 100 ms
-// of host time) gets a clock line of about +10000 ppm in the trailer.
+// TestDriftRecorded: a board whose clock runs 5 % fast (105 ms of device time per 100 ms
+// of host time) gets a clock line of about +50000 ppm in the trailer.
 func TestDriftRecorded(t *testing.T) {
 	pb := newPtyBoard(t)
 	cfg := ptyConfig(pb)
@@ -316,14 +316,15 @@ func TestDriftRecorded(t *testing.T) {
 		<-tick.C
 		pb.write(pb.slow(nil, 1, func(int) uint16 { return 100 }))
 		pb.mu.Lock()
-		pb.tUS += 1000 // 101 ms per frame instead of 100
+		pb.tUS += 5000 // 105 ms per frame instead of 100
 		pb.mu.Unlock()
 	}
 	r.waitFor("25 samples")
 	sum := r.stop()
-	// Arrival jitter of a few ms over 2.4 s limits the fit to a few thousand ppm.
-	if c := sum.Clock; c.Points < 20 || math.Abs(c.DriftPPM-10000) > 3000 {
-		t.Errorf("clock %+v, want about +10000 ppm", c)
+	// Arrival jitter of up to some 15 ms on a busy machine, over 2.5 s, limits the fit
+	// to about +-6000 ppm; the bound leaves room for that and still tells the sign.
+	if c := sum.Clock; c.Points < 20 || math.Abs(c.DriftPPM-50000) > 15000 {
+		t.Errorf("clock %+v, want about +50000 ppm", c)
 	}
 	t.Logf("clock %+v", sum.Clock)
 	b, _ := os.ReadFile(cfg.Out)
