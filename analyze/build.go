@@ -185,7 +185,7 @@ func (b *builder) leakTau() {
 	var taus, sds, drifts, dsds []float64
 	for i := range b.sum.Swings {
 		s, inf := b.swing(i)
-		if s.Up || s.Fire || !inf.exp.ok || inf.exp.n < 8 {
+		if s.Up || s.Fire || !inf.exp.ok || inf.exp.n < 8 || b.inCalibration(s) {
 			continue
 		}
 		taus = append(taus, inf.exp.tau)
@@ -207,7 +207,7 @@ func (b *builder) leakTau() {
 	// No dark decay: the approach to a plateau.
 	for i := range b.sum.Swings {
 		s, inf := b.swing(i)
-		if !s.Up || !inf.exp.ok || inf.exp.n < 8 || inf.exp.vinf <= s.StartV {
+		if !s.Up || !inf.exp.ok || inf.exp.n < 8 || inf.exp.vinf <= s.StartV || b.inCalibration(s) {
 			continue
 		}
 		taus = append(taus, inf.exp.tau)
@@ -219,6 +219,13 @@ func (b *builder) leakTau() {
 		lf.Method = "plateau"
 		b.tauLeak = m
 	}
+}
+
+// inCalibration reports whether a swing overlaps the calibration stretch, whose decay
+// runs through the known resistor and is no leak.
+func (b *builder) inCalibration(s *detect.Swing) bool {
+	o := b.opts
+	return b.a.cal.on && s.EndS > o.CalStartS && s.StartS < o.CalEndS
 }
 
 // capacitance: measured from the calibration stretch when there is one, else declared.
