@@ -39,6 +39,7 @@ func prepareEmulated(ctx context.Context, status io.Writer) (*emulatedBoards, er
 		return nil, workErrorf("demo: %w", err)
 	}
 	fmt.Fprintln(status, "capcycle demo: building the firmware (avr-gcc) and the simavr harness")
+	fmt.Fprintln(status, "capcycle demo: the emulated board runs the firmware instruction by instruction, about 100 times faster than real time on a 2-core machine: a 24-hour day takes about a quarter of an hour (try --hours 1 --start 10:00)")
 	bctx, cancel := context.WithTimeout(ctx, 3*time.Minute)
 	defer cancel()
 	bins, err := emulator.Build(bctx, src, dir)
@@ -71,6 +72,10 @@ func recordEmulated(ctx context.Context, emu *emulatedBoards, rig *robotRig, p *
 	if err := recordFromProfile(lcfg, p, false); err != nil {
 		return nil, err
 	}
+	// One channel: the storage node. (The recorder sends ">chan" before ">rate"; the
+	// firmware refuses two channels at its boot fast rate of 500 Hz, above its two-channel
+	// limit, so a second channel would stop the handshake.)
+	lcfg.Channels, lcfg.Dividers, lcfg.Columns = 1, lcfg.Dividers[:1], nil
 	run := func(ctx context.Context) error {
 		select {
 		case <-board.Done():

@@ -19,6 +19,7 @@ import (
 	"golang.org/x/net/html"
 
 	"capcycle/analyze"
+	"capcycle/firmware-protocol/emulator"
 	"capcycle/logger/capture"
 )
 
@@ -267,4 +268,43 @@ func demoTail(s string, n int) string {
 		return "…" + s[len(s)-n:]
 	}
 	return s
+}
+
+// TestDemoEmulated runs the demo on the emulated board (the real firmware in simavr,
+// its ADC driven by the model) for three minutes of late-morning model time.
+func TestDemoEmulated(t *testing.T) {
+	if testing.Short() {
+		t.Skip("the emulated board is skipped in -short mode")
+	}
+	if err := emulator.Available(); err != nil {
+		t.Skipf("emulated board not available: %v", err)
+	}
+	dir := t.TempDir()
+	var stdout, stderr bytes.Buffer
+	ctx, cancel := context.WithTimeout(context.Background(), 4*time.Minute)
+	defer cancel()
+	args := []string{"demo", "--board", "emulated", "--out", dir, "--hours", "0.05", "--start", "10:00"}
+	if code := run(ctx, args, &env{stdin: strings.NewReader(""), stdout: &stdout, stderr: &stderr}); code != 0 {
+		t.Fatalf("demo: exit %d\nstdout:\n%s\nstderr:\n%s", code, stdout.String(), stderr.String())
+	}
+	t.Logf("demo printed:\n%s", stdout.String())
+	for name, want := range map[string]string{"wren": "Works", "fern": "Stalls"} {
+		raw, err := os.ReadFile(filepath.Join(dir, name+".analysis.json"))
+		if err != nil {
+			t.Fatal(err)
+		}
+		var r analyze.Result
+		if err := json.Unmarshal(raw, &r); err != nil {
+			t.Fatal(err)
+		}
+		if !strings.Contains(r.Source.Path, name+".capture.csv") || r.Samples < 300 {
+			t.Errorf("%s: %d samples from %s; want at least 300 (three minutes at 2 rows a second)", name, r.Samples, r.Source.Path)
+		}
+		if !strings.Contains(stdout.String(), r.Source.Profile+": "+want) {
+			t.Errorf("%s: the printed verdict does not start with %q", name, want)
+		}
+		if name == "wren" && len(r.Cycles) < 20 {
+			t.Errorf("Wren on the emulated board: %d cycles in three minutes of morning sun; want well over 20", len(r.Cycles))
+		}
+	}
 }
