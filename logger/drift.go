@@ -1,74 +1,113 @@
 package logger
 
 // DriftFit estimates how fast the board's clock runs against the host's from pairs
-// (device time, host arrival time), by least squares, pooled over segments: each segment
-// (a board reset, a reconnect) has its own intercept and all share one slope,
+// (device time x, host arrival time y).
+//
+// Arrival times are late by a latency that varies (USB frames, the operating system's
+// scheduling, a loaded machine) but is never negative, so the fit uses a minimum
+// filter: the device time axis is cut into blocks of BlockS seconds, and only the pair
+// of least lateness y-x in each block is kept. A straight line is fitted through those
+// by least squares, pooled over segments: each segment (a board reset, a reconnect) has
+// its own intercept and all share one slope,
 //
 //	slope = sum over segments of Sxy / sum over segments of Sxx
 //
-// with Sxx and Sxy the centred sums of the segment (computed by Welford-style updates,
-// so that hours of seconds do not lose precision). The drift is 1/slope - 1: positive
-// when the board clock runs fast. Arrival jitter (USB frames, scheduling) averages out
-// over a long fit; it is common practice, no source, to want an hour or more for ppm.
+// with Sxx and Sxy the centred sums of a segment (updated Welford-style, so hours of
+// seconds keep their precision). The drift is 1/slope - 1: positive when the board clock
+// runs fast. Taking the least-delayed packet of each interval is common practice in
+// clock synchronisation (no source); the block length is our choice.
 //
-// The zero value is ready; call NewSegment at each discontinuity of the device clock.
+// The zero value is ready and uses 1 s blocks; call NewSegment at each discontinuity
+// of the device clock.
 type DriftFit struct {
-	n, points int
-	mx, my    float64 // means of the current segment
-	sxx, sxy  float64 // centred sums of the current segment
-	done      struct{ sxx, sxy float64 }
-	x0, lastX float64 // first and last x of the current segment
-	spanX     float64 // fitted span of the earlier segments
+	BlockS float64 // block length in device seconds; 0 means 1 s
+
+	// The block being filled: its start and its least-late pair.
+	inBlock          bool
+	blockX           float64
+	bestX, bestY     float64
+	points           int // pairs added
+	n                int // block minima in the current segment
+	mx, my, sxx, sxy float64
+	doneSxx, doneSxy float64
+	x0, lastX        float64 // first and last kept x of the current segment
+	spanX            float64 // kept span of the earlier segments
+	kept             int     // block minima over all segments
 }
 
-// NewSegment starts a new segment: later points get their own intercept.
+func (d *DriftFit) block() float64 {
+	if d.BlockS > 0 {
+		return d.BlockS
+	}
+	return 1
+}
+
+// Add adds a pair: deviceS the device time and hostS the host arrival time, in seconds.
+func (d *DriftFit) Add(deviceS, hostS float64) {
+	d.points++
+	if d.inBlock && deviceS-d.blockX < d.block() && deviceS >= d.blockX {
+		if hostS-deviceS < d.bestY-d.bestX {
+			d.bestX, d.bestY = deviceS, hostS
+		}
+		return
+	}
+	d.commit()
+	d.inBlock, d.blockX, d.bestX, d.bestY = true, deviceS, deviceS, hostS
+}
+
+// commit adds the current block's least-late pair to the line fit.
+func (d *DriftFit) commit() {
+	if !d.inBlock {
+		return
+	}
+	d.inBlock = false
+	x, y := d.bestX, d.bestY
+	if d.n == 0 {
+		d.x0 = x
+	}
+	d.lastX = x
+	d.n++
+	d.kept++
+	dx, dy := x-d.mx, y-d.my
+	d.mx += dx / float64(d.n)
+	d.my += dy / float64(d.n)
+	d.sxx += dx * (x - d.mx)
+	d.sxy += dx * (y - d.my)
+}
+
+// NewSegment starts a new segment: later pairs get their own intercept.
 func (d *DriftFit) NewSegment() {
-	d.done.sxx += d.sxx
-	d.done.sxy += d.sxy
+	d.commit()
+	d.doneSxx += d.sxx
+	d.doneSxy += d.sxy
 	if d.n > 0 {
-		d.spanX += d.lastSpan()
+		d.spanX += d.lastX - d.x0
 	}
 	d.n, d.mx, d.my, d.sxx, d.sxy = 0, 0, 0, 0, 0
 }
 
-func (d *DriftFit) lastSpan() float64 { return d.lastX - d.x0 }
-
-// Add adds a point: deviceS the device time and hostS the host time, both in seconds.
-func (d *DriftFit) Add(deviceS, hostS float64) {
-	if d.n == 0 {
-		d.x0 = deviceS
-	}
-	d.lastX = deviceS
-	d.n++
-	d.points++
-	dx := deviceS - d.mx
-	dy := hostS - d.my
-	d.mx += dx / float64(d.n)
-	d.my += dy / float64(d.n)
-	d.sxx += dx * (deviceS - d.mx)
-	d.sxy += dx * (hostS - d.my)
-}
-
-// Points is the number of points added.
+// Points is the number of pairs added.
 func (d *DriftFit) Points() int { return d.points }
 
 // SpanS is the device time the fit covers, summed over segments, in seconds.
 func (d *DriftFit) SpanS() float64 {
-	s := d.spanX
-	if d.n > 0 {
-		s += d.lastSpan()
+	c := *d
+	c.commit()
+	s := c.spanX
+	if c.n > 0 {
+		s += c.lastX - c.x0
 	}
 	return s
 }
 
 // PPM is the drift of the board clock in parts per million (positive: fast), and false
-// when there are not yet two distinct device times in any segment.
+// while no segment has two blocks yet.
 func (d *DriftFit) PPM() (float64, bool) {
-	sxx := d.done.sxx + d.sxx
-	sxy := d.done.sxy + d.sxy
+	c := *d
+	c.commit()
+	sxx, sxy := c.doneSxx+c.sxx, c.doneSxy+c.sxy
 	if sxx <= 0 || sxy == 0 {
 		return 0, false
 	}
-	slope := sxy / sxx
-	return (1/slope - 1) * 1e6, true
+	return (1/(sxy/sxx) - 1) * 1e6, true
 }

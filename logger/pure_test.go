@@ -14,17 +14,17 @@ import (
 )
 
 func TestDriftFit(t *testing.T) {
-	// A board clock 250 ppm slow against the host: host = device * (1 + 250e-6)/(1) ...
-	// precisely, device = host * (1 - 250e-6), so the drift is -250 ppm. Two segments
-	// with different intercepts, and +-1 ms of arrival jitter.
+	// A board clock 250 ppm slow against the host: device = host * (1 - 250e-6), so the
+	// drift is -250 ppm. Two segments with different intercepts; arrivals late by 0 to
+	// 1.5 ms, and every seventh by 80 ms (a busy machine).
 	var d DriftFit
-	jit := []float64{0.001, -0.0005, 0, 0.0007, -0.001}
+	jit := []float64{0.001, 0.0005, 0, 0.0007, 0.0015, 0.0002, 0.08}
 	for seg, off := range []float64{10, 5000} {
 		if seg > 0 {
 			d.NewSegment()
 		}
-		for i := 0; i < 3600; i++ {
-			host := off + float64(i)
+		for i := 0; i < 36000; i++ {
+			host := off + float64(i)/10
 			dev := 1e6 + host*(1-250e-6) // the board started its clock at some other time
 			d.Add(dev, host+jit[i%len(jit)])
 		}
@@ -33,7 +33,7 @@ func TestDriftFit(t *testing.T) {
 	if !ok || math.Abs(ppm-(-250)) > 2 {
 		t.Errorf("drift %v ppm (ok %v), want -250 +- 2", ppm, ok)
 	}
-	if d.Points() != 7200 || math.Abs(d.SpanS()-2*3599*(1-250e-6)) > 1e-6 {
+	if d.Points() != 72000 || math.Abs(d.SpanS()-2*3599.9*(1-250e-6)) > 1.01 {
 		t.Errorf("points %d span %v", d.Points(), d.SpanS())
 	}
 	var empty DriftFit

@@ -8,6 +8,7 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
+	"sync"
 	"syscall"
 	"testing"
 	"time"
@@ -303,32 +304,53 @@ func TestSilenceReopens(t *testing.T) {
 	}
 }
 
+// fakeClock is a host clock the test moves.
+type fakeClock struct {
+	mu sync.Mutex
+	t  time.Time
+}
+
+func (c *fakeClock) Now() time.Time {
+	c.mu.Lock()
+	defer c.mu.Unlock()
+	return c.t
+}
+
+func (c *fakeClock) Set(t time.Time) {
+	c.mu.Lock()
+	c.t = t
+	c.mu.Unlock()
+}
+
 // TestDriftRecorded: a board whose clock runs 5 % fast (105 ms of device time per 100 ms
-// of host time) gets a clock line of about +50000 ppm in the trailer.
+// of host time) gets a clock line of +50000 ppm in the trailer. The host clock is the
+// test's, set before each frame is sent, so the arrival times are known.
 func TestDriftRecorded(t *testing.T) {
 	pb := newPtyBoard(t)
 	cfg := ptyConfig(pb)
+	base := time.Date(2026, 12, 1, 12, 0, 0, 0, time.UTC)
+	clk := &fakeClock{t: base}
+	cfg.Now = clk.Now
 	r := startRecording(t, cfg)
 	r.waitFor("0 samples")
-	tick := time.NewTicker(100 * time.Millisecond)
-	defer tick.Stop()
-	for i := 0; i < 25; i++ {
-		<-tick.C
+	for i := 0; i < 60; i++ {
+		clk.Set(base.Add(time.Duration(i+1) * 100 * time.Millisecond))
 		pb.write(pb.slow(nil, 1, func(int) uint16 { return 100 }))
 		pb.mu.Lock()
 		pb.tUS += 5000 // 105 ms per frame instead of 100
 		pb.mu.Unlock()
+		time.Sleep(20 * time.Millisecond) // let the recorder read it at this host time
 	}
-	r.waitFor("25 samples")
+	clk.Set(base.Add(7 * time.Second)) // lets the status line redraw
+	r.waitFor("60 samples")
 	sum := r.stop()
-	// Arrival jitter of up to some 15 ms on a busy machine, over 2.5 s, limits the fit
-	// to about +-6000 ppm; the bound leaves room for that and still tells the sign.
-	if c := sum.Clock; c.Points < 20 || math.Abs(c.DriftPPM-50000) > 15000 {
-		t.Errorf("clock %+v, want about +50000 ppm", c)
+	// A frame read late takes the next frame's host time; the minimum filter drops it.
+	if c := sum.Clock; c.Points != 60 || math.Abs(c.DriftPPM-50000) > 1000 {
+		t.Errorf("clock %+v, want +50000 ppm", c)
 	}
-	t.Logf("clock %+v", sum.Clock)
 	b, _ := os.ReadFile(cfg.Out)
 	if !strings.Contains(string(b), "# clock: drift_ppm=") {
 		t.Errorf("no clock line:\n%s", b)
 	}
+	t.Logf("clock %+v", sum.Clock)
 }
