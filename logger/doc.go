@@ -39,6 +39,11 @@
 // (counts or volts) separated by commas, semicolons, spaces or tabs, converted with
 // TextInput and stamped with the host's arrival time. There is no handshake.
 //
+// Connect opens a board for one-off work (Board: Command, Average); FitCalibration turns
+// multimeter readings into a channel's gain and offset, which "capcycle calibrate" sends
+// with ">cal" and stores with ">save". Every capture then carries the calibration the
+// board reported in its header.
+//
 // A live status line (Snapshot) goes to Config.Status: redrawn in place at most four
 // times a second on a terminal, a plain line every LogEvery elsewhere.
 //
