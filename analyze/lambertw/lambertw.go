@@ -9,6 +9,13 @@ const (
 	invELo = -1.2428753672788363e-17 // 1/e - invEHi
 )
 
+// seriesMax is the |x| below which W0 sums its Taylor series instead of iterating.
+const seriesMax = 2e-3
+
+// halleyDone is the step size after which one more Halley step is not needed: the error
+// left after a step dw is of order dw³.
+const halleyDone = 1e-6
+
 // maxHalley bounds the iteration; convergence from the initial guesses takes 1 to 4 steps.
 const maxHalley = 12
 
@@ -29,6 +36,11 @@ func W0(x float64) float64 {
 			return -1
 		}
 		return math.NaN()
+	}
+	if math.Abs(x) < seriesMax {
+		// Taylor series W = Σ (-n)^(n-1)/n! xⁿ through x⁷; the first omitted term is
+		// 52 x⁸, below 1e-17 of W here.
+		return x * (1 + x*(-1+x*(1.5+x*(-8.0/3+x*(125.0/24+x*(-10.8+x*(16807.0/720)))))))
 	}
 	if x > 3 {
 		// Work in logarithms: w + ln w = ln x avoids exp(w) for huge w.
@@ -105,7 +117,7 @@ func W0Exp(l float64) float64 {
 		fpp := -1 / (w * w)
 		dw := f / (fp - f*fpp/(2*fp))
 		w -= dw
-		if math.Abs(dw) <= 4e-16*math.Abs(w) {
+		if math.Abs(dw) <= halleyDone*math.Abs(w) {
 			break
 		}
 	}
@@ -140,7 +152,7 @@ func halley(x, w float64) float64 {
 		}
 		dw := f / den
 		w -= dw
-		if math.Abs(dw) <= 2e-16*(1+math.Abs(w)) {
+		if math.Abs(dw) <= halleyDone*(1+math.Abs(w)) {
 			break
 		}
 	}
