@@ -272,14 +272,17 @@ func (ss *session) header(board string, chans []capture.Channel) *capture.Header
 func (ss *session) openFile(h *capture.Header) error {
 	if ss.cfg.Append {
 		if _, err := os.Stat(ss.cfg.Out); err == nil {
-			w, ex, err := capture.Append(ss.cfg.Out, ss.begun, nil)
+			ex, err := capture.Inspect(ss.cfg.Out)
 			if err != nil {
 				return err
 			}
-			if len(ex.Columns)-1 != len(h.Channels) {
-				w.Close(nil)
-				return fmt.Errorf("logger: %s has columns %s; this recording has %d channels",
-					ss.cfg.Out, strings.Join(ex.Columns, ","), len(h.Channels))
+			if want := ss.cfg.columns(len(h.Channels)); strings.Join(ex.Columns[1:], ",") != strings.Join(want, ",") {
+				return fmt.Errorf("logger: %s has columns %s; this recording writes %s (nothing was changed)",
+					ss.cfg.Out, strings.Join(ex.Columns, ","), strings.Join(want, ","))
+			}
+			w, ex, err := capture.Append(ss.cfg.Out, ss.begun, nil)
+			if err != nil {
+				return err
 			}
 			ss.w, ss.start = w, ex.Start
 			ss.resumeS, ss.resumed = ex.AtS, true

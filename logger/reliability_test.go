@@ -354,3 +354,48 @@ func TestDriftRecorded(t *testing.T) {
 	}
 	t.Logf("clock %+v", sum.Clock)
 }
+
+// TestTextUnplug: text input survives an unplug too, with a gap line.
+func TestTextUnplug(t *testing.T) {
+	pb := newPtyBoard(t)
+	pb.setQuiet(true)
+	cfg := ptyConfig(pb)
+	cfg.Input = InputText
+	r := startRecording(t, cfg)
+	time.Sleep(100 * time.Millisecond)
+	pb.write([]byte("1.5\n1.6\n"))
+	r.waitFor("2 samples")
+	pb.unplug()
+	time.Sleep(200 * time.Millisecond)
+	pb.plug()
+	r.waitFor("1 reconnects")
+	pb.write([]byte("1.7\n"))
+	r.waitFor("3 samples")
+	r.stop()
+	ts, vs, rd := readCapture(t, cfg.Out)
+	if len(ts) != 3 || vs[2] != 1.7 || len(rd.Gaps()) != 1 || rd.Gaps()[0].Reason != capture.GapUnplugged {
+		t.Errorf("rows %v %v gaps %+v", ts, vs, rd.Gaps())
+	}
+}
+
+// TestAppendOtherChannels: appending a recording of other channels is refused, and
+// the file is left as it was.
+func TestAppendOtherChannels(t *testing.T) {
+	pb := newPtyBoard(t)
+	cfg := ptyConfig(pb)
+	r := startRecording(t, cfg)
+	r.waitFor("0 samples")
+	pb.write(pb.slow(nil, 3, func(int) uint16 { return 1 }))
+	r.waitFor("3 samples")
+	r.stop()
+	before, _ := os.ReadFile(cfg.Out)
+	cfg2 := ptyConfig(pb)
+	cfg2.Out, cfg2.Append, cfg2.Channels = cfg.Out, true, 2
+	if _, err := Record(context.Background(), cfg2); err == nil || !strings.Contains(err.Error(), "columns") {
+		t.Fatalf("append with 2 channels onto 1: %v", err)
+	}
+	after, _ := os.ReadFile(cfg.Out)
+	if string(after) != string(before) {
+		t.Error("the refused append changed the file")
+	}
+}

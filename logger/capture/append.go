@@ -64,28 +64,51 @@ func Append(path string, now time.Time, opt *Options) (*Writer, *Existing, error
 	return w, ex, nil
 }
 
-// repair cuts a torn last line off f and reads what Append needs. It returns the new size.
-func repair(f *os.File) (*Existing, int64, error) {
+// Inspect reads what Append would continue, without changing the file: its start, its
+// columns, its last whole row and the size of a torn last line. AtS is left 0.
+func Inspect(path string) (*Existing, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, fmt.Errorf("capture: inspect %s: %w", path, err)
+	}
+	defer f.Close()
+	ex, _, err := examine(f)
+	if err != nil {
+		return nil, fmt.Errorf("capture: inspect %s: %w", path, err)
+	}
+	return ex, nil
+}
+
+// examine reads what Append needs from f; whole is the size up to the last "\n".
+func examine(f *os.File) (ex *Existing, whole int64, err error) {
 	st, err := f.Stat()
 	if err != nil {
 		return nil, 0, err
 	}
 	size := st.Size()
-	whole, err := lastNewline(f, size)
-	if err != nil {
+	if whole, err = lastNewline(f, size); err != nil {
 		return nil, 0, err
 	}
-	ex := &Existing{TornBytes: size - whole}
-	if whole < size {
-		if err := f.Truncate(whole); err != nil {
-			return nil, 0, fmt.Errorf("cutting the torn last line: %w", err)
-		}
-	}
+	ex = &Existing{TornBytes: size - whole}
 	if err := readHead(io.NewSectionReader(f, 0, whole), ex); err != nil {
 		return nil, 0, err
 	}
 	if err := readLastRow(f, whole, ex); err != nil {
 		return nil, 0, err
+	}
+	return ex, whole, nil
+}
+
+// repair cuts a torn last line off f and reads what Append needs. It returns the new size.
+func repair(f *os.File) (*Existing, int64, error) {
+	ex, whole, err := examine(f)
+	if err != nil {
+		return nil, 0, err
+	}
+	if ex.TornBytes > 0 {
+		if err := f.Truncate(whole); err != nil {
+			return nil, 0, fmt.Errorf("cutting the torn last line: %w", err)
+		}
 	}
 	return ex, whole, nil
 }

@@ -299,6 +299,12 @@ func TestAppendRepairsTornLine(t *testing.T) {
 	f.WriteString("5.000000,1.23")
 	f.Close()
 
+	st0, _ := os.Stat(path)
+	in, err := Inspect(path)
+	must(t, err)
+	if st1, _ := os.Stat(path); in.TornBytes != 13 || in.LastS != 4 || st1.Size() != st0.Size() {
+		t.Fatalf("Inspect: %+v, size %d -> %d", in, st0.Size(), st1.Size())
+	}
 	now := t0.Add(time.Hour)
 	w2, ex, err := Append(path, now, nil)
 	must(t, err)
