@@ -128,7 +128,7 @@ type Load struct {
 }
 
 // ErrCircuit is wrapped by every error that rejects a circuit.
-var ErrCircuit = errors.New("invalid circuit")
+var ErrCircuit = errors.New("model: invalid circuit")
 
 // FieldError rejects one field of a Circuit (or of Options or a Light).
 type FieldError struct {

@@ -1,6 +1,7 @@
 package model
 
 import (
+	"errors"
 	"fmt"
 	"strings"
 	"time"
@@ -19,7 +20,7 @@ type Scene struct {
 }
 
 // ErrUnknownScenario is returned by Scenario for a name it does not know.
-var ErrUnknownScenario = fmt.Errorf("model: unknown scenario")
+var ErrUnknownScenario = errors.New("model: unknown scenario")
 
 // ScenarioNames lists the built-in scenarios.
 func ScenarioNames() []string { return []string{"wren", "fern"} }
