@@ -109,6 +109,11 @@ func runCalibrate(ctx context.Context, args []string, e *env) error {
 		if err != nil {
 			return workErrorf("%v", err)
 		}
+		if *dryRun && div > 0 {
+			// Nothing was sent: the board still divides by its own ratio.
+			r.RawV *= b.Channels[*ch].Div.Float64() / div
+			r.SDV *= b.Channels[*ch].Div.Float64() / div
+		}
 		fmt.Fprintf(e.stdout, "point: true_v=%.5f raw_v=%.5f sd_v=%.5f counts=%.2f n=%d\n", v, r.RawV, r.SDV, r.Counts, r.N)
 		pts = append(pts, logger.CalPoint{RawV: r.RawV, TrueV: v})
 	}

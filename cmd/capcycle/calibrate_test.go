@@ -62,3 +62,22 @@ func TestCalibrateUsage(t *testing.T) {
 		}
 	}
 }
+
+func TestCalibrateDryRunWithProfile(t *testing.T) {
+	b := newRecBoard(t, 1)
+	// The board divides by 1; the profile's divider is 1:2, so 2048 counts at 5 V are
+	// 2.5 V at the pin and 5 V at the node. A meter reading of 5.10 V gives gain 1.02.
+	code, out, errs := runCmd(t, "calibrate", "--port", b.path, "--yes", "--dry-run", "--samples", "3",
+		"--profile", "../../testdata/profiles/wren.toml", "5.10")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	if !strings.Contains(out, "raw_v=5.00000") || !strings.Contains(out, "gain=1.02 ") || !strings.Contains(out, "divider=0.5 ") {
+		t.Errorf("output:\n%s", out)
+	}
+	for _, f := range b.commands() {
+		if _, ok := f.(wire.CmdCal); ok {
+			t.Error("a dry run sent >cal")
+		}
+	}
+}
