@@ -154,8 +154,8 @@ func demo(ctx context.Context, o *demoOptions, e *env) error {
 		}
 		defer emu.close()
 	}
-	fmt.Fprintf(e.stderr, "capcycle demo: recording %s of model time per scenario (%s) through the serial stack; no hardware, no network\n",
-		units.Format(o.hours*3600, units.Second), strings.Join(o.only, ", "))
+	fmt.Fprintf(e.stderr, "capcycle demo: recording %g h of model time from %s per scenario (%s) through the serial stack; no hardware, no network\n",
+		o.hours, o.start, strings.Join(o.only, ", "))
 	start := time.Now()
 	outs := make([]*demoOutcome, len(o.only))
 	errs := make([]error, len(o.only))

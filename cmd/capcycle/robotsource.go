@@ -189,6 +189,7 @@ type modelSource struct {
 	a, b    model.Sample // the samples around the last instant asked for; a.TS <= t <= b.TS
 	started bool
 	ended   bool
+	startS  float64 // the light's time of day at t = 0, s (for the status clock)
 
 	timeBits atomic.Uint64 // math.Float64bits of the model time reached, s
 	voltBits atomic.Uint64 // math.Float64bits of the storage voltage there, V
@@ -205,7 +206,7 @@ func newModelSource(rig *robotRig, durationS, rateHz float64) (*modelSource, err
 	if err != nil {
 		return nil, err
 	}
-	return &modelSource{sp: sp, c: rig.Circuit, nodes: rig.Nodes}, nil
+	return &modelSource{sp: sp, c: rig.Circuit, nodes: rig.Nodes, startS: rig.StartS}, nil
 }
 
 // Sample implements virtualboard.Source.
@@ -279,12 +280,13 @@ func (s *modelSource) nodeV(x model.Sample, n robotNode) float64 {
 	return 0
 }
 
-// robotStatus is the short status line of a running robot: model time as a clock from
-// the run's start, the storage voltage, fires, and the board's frame counts.
+// robotStatus is the short status line of a running robot: the model's time of day
+// (hours past the midnight its day starts from), the storage voltage, fires, and the
+// board's frame counts.
 func robotStatus(src *modelSource, b *virtualboard.Board) string {
 	ts, v, fires := src.progress()
 	st := b.Stats()
-	d := time.Duration(ts * float64(time.Second)).Truncate(time.Second)
+	d := time.Duration((src.startS + ts) * float64(time.Second)).Truncate(time.Second)
 	h := int(d.Hours())
 	m := int(d.Minutes()) % 60
 	sec := int(d.Seconds()) % 60
