@@ -297,7 +297,8 @@ func wrenAfterResult() *analyze.Result {
 
 var fernCircuit = simCircuit{capF: 0.1, onV: 2.70, offV: 1.6, loadOhm: 40, leakOhm: 20e3, qA: 1.5e-6,
 	iscA: 0.35e-3, vocV: 4.4, nVt: 0.3,
-	light: func(tS float64) float64 { return 0.4 * windowsill(tS) }}
+	// shaded north window: dull, nearly even light all day
+	light: func(tS float64) float64 { return 0.33 + 0.01*math.Sin(2*math.Pi*tS/(12*3600)) }}
 
 // fernResult is the invented analysis of "Fern", the chime in the shaded north window:
 // it charges and stalls below its trigger.
@@ -305,22 +306,22 @@ func fernResult() *analyze.Result {
 	c := fernCircuit
 	r := simDay(c, 12*3600, [2]float64{}, 3)
 	r.Source = analyze.Source{Path: "captures/fern-north.csv", Profile: "fern.toml", StartRFC: "2026-11-02T06:00:00Z"}
-	r.Segments = append(r.Segments, analyze.Segment{Kind: "charging", StartS: 0, EndS: 9 * 3600, StartV: 0.4, EndV: 2.31},
-		analyze.Segment{Kind: "plateau", StartS: 9 * 3600, EndS: 12 * 3600, StartV: 2.31, EndV: 2.31})
+	r.Segments = append(r.Segments, analyze.Segment{Kind: "charging", StartS: 0, EndS: 3 * 3600, StartV: 0.4, EndV: 2.29},
+		analyze.Segment{Kind: "plateau", StartS: 3 * 3600, EndS: 12 * 3600, StartV: 2.29, EndV: 2.31})
 	r.Noise = &analyze.Noise{RMSV: 0.0028, StepV: 0.00488}
 	r.Declared = &analyze.Declared{CapF: f64(0.1), CapTol: "Z", OnV: f64(2.70), OffV: f64(1.6), VocV: f64(4.4), IscA: f64(1e-3)}
 	r.Capacitance = &analyze.Capacity{F: analyze.Estimate{Value: 0.1, Origin: "declared"}, Tol: "Z"}
 	r.EquilibriumV = est(2.314, 0.006, "fitted")
-	r.Equilibrium = &analyze.Settling{Within1PctS: f64(5.1 * 3600), TauS: est(6100, 240, "fitted")}
+	r.Equilibrium = &analyze.Settling{Within1PctS: f64(2.6 * 3600), TauS: est(2050, 80, "fitted")}
 	r.Fit.Trigger.Kind = "unknown"
 	r.Fit.Leak = analyze.LeakFit{TauS: est(2050, 80, "fitted"), Ohm: est(20.5e3, 0.8e3, "fitted"), QuiescentA: est(1.4e-6, 0.3e-6, "fitted"), Method: "plateau"}
-	iv, mv, mw := cellIV(c, 0.3)
-	r.Fit.Cell = analyze.CellFit{IscA: est(c.iscA*0.3, 0.00002, "fitted"), VocV: est(c.vocV+c.nVt*math.Log(0.3), 0.04, "fitted"),
+	iv, mv, mw := cellIV(c, 0.33)
+	r.Fit.Cell = analyze.CellFit{IscA: est(c.iscA*0.33, 0.000004, "fitted"), VocV: est(c.vocV+c.nVt*math.Log(0.33), 0.04, "fitted"),
 		MppV: f64(mv), MppW: f64(mw), IV: iv}
 	lt, lm := analyze.Trace{Label: "plateau approach"}, analyze.Trace{Label: "fit"}
-	for k := 0; k < 1500; k++ {
-		ts := 6*3600 + float64(k)*10
-		vv := 2.314 - 0.5*math.Exp(-(ts-6*3600)/6100)
+	for k := 0; k < 1080; k++ {
+		ts := 1800 + float64(k)*10
+		vv := 2.314 - 1.6*math.Exp(-(ts-1800)/2050)
 		lt.TS, lt.V = append(lt.TS, ts), append(lt.V, vv+0.0028*math.Sin(float64(k)*2.3))
 		if k%25 == 0 {
 			lm.TS, lm.V = append(lm.TS, ts), append(lm.V, vv)

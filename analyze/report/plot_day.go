@@ -31,6 +31,9 @@ func dayFigure(r *analyze.Result, o *Options) (figure, string) {
 	if haveOn {
 		hi = math.Max(hi, on)
 	}
+	if eq := r.EquilibriumV; eq != nil && finite(eq.Value) {
+		lo, hi = math.Min(lo, eq.Value), math.Max(hi, eq.Value)
+	}
 	pad := 0.06 * math.Max(hi-lo, 0.1)
 	ylo, yhi := math.Max(0, lo-pad), hi+pad
 
@@ -99,6 +102,14 @@ func dayFigure(r *analyze.Result, o *Options) (figure, string) {
 		if err == nil {
 			pv.Add(l)
 			legend = append(legend, legendItem{"release " + num(off, "V"), []plot.Thumbnailer{l}})
+		}
+	}
+
+	if eq := r.EquilibriumV; eq != nil && finite(eq.Value) {
+		l, err := line([]float64{0, xmax}, []float64{eq.Value, eq.Value}, colGreen, 1.1, dashLongShort)
+		if err == nil {
+			pv.Add(l)
+			legend = append(legend, legendItem{"settling level " + num(eq.Value, "V"), []plot.Thumbnailer{l}})
 		}
 	}
 

@@ -44,9 +44,10 @@ var sansFont = font.Font{Typeface: "Liberation", Variant: "Sans"}
 
 // dashes used to tell lines apart without colour.
 var (
-	dashModel  = []vg.Length{vg.Points(5), vg.Points(2.5)}
-	dashTrig   = []vg.Length{vg.Points(4), vg.Points(2)}
-	dashDotted = []vg.Length{vg.Points(1), vg.Points(2)}
+	dashModel     = []vg.Length{vg.Points(5), vg.Points(2.5)}
+	dashTrig      = []vg.Length{vg.Points(4), vg.Points(2)}
+	dashDotted    = []vg.Length{vg.Points(1), vg.Points(2)}
+	dashLongShort = []vg.Length{vg.Points(7), vg.Points(2), vg.Points(1.5), vg.Points(2)}
 )
 
 // newPlot makes a plot with the report's look: sans-serif text, a light grid, axis
