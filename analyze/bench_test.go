@@ -185,3 +185,51 @@ func BenchmarkDayAnalysisVsCSVParse(b *testing.B) {
 	b.ReportMetric(float64(rows), "rows")
 	b.ReportMetric(float64(cycles), "cycles")
 }
+
+// BenchmarkPeakHeapByLength streams captures of 1, 4 and 16 hours at 100 Hz (a stalled
+// circuit: no cycles, so no per-cycle records) through Run from a pipe, and reports the
+// peak live heap of each: it should not grow with the length.
+func BenchmarkPeakHeapByLength(b *testing.B) {
+	if testing.Short() {
+		b.Skip("long streams")
+	}
+	c := wrenRC
+	c.OnV = 10
+	for _, hours := range []float64{1, 4, 16} {
+		b.Run(strconv.FormatFloat(hours, 'f', 0, 64)+"h", func(b *testing.B) {
+			var peak atomic.Uint64
+			for i := 0; i < b.N; i++ {
+				pr, pw := io.Pipe()
+				go func() {
+					w := bufio.NewWriterSize(pw, 1<<16)
+					w.WriteString("time_s,vcap_v\n")
+					buf := make([]byte, 0, 64)
+					light := []detecttest.Light{{FromS: 0, IA: 2e-6}}
+					detecttest.Stream(c, light, hours*3600, detecttest.Sampling{DtS: 0.01}, detecttest.ADC{NoiseV: 1e-3, Bits: 12, FullV: 5, Seed: 7},
+						func(t, v float64) {
+							buf = strconv.AppendFloat(buf[:0], t, 'f', 6, 64)
+							buf = append(buf, ',')
+							buf = strconv.AppendFloat(buf, v, 'f', 5, 64)
+							buf = append(buf, '\n')
+							w.Write(buf)
+						})
+					w.Flush()
+					pw.Close()
+				}()
+				runtime.GC()
+				stop, done := make(chan struct{}), make(chan struct{})
+				go func() { peakHeap(stop, &peak); close(done) }()
+				res, err := Run(capture.NewReader(pr, "stream"), nil)
+				close(stop)
+				<-done
+				if err != nil {
+					b.Fatal(err)
+				}
+				if len(res.Cycles) != 0 {
+					b.Fatalf("%d cycles in a stall", len(res.Cycles))
+				}
+			}
+			b.ReportMetric(float64(peak.Load())/(1<<20), "peak-heap-MiB")
+		})
+	}
+}

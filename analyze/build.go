@@ -185,7 +185,7 @@ func (b *builder) leakTau() {
 	var taus, sds, drifts, dsds []float64
 	for i := range b.sum.Swings {
 		s, inf := b.swing(i)
-		if s.Up || s.Fire || !inf.exp.ok || inf.exp.n < 8 || b.inCalibration(s) {
+		if s.Up || s.Fire || s.Noise || !inf.exp.ok || inf.exp.n < 8 || b.inCalibration(s) {
 			continue
 		}
 		taus = append(taus, inf.exp.tau)

@@ -39,9 +39,9 @@ func TestModelWren(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, adc := range []detecttest.ADC{{}, {NoiseV: 2e-3, Bits: 10, FullV: 5, Seed: 21}, {NoiseV: 1e-3, Bits: 12, FullV: 5, Seed: 22}} {
+	for _, adc := range []detecttest.ADC{{NoiseV: 2e-3, Bits: 10, FullV: 5, Seed: 21}, {NoiseV: 1e-3, Bits: 12, FullV: 5, Seed: 22}} {
 		const rate = 200
-		ts, vs, sim := simulate(t, sc.Circuit, shifted{sc.Light, 12 * 3600}, 600, rate, 2.0, adc)
+		ts, vs, sim := simulate(t, sc.Circuit, shifted{sc.Light, 12 * 3600}, 120, rate, 2.0, adc)
 		res := RunSamples(ts, vs, &Options{CapF: sc.Circuit.Storage.CapF, ProbeOhm: sc.Circuit.ProbeOhm})
 		fires := 0
 		for _, c := range sim.Cycles {

@@ -64,7 +64,9 @@ type Summary struct {
 
 // Finish closes the stream and decides which falls are fires.
 //
-// A fall is a fire when it is fast: its implied time constant, fall time * V / dV,
+// Falls whose surrounding levels (the medians of a few samples before and after) differ
+// by less than half the minimum swing are noise, neither fire nor decay. A fall is a fire
+// when it is fast: its implied time constant, fall time * V / dV,
 // sits in the lower of two groups that differ by at least a factor of 8 (when the falls
 // form two such groups: fires through the load and slow decays through the leakage), and
 // it falls at least 3 times faster than the charging before it rose, and takes less time
@@ -104,6 +106,11 @@ func (d *Detector) classify(s *Summary) {
 	tau := make([]float64, len(sw))
 	for i := range sw {
 		if sw[i].Up || sw[i].AmplitudeV() < d.swingMin {
+			continue
+		}
+		if b, a := sw[i].LevelBeforeV, sw[i].LevelAfterV; b-a < 0.5*d.swingMin {
+			// From a high of the noise to a low of it: the levels around it are the same.
+			sw[i].Noise = true
 			continue
 		}
 		tau[i] = d.fallTime(&sw[i]) * math.Max(math.Abs(sw[i].StartV), sw[i].AmplitudeV()) / sw[i].AmplitudeV()
@@ -218,7 +225,7 @@ func (d *Detector) segments(s *Summary) []Segment {
 				add(KindCharging, w.StartS, w.OnsetS, w.StartV, w.OnsetV)
 			}
 			add(KindFiring, w.OnsetS, w.EndS, w.OnsetV, w.EndV)
-		case w.AmplitudeV() < h:
+		case w.AmplitudeV() < h || w.Noise:
 			add(KindPlateau, w.StartS, w.EndS, w.StartV, w.EndV)
 		default:
 			if long(w.FlatS, w.DurationS()) {

@@ -54,11 +54,16 @@ type Swing struct {
 	// most 64 points).
 	StartSlopeVPerS float64
 	EndSlopeVPerS   float64
-	// Fire is set by Finish for falls taken to be fires.
-	Fire bool
+	// Fire is set by Finish for falls taken to be fires, and Noise for falls between a
+	// high and a low of the noise (the levels around them equal): neither fire nor decay.
+	Fire, Noise bool
 	// OnsetIndex and ResetIndex locate the onset and the end of the fall among the
 	// swing's points as passed to Config.OnSwing.
 	OnsetIndex, ResetIndex int
+	// LevelBeforeV and LevelAfterV, for falls, are the medians of the few samples up to
+	// the starting extreme and of the few after the end one (NaN when unknown): a fall
+	// between two extremes of noise has them equal.
+	LevelBeforeV, LevelAfterV float64
 }
 
 // DurationS is EndS - StartS.
@@ -77,6 +82,7 @@ type sample struct {
 const bootN = 1024      // samples used to estimate the noise, step and spacing before detecting
 const noiseBlock = 4096 // samples per noise estimate after that
 const ringN = 256       // raw samples kept for onsets
+const levelN = 8        // samples in the medians before and after a fall
 
 // Detector finds rises and falls in a stream of samples with memory that does not grow
 // with the stream (beyond one compact Swing per swing). Push samples in time order,
@@ -124,12 +130,14 @@ type Detector struct {
 	ptsBuf     []Point
 
 	// the last raw samples, for the exact onset of a fall after a long flat top
-	ring    [ringN]sample
-	ringLen int
-	ringPos int
-	onsetOK bool
-	onsetT  float64
-	onsetV  float64
+	ring     [ringN]sample
+	ringLen  int
+	ringPos  int
+	onsetOK  bool
+	onsetT   float64
+	onsetV   float64
+	levelBuf [levelN]float64
+	before   float64
 
 	swings  []Swing
 	samples int

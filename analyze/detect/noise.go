@@ -14,12 +14,25 @@ var nan = math.NaN()
 // any straight-line trend. SD = 1.4826 * median|e| (the MAD's consistency factor for a
 // normal distribution). scratch is reused when large enough; the result is 0 for fewer
 // than 3 points.
+//
+// Quantised samples with noise near one ADC step make most second differences exactly
+// zero, and the median then says 0; so the larger of that and the 10 %-trimmed mean of
+// |e| times sqrt(pi/2) (the mean absolute deviation's factor for a normal distribution)
+// is returned. Both estimate the SD of normal noise; the trimming keeps the few large
+// differences of fires out.
 func NoiseSD(t, v, scratch []float64) float64 {
 	e := secondDiffs(t, v, scratch[:0])
 	if len(e) == 0 {
 		return 0
 	}
-	return 1.4826 * medianInPlace(e)
+	med := medianInPlace(e) // sorts e
+	keep := len(e) - len(e)/10
+	var sum float64
+	for _, x := range e[:keep] {
+		sum += x
+	}
+	mean := sum / float64(keep)
+	return math.Max(1.4826*med, 1.2533*mean)
 }
 
 func secondDiffs(t, v, e []float64) []float64 {

@@ -85,6 +85,9 @@ func (d *Detector) turn(s sample) {
 	} else {
 		d.emit(&sw, &d.seg)
 	}
+	if d.mode > 0 {
+		d.before = d.levelBefore()
+	}
 	d.seg.reset()
 	d.seg.add(d.ext.t, d.ext.v)
 	d.onsetOK = false
@@ -125,8 +128,43 @@ func (d *Detector) rawOnset() {
 	}
 }
 
-// confirm emits the provisional fall.
+// levelBefore is the median of the few raw samples up to the last one still at the
+// level of the running maximum (within 4 noise SDs, at least one ADC step), from the
+// samples kept; NaN when that sample is older than them.
+func (d *Detector) levelBefore() float64 {
+	c := math.Max(4*d.sdEff(), d.step)
+	at := -1
+	for k := d.ringLen - 2; k >= 0; k-- {
+		if r := d.ring[(d.ringPos-d.ringLen+k+2*ringN)%ringN]; r.v >= d.ext.m-c {
+			at = k
+			break
+		}
+	}
+	if at < 0 {
+		return math.NaN()
+	}
+	n := 0
+	for k := at; k >= 0 && n < levelN; k-- {
+		d.levelBuf[n] = d.ring[(d.ringPos-d.ringLen+k+2*ringN)%ringN].v
+		n++
+	}
+	return medianInPlace(d.levelBuf[:n])
+}
+
+// confirm emits the provisional fall, with the level the rise after it starts from.
 func (d *Detector) confirm() {
+	d.ptsBuf = d.seg.points(d.ptsBuf)
+	n := 0
+	for _, p := range d.ptsBuf {
+		if n == levelN {
+			break
+		}
+		d.levelBuf[n] = p.V
+		n++
+	}
+	if n >= 3 {
+		d.provSwing.LevelAfterV = medianInPlace(d.levelBuf[:n])
+	}
 	d.prov = false
 	d.emit(&d.provSwing, &d.provSeg)
 	d.provSeg.reset()
@@ -168,7 +206,11 @@ func (d *Detector) makeSwing(up, open, gap bool) Swing {
 	}
 	sw := Swing{Up: up, Open: open, Gap: gap,
 		StartS: d.last.t, StartV: d.last.m, EndS: d.ext.t, EndV: d.ext.m,
-		OnsetS: d.last.t, OnsetV: d.last.m, Samples: n}
+		OnsetS: d.last.t, OnsetV: d.last.m, Samples: n,
+		LevelBeforeV: math.NaN(), LevelAfterV: math.NaN()}
+	if !up && d.mode < 0 {
+		sw.LevelBeforeV = d.before
+	}
 	h := d.swingMin
 	if up {
 		// time spent within h of the top at the end

@@ -1,0 +1,45 @@
+package detect
+
+import (
+	"math"
+	"math/rand/v2"
+	"testing"
+)
+
+// NoiseSD recovers the SD of normal noise on a sloping line, on a non-uniform grid, and
+// after quantisation to a step close to the noise (where the median of |e| alone says 0).
+func TestNoiseSD(t *testing.T) {
+	rng := rand.New(rand.NewPCG(1, 2))
+	for _, tc := range []struct {
+		sd, step, want, tol float64
+		flat                bool
+	}{
+		{1e-3, 0, 1e-3, 0.05, false},
+		{1e-3, 1.2207e-3, math.Hypot(1e-3, 1.2207e-3/math.Sqrt(12)), 0.15, true},
+		{0.5e-3, 1.2207e-3, math.Hypot(0.5e-3, 1.2207e-3/math.Sqrt(12)), 0.3, true},
+		{5e-3, 0, 5e-3, 0.05, false},
+		// quantised: the quantisation noise step/sqrt(12) adds in quadrature
+		{1e-3, 1.2207e-3, math.Hypot(1e-3, 1.2207e-3/math.Sqrt(12)), 0.15, false},
+		{0.5e-3, 1.2207e-3, math.Hypot(0.5e-3, 1.2207e-3/math.Sqrt(12)), 0.25, false},
+	} {
+		var ts, vs []float64
+		x := 0.0
+		for i := 0; i < 4096; i++ {
+			x += 0.005 + 0.01*rng.Float64()
+			slope := 0.1
+			if tc.flat {
+				slope = 0
+			}
+			v := 2.0004 + slope*x + tc.sd*rng.NormFloat64()
+			if tc.step > 0 {
+				v = math.Round(v/tc.step) * tc.step
+			}
+			ts = append(ts, x)
+			vs = append(vs, v)
+		}
+		got := NoiseSD(ts, vs, nil)
+		if math.Abs(got-tc.want) > tc.tol*tc.want {
+			t.Errorf("sd %g step %g flat %v: got %.3g, want %.3g", tc.sd, tc.step, tc.flat, got, tc.want)
+		}
+	}
+}
