@@ -41,9 +41,10 @@ func analyseCapture(ctx context.Context, path, profilePath string) (*analyze.Res
 		fromProfile(opts, p)
 		opts.Profile = p.Name
 	}
-	// TODO(stages): set opts.Post to the later stages (prediction, model cycle, findings)
-	// once "capcycle analyze" has that hook committed, so both commands run the same.
-	_ = p
+	// The later stages (prediction, held-out check, the model's cycle, findings): the
+	// same hook the other commands use. Without a profile it makes the findings that
+	// need no declared circuit, and the prediction stays null.
+	opts.Post = laterStages(p, opts, path, nil)
 	in, err := os.Open(path)
 	if err != nil {
 		return nil, inputError(fmt.Errorf("report: %w", err))
