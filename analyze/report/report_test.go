@@ -128,6 +128,10 @@ func TestVerdictNumbersMatchJSON(t *testing.T) {
 	none := sparseResult()
 	none.Samples = 0
 	cases["empty"] = none
+	near := *fernOnce()
+	near.EquilibriumV = est(3.9986, 0.0004, "fitted")
+	near.Declared = &analyze.Declared{OnV: f64(4.0)}
+	cases["near-trigger"] = &near
 	digit := regexp.MustCompile(`[0-9]`)
 	for name, r := range cases {
 		t.Run(name, func(t *testing.T) {
@@ -179,6 +183,17 @@ func TestVerdictNumbersMatchJSON(t *testing.T) {
 			}
 			if name == "wren" && spans < 6 {
 				t.Errorf("wren's verdict carries only %d numbers", spans)
+			}
+			if name == "near-trigger" {
+				var shown []string
+				for _, p := range Verdict(r).Parts {
+					if strings.HasSuffix(p.Path, "on_v") || strings.HasPrefix(p.Path, "equilibrium_v") {
+						shown = append(shown, p.Text)
+					}
+				}
+				if len(shown) != 2 || shown[0] == shown[1] {
+					t.Errorf("settling level and trigger print as %q: a level below the trigger must not read the same", shown)
+				}
 			}
 			t.Logf("%s: %s", name, Verdict(r))
 		})

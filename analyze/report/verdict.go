@@ -67,6 +67,10 @@ func (s *sentence) count(path string, n int) {
 //   - "No data": no samples.
 func Verdict(r *analyze.Result) Sentence { return verdict(r, " below") }
 
+// Summary is Verdict worded for use away from the report (a terminal, a log): it points
+// to the findings "in the report" rather than "below".
+func Summary(r *analyze.Result) Sentence { return verdict(r, " in the report") }
+
 // verdict is Verdict with the words that point to the findings ("below", or " in its
 // report" on the comparison page, which does not list them).
 func verdict(r *analyze.Result, where string) Sentence {
@@ -96,9 +100,17 @@ func verdict(r *analyze.Result, where string) Sentence {
 		s.text("Stalls: no fire in ")
 		s.num("duration_s", r.DurationS, dur(r.DurationS))
 		if r.EquilibriumV != nil {
+			eq := r.EquilibriumV.Value
+			on, origin, haveOn := triggerOn(r)
+			// Enough digits that a settling level just short of the trigger does not
+			// print as the trigger's own value.
+			sig := 3
+			for haveOn && sig < 6 && eq != on && numSig(eq, "V", sig) == numSig(on, "V", sig) {
+				sig++
+			}
 			s.text("; the voltage settles at ")
-			s.num("equilibrium_v.value", r.EquilibriumV.Value, num(r.EquilibriumV.Value, "V"))
-			if on, origin, ok := triggerOn(r); ok {
+			s.num("equilibrium_v.value", eq, numSig(eq, "V", sig))
+			if haveOn {
 				path := "fit.trigger.on_v.value"
 				if origin == "declared" {
 					path = "declared.on_v"
@@ -108,7 +120,7 @@ func verdict(r *analyze.Result, where string) Sentence {
 				} else {
 					s.text(", though the ")
 				}
-				s.num(path, on, num(on, "V"))
+				s.num(path, on, numSig(on, "V", sig))
 				s.text(" trigger (" + origin + ")")
 				if r.EquilibriumV.Value >= on {
 					s.text(" is lower")

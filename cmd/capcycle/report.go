@@ -168,7 +168,7 @@ func writeOne(e *env, input string, r *analyze.Result, out string, fromJSON bool
 		}
 		return workErrorf("%w", err)
 	}
-	fmt.Fprintf(e.stdout, "%s\n", htmlreport.Verdict(r))
+	fmt.Fprintf(e.stdout, "%s\n", htmlreport.Summary(r))
 	fmt.Fprintf(e.stdout, "report:   %s\nanalysis: %s\ncycles:   %s\n", b.HTML, b.JSON, b.CSV)
 	return nil
 }
@@ -217,7 +217,7 @@ func writeComparison(e *env, inputs []string, rs []*analyze.Result, out string, 
 		return workErrorf("%w", err)
 	}
 	la, lb := opts.LabelA, opts.LabelB
-	fmt.Fprintf(e.stdout, "%s: %s\n%s: %s\ncomparison: %s\n", la, htmlreport.Verdict(rs[0]), lb, htmlreport.Verdict(rs[1]), out)
+	fmt.Fprintf(e.stdout, "%s: %s\n%s: %s\ncomparison: %s\n", la, htmlreport.Summary(rs[0]), lb, htmlreport.Summary(rs[1]), out)
 	return nil
 }
 
