@@ -81,6 +81,7 @@ func (ss *session) handshake(rd *chunkReader, first bool) error {
 	if nch < want {
 		return fmt.Errorf("logger: the board sends %d channels, %d asked", nch, want)
 	}
+	s.boardChange = false // the settings in force go into the header or the line below
 	if first {
 		s.ncol = want
 		s.vals = make([]float64, want)

@@ -174,6 +174,11 @@ func TestRecordSendsSettings(t *testing.T) {
 	if !strings.Contains(text, "time_s,vcap_v,vcell_v\n") || !strings.Contains(text, "slow_hz=20 fast_hz=1000 thr=4 pre=16 post=8") {
 		t.Errorf("capture:\n%s", text)
 	}
+	// 2048 of 4096 counts at 5 V: vcap through its 0.5 divider is 5 V, vcell (divider 1)
+	// 2.5 V. The settings sent in the handshake are in the header's board line only.
+	if strings.Count(text, ",5.00000,2.50000\n") != 10 || strings.Count(text, "# board:") != 1 {
+		t.Errorf("values:\n%s", text)
+	}
 }
 
 func TestRecordUntil(t *testing.T) {

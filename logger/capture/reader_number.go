@@ -21,53 +21,55 @@ func parseNumber(b []byte, decimal byte) (float64, bool) {
 		return 0, false
 	}
 	neg := false
-	switch b[0] {
-	case '-':
-		neg = true
-		i++
-	case '+':
+	if c := b[0]; c == '-' || c == '+' {
+		neg = c == '-'
 		i++
 	}
 	var mant uint64
 	digits, exp := 0, 0
-	sawDigit, sawDot := false, false
+	start := i
+	// integer part
 	for ; i < n; i++ {
-		c := b[i]
-		switch {
-		case c >= '0' && c <= '9':
-			sawDigit = true
-			if mant == 0 && c == '0' {
-				if sawDot {
-					exp--
-				}
+		d := b[i] - '0'
+		if d > 9 {
+			break
+		}
+		if mant == 0 && d == 0 {
+			continue // leading zeros
+		}
+		mant = mant*10 + uint64(d)
+		digits++
+	}
+	sawDigit := i > start
+	if i < n && (b[i] == '.' || b[i] == decimal) {
+		i++
+		fstart := i
+		for ; i < n; i++ {
+			d := b[i] - '0'
+			if d > 9 {
+				break
+			}
+			exp--
+			if mant == 0 && d == 0 {
 				continue
 			}
-			if digits >= 19 {
-				return 0, false
-			}
-			mant = mant*10 + uint64(c-'0')
+			mant = mant*10 + uint64(d)
 			digits++
-			if sawDot {
-				exp--
-			}
-		case (c == '.' || c == decimal) && !sawDot:
-			sawDot = true
-		case c == 'e' || c == 'E':
-			if !sawDigit {
-				return 0, false
-			}
-			e, ok := parseExp(b[i+1:])
-			if !ok {
-				return 0, false
-			}
-			exp += e
-			i = n
-		default:
+		}
+		sawDigit = sawDigit || i > fstart
+	}
+	if !sawDigit || digits > 19 {
+		return 0, false
+	}
+	if i < n {
+		if c := b[i]; c != 'e' && c != 'E' {
 			return 0, false
 		}
-	}
-	if !sawDigit {
-		return 0, false
+		e, ok := parseExp(b[i+1:])
+		if !ok {
+			return 0, false
+		}
+		exp += e
 	}
 	if mant == 0 {
 		if neg {
