@@ -100,8 +100,9 @@ func W0Exp(l float64) float64 {
 	case math.IsInf(l, -1):
 		return 0
 	}
-	if l < 1.1 {
-		// exp(l) < 3: the direct form is accurate and cannot overflow.
+	if l < 1 {
+		// exp(l) < e < 3: the direct form is accurate, cannot overflow, and W0 does not
+		// hand arguments below 3 back to W0Exp (no mutual recursion).
 		return W0(math.Exp(l))
 	}
 	// Start from the asymptotic series W ~ L1 - L2 + L2/L1 + L2(L2-2)/(2 L1^2).

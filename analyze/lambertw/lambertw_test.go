@@ -296,3 +296,17 @@ func (p *exprParser) atom() (float64, error) {
 }
 
 func isNumChar(c byte) bool { return c >= '0' && c <= '9' || c == '.' }
+
+// W0 hands x > 3 to W0Exp(ln x), and W0Exp hands small l back to W0: the two thresholds
+// must not overlap, or ln 3 < l < threshold recurses forever.
+func TestW0ExpNoRecursionWindow(t *testing.T) {
+	for _, l := range []float64{0.999, 1.0, 1.05, 1.0986, 1.099, 1.1, 1.2} {
+		w := W0Exp(l)
+		if got := w + math.Log(w); math.Abs(got-l) > 1e-13 {
+			t.Errorf("W0Exp(%v) = %v: w + ln w = %v", l, w, got)
+		}
+	}
+	if w := W0(3.001); math.Abs(w*math.Exp(w)-3.001) > 1e-12 {
+		t.Errorf("W0(3.001) = %v", w)
+	}
+}
