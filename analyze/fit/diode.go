@@ -48,7 +48,7 @@ func (p DiodeParams) Current(v, vt float64) float64 {
 	}
 	g := p.Rs + p.Rsh
 	l := math.Log(p.Rs*p.Rsh*p.I0/(a*g)) + p.Rsh*(p.Rs*(p.Iph+p.I0)+v)/(a*g)
-	return (p.Rsh*(p.Iph+p.I0)-v)/g - a/p.Rs*w0Exp(l)
+	return (p.Rsh*(p.Iph+p.I0)-v)/g - a/p.Rs*lambertw.W0Exp(l)
 }
 
 // Implicit returns the residual of the model equation at a measured point (v, i):
@@ -56,25 +56,6 @@ func (p DiodeParams) Current(v, vt float64) float64 {
 func (p DiodeParams) Implicit(v, i, vt float64) float64 {
 	u := v + i*p.Rs
 	return p.Iph - p.I0*math.Expm1(u/(p.N*vt)) - u/p.Rsh - i
-}
-
-// w0Exp returns W0(exp(l)). It avoids one window of lambertw.W0Exp: at the time of
-// writing, W0Exp(l) for ln 3 < l < 1.1 calls W0(exp(l)), which calls W0Exp(ln x) back
-// for x > 3, without end. There it solves w + ln w = l by Newton's method from W0(3).
-// TODO: drop this once lambertw no longer recurses there.
-func w0Exp(l float64) float64 {
-	if l > 1.09 && l < 1.11 {
-		w := 1.0499088949640399 // W0(3), close to the root throughout the window
-		for range 8 {
-			dw := (w + math.Log(w) - l) * w / (w + 1)
-			w -= dw
-			if math.Abs(dw) <= 1e-16*w {
-				break
-			}
-		}
-		return w
-	}
-	return lambertw.W0Exp(l)
 }
 
 // Isc returns the short-circuit current I(0).
@@ -85,7 +66,7 @@ func (p DiodeParams) Isc(vt float64) float64 { return p.Current(0, vt) }
 func (p DiodeParams) Voc(vt float64) float64 {
 	a := p.N * vt
 	s := p.Iph + p.I0
-	return p.Rsh*s - a*w0Exp(math.Log(p.I0*p.Rsh/a)+p.Rsh*s/a)
+	return p.Rsh*s - a*lambertw.W0Exp(math.Log(p.I0*p.Rsh/a)+p.Rsh*s/a)
 }
 
 // MaxPower returns the maximum power point (Vmp, Imp, Pmp = Vmp·Imp) on [0, Voc],
