@@ -112,6 +112,10 @@ func runRecord(ctx context.Context, args []string, e *env) error {
 	if !f.quiet {
 		fmt.Fprintf(e.stderr, "record: %s: %d samples, %d lost, %d bad frames, %d gaps, %d reconnects, %d cycles seen\n",
 			sum.Out, sum.Stats.Samples, sum.Stats.Lost, sum.Stats.BadFrames, sum.Stats.Gaps, sum.Reconnects, sum.Cycles)
+		if sum.Clock.Points > 0 {
+			fmt.Fprintf(e.stderr, "record: the board clock ran %+.0f ppm against the host over %.0f s (in the file's clock line)\n",
+				sum.Clock.DriftPPM, sum.Clock.FitS)
+		}
 	}
 	return nil
 }
