@@ -137,7 +137,7 @@ func dayFigure(r *analyze.Result, o *Options) (figure, string) {
 	plots := []*plot.Plot{pv}
 	weights := []float64{3}
 	caption := "Voltage across the storage capacitor over the whole capture, drawn as the lowest and highest value in each time bin"
-	if len(r.Light) > 0 {
+	if len(r.Light) >= 2 {
 		pl := newPlot("", "light (relative)")
 		pl.Y.Tick.Marker = niceTicks{N: 3}
 		pl.X.Min, pl.X.Max, pl.Y.Min, pl.Y.Max = 0, xmax, 0, 1.05
@@ -250,17 +250,21 @@ func fireMarks(cycles []analyze.Cycle, span float64, n int) (x, y []float64) {
 
 type rateBin struct{ t0, t1, rate float64 }
 
-// firesPerHour counts the full fires in bins of one hour (ten minutes for captures
-// under three hours) and gives each bin's count as a rate per hour of recorded time: the
+// firesPerHour counts the full fires in bins (one hour for a day; shorter for shorter
+// captures, so that there are ten bins at least) and gives each bin's count as a rate per hour of recorded time: the
 // time inside gaps does not count, and a bin with less than a quarter of its length
 // recorded gets no rate.
 func firesPerHour(cycles []analyze.Cycle, segs []analyze.Segment, span float64) []rateBin {
 	if span <= 0 || len(cycles) == 0 {
 		return nil
 	}
-	w := 3600.0
-	if span <= 6*3600 {
-		w = 600
+	// The widest of these bins that still gives ten of them over the capture.
+	w := 10.0
+	for _, c := range []float64{3600, 1800, 900, 600, 300, 120, 60, 30} {
+		if span/c >= 10 {
+			w = c
+			break
+		}
 	}
 	n := int(math.Ceil(span / w))
 	counts := make([]int, n)

@@ -96,8 +96,12 @@ func daySection(r *analyze.Result, o *Options) *section {
 	if t := segmentTable(r); t != nil {
 		s.Tables = append(s.Tables, t)
 	}
-	if len(r.Light) == 0 && absent == "" {
+	switch n := len(r.Light); {
+	case absent != "":
+	case n == 0:
 		s.Absent = append(s.Absent, "The analysis carries no light-level trace.")
+	case n == 1:
+		s.Absent = append(s.Absent, "The light-level trace has a single point, too few to draw.")
 	}
 	return s
 }
