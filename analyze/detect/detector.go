@@ -326,7 +326,13 @@ func (d *Detector) noise(t, v float64) {
 		return
 	}
 	d.nblk++
-	if d.nblk%4 == 1 { // every fourth block is plenty for a robust running estimate
+	// Every fourth block, and after the first 64 estimates every sixteenth, is plenty for
+	// a robust running estimate.
+	every := 4
+	if len(d.sds) > 64 {
+		every = 16
+	}
+	if d.nblk%every == 1 {
 		sd := NoiseSD(d.blkT, d.blk, d.scratch)
 		d.sds = append(d.sds, sd)
 		if len(d.sds) > 2048 {
