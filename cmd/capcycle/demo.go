@@ -90,7 +90,7 @@ func runDemo(ctx context.Context, args []string, e *env) error {
 	fs := newFlags("demo", "[--out DIR] [--hours 24] [--board virtual|emulated] [--keep]", e.stderr,
 		"capcycle demo",
 		"capcycle demo --out /tmp/demo --keep",
-		"capcycle demo --hours 6 --board emulated")
+		"capcycle demo --board emulated --hours 1 --start 10:00")
 	o := demoOptions{}
 	fs.StringVar(&o.out, "out", "capcycle-demo", "directory for the reports (an earlier demo's files there are replaced)")
 	fs.Float64Var(&o.hours, "hours", 24, "model time to record per scenario, hours")
@@ -135,13 +135,13 @@ func runDemo(ctx context.Context, args []string, e *env) error {
 // demo runs every scenario of o, concurrently, and prints the paths and verdicts.
 func demo(ctx context.Context, o *demoOptions, e *env) error {
 	if err := os.MkdirAll(o.out, 0o755); err != nil {
-		return workErrorf("demo: %w", err)
+		return workErrorf("%w", err)
 	}
 	capDir := o.out
 	if !o.keep {
 		tmp, err := os.MkdirTemp("", "capcycle-demo-")
 		if err != nil {
-			return workErrorf("demo: %w", err)
+			return workErrorf("%w", err)
 		}
 		defer os.RemoveAll(tmp)
 		capDir = tmp
@@ -168,6 +168,9 @@ func demo(ctx context.Context, o *demoOptions, e *env) error {
 		}()
 	}
 	wg.Wait()
+	if ctx.Err() != nil {
+		return workErrorf("stopped before the end; reports already written stay in %s", o.out)
+	}
 	if err := errors.Join(errs...); err != nil {
 		return err
 	}
@@ -205,15 +208,15 @@ func printOutcome(w io.Writer, out *demoOutcome, keep bool) {
 func demoScenario(ctx context.Context, name string, o *demoOptions, capDir string, emu *emulatedBoards) (*demoOutcome, error) {
 	raw, err := demodata.Profile(name)
 	if err != nil {
-		return nil, workErrorf("demo: %w", err)
+		return nil, workErrorf("%w", err)
 	}
 	p, err := profile.Parse(name+".toml", raw)
 	if err != nil {
-		return nil, workErrorf("demo: built-in profile: %w", err)
+		return nil, workErrorf("built-in profile: %w", err)
 	}
 	rig, err := rigFromProfile(p)
 	if err != nil {
-		return nil, workErrorf("demo %s: %w", name, err)
+		return nil, workErrorf("%s: %w", name, err)
 	}
 	rig.StartS = o.startS
 	out := &demoOutcome{name: name, capture: filepath.Join(capDir, name+".capture.csv")}
@@ -246,7 +249,7 @@ func demoScenario(ctx context.Context, name string, o *demoOptions, capDir strin
 	title := fmt.Sprintf("capcycle demo: %s, a day on the windowsill (%s board)", p.Name, o.board)
 	out.bundle, err = htmlreport.WriteBundle(o.out, name, res, &htmlreport.Options{Title: title, Overwrite: true})
 	if err != nil {
-		return nil, workErrorf("demo %s: %w", name, err)
+		return nil, workErrorf("%s: %w", name, err)
 	}
 	return out, nil
 }
@@ -267,12 +270,12 @@ func analyseDemo(p *profile.Profile, rig *robotRig, ebits int, path string) (*an
 	opts.Post = laterStages(p, opts, path, nil)
 	f, err := os.Open(path)
 	if err != nil {
-		return nil, workErrorf("demo: %w", err)
+		return nil, workErrorf("%w", err)
 	}
 	defer f.Close()
 	res, err := analyze.Run(capture.NewReader(f, path), opts)
 	if err != nil {
-		return nil, workErrorf("demo %s: analysis: %w", p.Name, err)
+		return nil, workErrorf("%s: analysis: %w", p.Name, err)
 	}
 	return res, nil
 }
@@ -289,7 +292,7 @@ func demoFlaws(seed uint64) boardFlaws {
 func recordVirtual(ctx context.Context, rig *robotRig, p *profile.Profile, o *demoOptions, path string) (*logger.Summary, error) {
 	src, err := newModelSource(rig, o.hours*3600, demoFastHz)
 	if err != nil {
-		return nil, workErrorf("demo %s: %w", rig.Name, err)
+		return nil, workErrorf("%s: %w", rig.Name, err)
 	}
 	fl := demoFlaws(o.seed)
 	fl.EBits = min(16, rig.Bits+demoExtraBits)
@@ -301,7 +304,7 @@ func recordVirtual(ctx context.Context, rig *robotRig, p *profile.Profile, o *de
 	bcfg.Tap = &written
 	b, err := virtualboard.Open(bcfg)
 	if err != nil {
-		return nil, workErrorf("demo %s: %w", rig.Name, err)
+		return nil, workErrorf("%s: %w", rig.Name, err)
 	}
 	defer b.Close()
 
@@ -346,14 +349,14 @@ func recordUntilDrained(ctx context.Context, lcfg *logger.Config, name string, r
 		stopBoard()
 		<-runDone
 		if r.err != nil {
-			return nil, workErrorf("demo %s: recording: %w", name, r.err)
+			return nil, workErrorf("%s: recording: %w", name, r.err)
 		}
-		return nil, workErrorf("demo %s: the recorder stopped early (%s)", name, r.s.Stop)
+		return nil, workErrorf("%s: the recorder stopped early (%s)", name, r.s.Stop)
 	case err := <-runDone:
 		if err != nil {
 			stopRec()
 			<-recDone
-			return nil, workErrorf("demo %s: board: %w", name, err)
+			return nil, workErrorf("%s: board: %w", name, err)
 		}
 	}
 	// Let the host read what is still in the pseudo-terminal, then give the logger
@@ -366,7 +369,7 @@ func recordUntilDrained(ctx context.Context, lcfg *logger.Config, name string, r
 	stopRec()
 	r := <-recDone
 	if r.err != nil {
-		return nil, workErrorf("demo %s: recording: %w", name, r.err)
+		return nil, workErrorf("%s: recording: %w", name, r.err)
 	}
 	return r.s, nil
 }

@@ -28,15 +28,15 @@ func (b *emulatedBoards) close() { os.RemoveAll(b.dir) }
 // emulated board is not available here.
 func prepareEmulated(ctx context.Context, status io.Writer) (*emulatedBoards, error) {
 	if err := emulator.Available(); err != nil {
-		return nil, workErrorf("demo: the emulated board is not available here: %v (install gcc-avr, avr-libc and libsimavr-dev, or use --board virtual)", err)
+		return nil, workErrorf("the emulated board is not available here: %v (install gcc-avr, avr-libc and libsimavr-dev, or use --board virtual)", err)
 	}
 	src, err := emulator.SourceDir()
 	if err != nil {
-		return nil, workErrorf("demo: the emulated board needs the capcycle source tree (firmware-protocol/), which this binary cannot find: %v; use --board virtual", err)
+		return nil, workErrorf("the emulated board needs the capcycle source tree (firmware-protocol/), which this binary cannot find: %v; use --board virtual", err)
 	}
 	dir, err := os.MkdirTemp("", "capcycle-emulator-")
 	if err != nil {
-		return nil, workErrorf("demo: %w", err)
+		return nil, workErrorf("%w", err)
 	}
 	fmt.Fprintln(status, "capcycle demo: building the firmware (avr-gcc) and the simavr harness")
 	fmt.Fprintln(status, "capcycle demo: the emulated board runs the firmware instruction by instruction, about 100 times faster than real time on a 2-core machine: a 24-hour day takes about a quarter of an hour (try --hours 1 --start 10:00)")
@@ -45,7 +45,7 @@ func prepareEmulated(ctx context.Context, status io.Writer) (*emulatedBoards, er
 	bins, err := emulator.Build(bctx, src, dir)
 	if err != nil {
 		os.RemoveAll(dir)
-		return nil, workErrorf("demo: building the emulated board: %w", err)
+		return nil, workErrorf("building the emulated board: %w", err)
 	}
 	return &emulatedBoards{bins: bins, dir: dir}, nil
 }
@@ -56,11 +56,11 @@ func prepareEmulated(ctx context.Context, status io.Writer) (*emulatedBoards, er
 func recordEmulated(ctx context.Context, emu *emulatedBoards, rig *robotRig, p *profile.Profile, o *demoOptions, path string) (*logger.Summary, error) {
 	wave := filepath.Join(emu.dir, rig.Name+".wave")
 	if err := writeWaveform(wave, rig, o.hours*3600); err != nil {
-		return nil, workErrorf("demo %s: waveform: %w", rig.Name, err)
+		return nil, workErrorf("%s: waveform: %w", rig.Name, err)
 	}
 	board, err := emulator.Start(ctx, emu.bins, &emulator.Config{Waveform: wave, Div: rig.Div, AVccMV: int(math.Round(rig.RefV * 1000))})
 	if err != nil {
-		return nil, workErrorf("demo %s: emulated board: %w", rig.Name, err)
+		return nil, workErrorf("%s: emulated board: %w", rig.Name, err)
 	}
 	defer board.Close()
 	var read counter
