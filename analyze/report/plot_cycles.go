@@ -25,9 +25,19 @@ type traceSet struct {
 // cyclesFigure overlays the measured cycles, aligned at the fire (t = 0), with the fitted
 // model's cycle drawn over them; beside it, a zoom on the discharge pulse.
 func cyclesFigure(id string, sets []traceSet, pulseS float64, o *Options) (figure, string) {
-	var nTraces int
-	for _, s := range sets {
-		nTraces += len(s.traces)
+	// At most maxTraces traces per capture, evenly picked: more add ink, not insight.
+	const maxTraces = 40
+	var nTraces, dropped int
+	for i, s := range sets {
+		if len(s.traces) > maxTraces {
+			var keep []analyze.Trace
+			for _, k := range thin(len(s.traces), maxTraces, nil) {
+				keep = append(keep, s.traces[k])
+			}
+			dropped += len(s.traces) - len(keep)
+			sets[i].traces = keep
+		}
+		nTraces += len(sets[i].traces)
 	}
 	if nTraces == 0 {
 		return figure{}, "The analysis carries no cycle traces, so the cycles cannot be overlaid."
@@ -119,6 +129,9 @@ func cyclesFigure(id string, sets []traceSet, pulseS float64, o *Options) (figur
 			plots = append(plots, zoom)
 			caption += fmt.Sprintf(" On the right, the discharge pulse alone (%s to %s around the fire).", dur(lo), dur(hi))
 		}
+	}
+	if dropped > 0 {
+		caption += fmt.Sprintf(" %d traces are drawn, evenly spread over the capture; %d more are left out.", nTraces, dropped)
 	}
 	alt := "Measured cycles overlaid at the fire, with the fitted model's cycle"
 	svg, err := renderSVG(id, figW, vg.Points(230), alt, func(dc draw.Canvas) error {
