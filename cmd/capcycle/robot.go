@@ -12,6 +12,7 @@ import (
 	"capcycle/analyze/model"
 	"capcycle/analyze/profile"
 	"capcycle/analyze/units"
+	"capcycle/cmd/capcycle/demodata"
 	"capcycle/firmware-protocol/virtualboard"
 )
 
@@ -90,7 +91,21 @@ func (f *robotFlags) rig() (*robotRig, error) {
 	if err != nil {
 		return nil, usageErrorf("--scenario: %v", err)
 	}
-	return rigFromScenario(sc), nil
+	rig := rigFromScenario(sc)
+	// The board is wired as in the scenario's demo profile (Wren's vcell input, Fern's
+	// divider), when there is one.
+	if raw, err := demodata.Profile(strings.ToLower(name)); err == nil {
+		p, err := profile.Parse(strings.ToLower(name)+".toml", raw)
+		if err != nil {
+			return nil, workErrorf("built-in profile: %w", err)
+		}
+		w, err := rigFromProfile(p)
+		if err != nil {
+			return nil, workErrorf("built-in profile: %w", err)
+		}
+		rig.Nodes, rig.Div, rig.Bits, rig.Ref, rig.RefV = w.Nodes, w.Div, w.Bits, w.Ref, w.RefV
+	}
+	return rig, nil
 }
 
 // check rejects impossible values.

@@ -232,3 +232,28 @@ func TestRobotFlags(t *testing.T) {
 		}
 	}
 }
+
+// TestScenarioWiring: a built-in scenario is wired as its demo profile: Wren has its
+// cell on ADC1, Fern its storage behind 2.2 MΩ over 1 MΩ (fern.toml).
+func TestScenarioWiring(t *testing.T) {
+	for _, c := range []struct {
+		name  string
+		nodes []robotNode
+		div0  float64
+	}{
+		{"wren", []robotNode{nodeVcap, nodeVcell}, 0.5},
+		{"fern", []robotNode{nodeVcap}, 1.0 / 3.2},
+	} {
+		f := &robotFlags{scenario: c.name}
+		rig, err := f.rig()
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(rig.Nodes) != len(c.nodes) || rig.Nodes[0] != c.nodes[0] || rig.Nodes[len(rig.Nodes)-1] != c.nodes[len(c.nodes)-1] {
+			t.Errorf("%s: nodes %v, want %v", c.name, rig.Nodes, c.nodes)
+		}
+		if math.Abs(rig.Div[0]-c.div0) > 1e-12 {
+			t.Errorf("%s: ADC0 divider %g, want %g", c.name, rig.Div[0], c.div0)
+		}
+	}
+}
