@@ -84,26 +84,39 @@ func newAnalyzeFlags(w io.Writer) (*flag.FlagSet, *analyzeFlags) {
 	fs.StringVar(&f.voltUnit, "volt-unit", "", "unit of the voltage column: V, mV or uV (default: from the column name, else V)")
 	fs.StringVar(&f.timeFormat, "time-format", "", "time column format: seconds or rfc3339 (default: from the first row)")
 	fs.StringVar(&f.delim, "delim", "", "field delimiter: ',', ';' or tab (default: from the header row)")
-	fs.Var(f.capF, "cap", "storage capacitance, F (e.g. 4700u); profile storage.cap_f")
+	fs.Var(unitFlag{f.capF}, "cap", "storage capacitance, F (e.g. 4700u); profile storage.cap_f")
 	fs.StringVar(&f.capTol, "cap-tol", "", "capacitance tolerance letter (IEC 60062, e.g. M); profile storage.tolerance")
-	fs.Var(f.probeOhm, "probe-ohm", "total divider resistance the probe puts across the capacitor, Ω (e.g. 1meg); from the profile's vcap channel")
-	fs.Var(f.onV, "on-v", "declared trigger on voltage, V; profile trigger.on_v")
-	fs.Var(f.offV, "off-v", "declared trigger off voltage, V; profile trigger.off_v")
-	fs.Var(f.loadOhm, "load-ohm", "declared load resistance, Ω; profile load.ohm or load.armature_ohm")
-	fs.Var(f.quiescentA, "quiescent-a", "declared trigger quiescent current, A; profile trigger.quiescent_a")
-	fs.Var(f.vocV, "voc-v", "declared cell open-circuit voltage, V; profile cell.voc_v")
-	fs.Var(f.iscA, "isc-a", "declared cell short-circuit current, A; profile cell.isc_a")
+	fs.Var(unitFlag{f.probeOhm}, "probe-ohm", "total divider resistance the probe puts across the capacitor, Ω (e.g. 1meg); from the profile's vcap channel")
+	fs.Var(unitFlag{f.onV}, "on-v", "declared trigger on voltage, V; profile trigger.on_v")
+	fs.Var(unitFlag{f.offV}, "off-v", "declared trigger off voltage, V; profile trigger.off_v")
+	fs.Var(unitFlag{f.loadOhm}, "load-ohm", "declared load resistance, Ω; profile load.ohm or load.armature_ohm")
+	fs.Var(unitFlag{f.quiescentA}, "quiescent-a", "declared trigger quiescent current, A; profile trigger.quiescent_a")
+	fs.Var(unitFlag{f.vocV}, "voc-v", "declared cell open-circuit voltage, V; profile cell.voc_v")
+	fs.Var(unitFlag{f.iscA}, "isc-a", "declared cell short-circuit current, A; profile cell.isc_a")
 	fs.IntVar(&f.cells, "cells", 0, "cells in series in the solar panel; profile cell.series_cells (default 1)")
-	fs.Var(f.cellTempK, "cell-temp-k", "cell temperature, K; profile cell.temp_k (default 298.15)")
-	fs.Var(f.fullScaleV, "full-scale-v", "ADC full scale at the capacitor, V (saturation check); from the profile's vcap channel")
-	fs.Var(f.calOhm, "cal-ohm", "known resistor of a calibration stretch, Ω; profile calibration.resistor_ohm")
-	fs.Var(f.calStartS, "cal-start-s", "start of the calibration stretch, s; profile calibration.start_s")
-	fs.Var(f.calEndS, "cal-end-s", "end of the calibration stretch, s; profile calibration.end_s")
-	fs.Var(f.noiseV, "noise-v", "sample noise SD, V (default: estimated)")
-	fs.Var(f.minSwingV, "min-swing-v", "smallest rise or fall followed, V (default: from the noise and ADC step)")
-	fs.Var(f.gapS, "gap-s", "sample spacing that counts as a gap, s (default: from the spacing)")
+	fs.Var(unitFlag{f.cellTempK}, "cell-temp-k", "cell temperature, K; profile cell.temp_k (default 298.15)")
+	fs.Var(unitFlag{f.fullScaleV}, "full-scale-v", "ADC full scale at the capacitor, V (saturation check); from the profile's vcap channel")
+	fs.Var(unitFlag{f.calOhm}, "cal-ohm", "known resistor of a calibration stretch, Ω; profile calibration.resistor_ohm")
+	fs.Var(unitFlag{f.calStartS}, "cal-start-s", "start of the calibration stretch, s; profile calibration.start_s")
+	fs.Var(unitFlag{f.calEndS}, "cal-end-s", "end of the calibration stretch, s; profile calibration.end_s")
+	fs.Var(unitFlag{f.noiseV}, "noise-v", "sample noise SD, V (default: estimated)")
+	fs.Var(unitFlag{f.minSwingV}, "min-swing-v", "smallest rise or fall followed, V (default: from the noise and ADC step)")
+	fs.Var(unitFlag{f.gapS}, "gap-s", "sample spacing that counts as a gap, s (default: from the spacing)")
 	return fs, f
 }
+
+// unitFlag shows a units.Value in the flag list without a "(default 0 F)" when the
+// default is "not given".
+type unitFlag struct{ v *units.Value }
+
+func (f unitFlag) String() string {
+	if f.v == nil || !f.v.IsSet() {
+		return ""
+	}
+	return f.v.String()
+}
+
+func (f unitFlag) Set(s string) error { return f.v.Set(s) }
 
 func runAnalyze(ctx context.Context, args []string, e *env) error {
 	fs, f := newAnalyzeFlags(e.stderr)

@@ -115,3 +115,21 @@ func pad2(i int) string {
 
 func fmtInt(i int) string       { return strconv.Itoa(i) }
 func fmtFloat(f float64) string { return strconv.FormatFloat(f, 'f', 2, 64) }
+
+// The profile gives the declared values; a flag wins over it.
+func TestAnalyzeProfileAndFlagOverride(t *testing.T) {
+	code, out, errs := runAnalyzeCmd(t, "analyze", wrenCapture, "--profile", "../../testdata/profiles/wren.toml", "--cap", "0.1", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var res analyze.Result
+	if err := json.Unmarshal([]byte(out), &res); err != nil {
+		t.Fatal(err)
+	}
+	if res.Capacitance == nil || res.Capacitance.F.Value != 0.1 || res.Capacitance.F.Origin != "flag" {
+		t.Errorf("capacitance %+v, want the flag's 0.1 F", res.Capacitance)
+	}
+	if res.Declared == nil || res.Declared.OnV == nil || res.Declared.ProbeOhm == nil || res.Source.Profile == "" {
+		t.Errorf("declared %+v, profile %q: the profile's values are missing", res.Declared, res.Source.Profile)
+	}
+}
