@@ -15,7 +15,6 @@ import (
 	"capcycle/analyze"
 	"capcycle/analyze/profile"
 	htmlreport "capcycle/analyze/report"
-	"capcycle/analyze/units"
 	"capcycle/cmd/capcycle/demodata"
 	"capcycle/firmware-protocol/virtualboard"
 	"capcycle/logger"
@@ -194,7 +193,7 @@ func printOutcome(w io.Writer, out *demoOutcome, keep bool) {
 		fmt.Fprintf(w, "  first finding: %s\n", out.finding)
 	}
 	fmt.Fprintf(w, "  %d samples over %s, %d cycles (%d full); recorded in %.1f s, analysed in %.1f s\n",
-		r.Samples, units.Format(r.DurationS, units.Second), len(r.Cycles), full, out.recordS, out.analyseS)
+		r.Samples, demoDuration(r.DurationS), len(r.Cycles), full, out.recordS, out.analyseS)
 	if s := out.summary; s != nil && (s.Stats.Lost > 0 || s.Stats.BadFrames > 0) {
 		fmt.Fprintf(w, "  the recorder lost %d samples and dropped %d bad frames\n", s.Stats.Lost, s.Stats.BadFrames)
 	}
@@ -247,6 +246,9 @@ func demoScenario(ctx context.Context, name string, o *demoOptions, capDir strin
 		out.finding = res.Findings[0].Message
 	}
 	title := fmt.Sprintf("capcycle demo: %s, a day on the windowsill (%s board)", p.Name, o.board)
+	if o.hours != 24 || o.startS != 0 {
+		title = fmt.Sprintf("capcycle demo: %s, %s on the windowsill from %s (%s board)", p.Name, demoDuration(o.hours*3600), o.start, o.board)
+	}
 	out.bundle, err = htmlreport.WriteBundle(o.out, name, res, &htmlreport.Options{Title: title, Overwrite: true})
 	if err != nil {
 		return nil, workErrorf("%s: %w", name, err)
@@ -412,4 +414,12 @@ func clockSeconds(s string) (float64, error) {
 		return 0, fmt.Errorf("%q: want HH:MM (24-hour clock)", s)
 	}
 	return float64(t.Hour()*3600 + t.Minute()*60), nil
+}
+
+// demoDuration prints a span of model time in hours, or minutes below an hour.
+func demoDuration(s float64) string {
+	if s >= 3600 {
+		return fmt.Sprintf("%.3g h", s/3600)
+	}
+	return fmt.Sprintf("%.3g min", s/60)
 }
