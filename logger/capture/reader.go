@@ -315,6 +315,9 @@ func (r *Reader) start() error {
 		if err != nil {
 			return err
 		}
+		if r.line == 1 {
+			l = bytes.TrimPrefix(l, []byte("\xef\xbb\xbf")) // a byte-order mark, as spreadsheets write
+		}
 		if err := r.checkText(l); err != nil {
 			return err
 		}

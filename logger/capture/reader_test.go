@@ -167,6 +167,8 @@ func TestReaderForeign(t *testing.T) {
 			"", "", TimeAuto, []float64{0, 1.5}, []float64{1, 2}},
 		{"columns by index", "a,b,c\n9,0,1.5\n9,1,1.75\n", "2", "3", TimeSeconds,
 			[]float64{0, 1}, []float64{1.5, 1.75}},
+		{"byte-order mark", "\xef\xbb\xbftime_s,vcap_v\n0,1\n1,2\n", "", "", TimeAuto,
+			[]float64{0, 1}, []float64{1, 2}},
 		{"exponents and signs", "time_s,vcap_v\n-1e-3,+2.5E-1\n5e-4,-.5\n", "", "", TimeAuto,
 			[]float64{-1e-3, 5e-4}, []float64{0.25, -0.5}},
 	}
