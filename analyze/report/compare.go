@@ -78,7 +78,7 @@ func compareParams(a, b *analyze.Result, la, lb string) *table {
 			continue
 		}
 		row := []cell{{Text: pa.name}, estCell(pa.fitted, pa.unit), estCell(pb.fitted, pb.unit)}
-		change, judge := cell{Text: "—", Class: "muted"}, cell{Text: "—", Class: "muted"}
+		change, judge := cell{Text: "—", Class: "num muted"}, cell{Text: "—", Class: "muted"}
 		if pa.fitted != nil && pb.fitted != nil {
 			va, vb := pa.fitted.Value, pb.fitted.Value
 			if va != 0 {
@@ -108,7 +108,7 @@ func compareParams(a, b *analyze.Result, la, lb string) *table {
 
 func estCell(e *analyze.Estimate, unit string) cell {
 	if e == nil {
-		return cell{Text: "not determined", Class: "muted"}
+		return cell{Text: "not determined", Class: "num muted"}
 	}
 	return cell{Text: estimate(e, unit), Class: "num"}
 }
@@ -188,7 +188,7 @@ func compareCycles(a, b *analyze.Result, la, lb string) *table {
 	show := func(v, sd float64, ok bool, unit string) cell {
 		switch {
 		case !ok:
-			return cell{Text: "n/a", Class: "muted"}
+			return cell{Text: "n/a", Class: "num muted"}
 		case unit == "":
 			return cell{Text: fmt.Sprint(int(v)), Class: "num"}
 		case sd > 0:
@@ -199,7 +199,7 @@ func compareCycles(a, b *analyze.Result, la, lb string) *table {
 	for _, f := range figs {
 		va, sda, oka := f.va(sa)
 		vb, sdb, okb := f.va(sb)
-		change := cell{Text: "—", Class: "muted"}
+		change := cell{Text: "—", Class: "num muted"}
 		if oka && okb && va != 0 {
 			pct := cleanPct(100 * (vb - va) / va)
 			sign := ""

@@ -2,6 +2,7 @@ package report
 
 import (
 	"html/template"
+	"strings"
 )
 
 // page is everything the template shows.
@@ -76,7 +77,7 @@ func (t *table) NumCol(i int) bool {
 		return false
 	}
 	for _, r := range t.Rows {
-		if i >= len(r) || (r[i].Class != "num" && r[i].Text != "") {
+		if i >= len(r) || (!strings.Contains(r[i].Class, "num") && r[i].Text != "") {
 			return false
 		}
 	}

@@ -88,11 +88,11 @@ func paramSection(r *analyze.Result) *section {
 }
 
 func paramCells(p paramRow) []cell {
-	decl := cell{Text: "not declared", Class: "muted"}
+	decl := cell{Text: "not declared", Class: "num muted"}
 	if p.declared != nil {
 		decl = cell{Text: quantity(*p.declared, p.unit), Class: "num"}
 	}
-	found := cell{Text: "not determined", Class: "muted"}
+	found := cell{Text: "not determined", Class: "num muted"}
 	origin := cell{}
 	if p.fitted != nil {
 		found = cell{Text: estimate(p.fitted, p.unit), Class: "num"}
@@ -101,7 +101,7 @@ func paramCells(p paramRow) []cell {
 		}
 		origin = cell{Text: p.fitted.Origin}
 	}
-	diff, tolC, agree := cell{Text: "—", Class: "muted"}, cell{Text: "—", Class: "muted"}, cell{Text: "—", Class: "muted"}
+	diff, tolC, agree := cell{Text: "—", Class: "num muted"}, cell{Text: "—", Class: "muted"}, cell{Text: "—", Class: "muted"}
 	if p.tolCode != "" {
 		tolC = cell{Text: tolText(p.tolCode)}
 	}
