@@ -236,12 +236,21 @@ func energyFigure(a, b *analyze.Result, la, lb string) (figure, string) {
 	if len(pa.x) == 0 && len(pb.x) == 0 {
 		return figure{}, "Neither capture has cycles with both a charge time and an energy (the energy needs the capacitance)."
 	}
-	_, xmax := rangeOf(pa.x, pb.x)
+	xmin, xmax := rangeOf(pa.x, pb.x)
 	_, ymax := rangeOf(pa.y, pb.y)
 	xd, xu := timeAxis(xmax)
+	// Charge times over a day span decades (dawn against noon): a log axis then.
+	logX := xmin > 0 && xmax/xmin > 20
+	if logX {
+		xd, xu = 1, "s"
+	}
 	yd, yu := siAxis(ymax, "J")
 	p := newPlot("charge time ("+xu+")", "energy per pulse ("+yu+")")
-	p.X.Min, p.Y.Min = 0, 0
+	p.X.Min, p.Y.Min, p.Y.Max = 0, 0, 1.15*ymax/yd
+	if logX {
+		p.X.Min, p.X.Max = xmin/1.15, xmax*1.15
+		p.X.Scale, p.X.Tick.Marker = plot.LogScale{}, ticks125{}
+	}
 	var legend []legendItem
 	if len(pa.x) > 0 {
 		if s, err := scatter(scaled(pa.x, xd), scaled(pa.y, yd), draw.RingGlyph{}, colBlue, 2.4); err == nil {
