@@ -517,8 +517,13 @@ func (b *builder) cell() {
 			cf.VocV = est(d.voc, math.NaN(), "fitted")
 			cf.MppV, cf.MppW = ptr(d.vmp), ptr(d.pmp)
 			if d.partial {
-				cf.IscA.SD, cf.IscA.Lo95, cf.IscA.Hi95 = nil, nil, nil
-				b.note("the cell looks near-ideal (series resistance near 0, shunt near infinite): its curve is traced, but Rs, Rsh, I0 and n are not determined")
+				// The solver stopped short: take Isc, Voc and the maximum power point from
+				// the traced points themselves (see ivEnds).
+				isc, voc, vmp, pmp := ivEnds(w.v, w.i)
+				cf.IscA = est(isc, math.NaN(), "measured")
+				cf.VocV = est(voc, math.NaN(), "measured")
+				cf.MppV, cf.MppW = ptr(vmp), ptr(pmp)
+				b.note("the cell looks near-ideal (series resistance near 0, shunt near infinite): Isc, Voc and the maximum power point come from the traced curve; Rs, Rsh, I0 and n are not determined")
 			} else {
 				cf.I0A = est(d.p.I0, d.sd.I0, "fitted")
 				cf.N = est(d.p.N, d.sd.N, "fitted")
@@ -571,6 +576,59 @@ func (b *builder) cell() {
 		pt.FiresH = b.firesPerHour(rises[k].t, rises[j-1].t)
 		b.res.Light = append(b.res.Light, pt)
 	}
+}
+
+// ivEnds extends a straight line through the first three traced points (in order of
+// voltage) to V = 0 for Isc, finds Voc from the exponential rise of the diode current
+// (a straight line in ln(Isc - I)), and the traced point of most power.
+func ivEnds(v, i []float64) (isc, voc, vmp, pmp float64) {
+	n := len(v)
+	isc, voc = math.NaN(), math.NaN()
+	if n < 3 {
+		return
+	}
+	line := func(a, b int) (slope, at0 float64) {
+		x, y := v[a:b], i[a:b]
+		mx, my := meanOf(x), meanOf(y)
+		var sxy, sxx float64
+		for k := range x {
+			sxy += (x[k] - mx) * (y[k] - my)
+			sxx += (x[k] - mx) * (x[k] - mx)
+		}
+		if sxx == 0 {
+			return math.NaN(), math.NaN()
+		}
+		slope = sxy / sxx
+		return slope, my - slope*mx
+	}
+	_, isc = line(0, 3)
+	// Near-ideal diode: Isc - I = I0 exp(V/a), so ln(Isc - I) is a straight line in V;
+	// Voc is where it reaches ln(Isc). Points where the diode takes over 5 % of Isc.
+	var xs, ys []float64
+	for k := range v {
+		if d := isc - i[k]; d > 0.05*isc {
+			xs = append(xs, v[k])
+			ys = append(ys, math.Log(d))
+		}
+	}
+	if len(xs) >= 3 {
+		mx, my := meanOf(xs), meanOf(ys)
+		var sxy, sxx float64
+		for k := range xs {
+			sxy += (xs[k] - mx) * (ys[k] - my)
+			sxx += (xs[k] - mx) * (xs[k] - mx)
+		}
+		if sxx > 0 && sxy > 0 {
+			slope := sxy / sxx
+			voc = mx + (math.Log(isc)-my)/slope
+		}
+	}
+	for k := range v {
+		if p := v[k] * i[k]; p > pmp {
+			vmp, pmp = v[k], p
+		}
+	}
+	return
 }
 
 // firesPerHour counts full fires in [t0 - 1800, t1 + 1800] s, per hour of capture there.
