@@ -10,6 +10,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"testing"
 	"time"
@@ -56,16 +57,20 @@ func shotDir(t *testing.T) string {
 
 // runChromium opens page (a file path) headless and returns what it saw.
 func runChromium(t *testing.T, bin, page, shot string) browserRun {
+	return runChromiumSize(t, bin, page, shot, shotW, shotH)
+}
+
+func runChromiumSize(t *testing.T, bin, page, shot string, w, h int) browserRun {
 	t.Helper()
 	tmp := t.TempDir()
 	netlog := filepath.Join(tmp, "net.json")
 	ctx, cancel := context.WithTimeout(context.Background(), 2*time.Minute)
 	defer cancel()
 	cmd := exec.CommandContext(ctx, bin,
-		"--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+		"--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run", "--hide-scrollbars",
 		"--disable-background-networking", "--disable-component-update", "--disable-sync",
 		"--user-data-dir="+filepath.Join(tmp, "profile"),
-		"--screenshot="+shot, fmt.Sprintf("--window-size=%d,%d", shotW, shotH),
+		"--screenshot="+shot, fmt.Sprintf("--window-size=%d,%d", w, h),
 		"--enable-logging=stderr", "--v=0",
 		"--log-net-log="+netlog,
 		// Nothing may resolve: a page that tried the network shows in the net log.
@@ -232,40 +237,94 @@ func TestBrowserRendersReports(t *testing.T) {
 	}
 }
 
-// TestBrowserPrints prints the day-long report to PDF in headless Chromium and checks
-// the print layout: every section starts its own page, so there are at least as many
-// pages as sections, and no more than a few per section (a runaway layout would spill).
+// TestBrowserPrints prints the day-long report to PDF in headless Chromium on Letter and
+// on A4 paper and checks the print layout: the PDF has the paper's size, and every
+// section starts its own page, so there are at least as many pages as sections, and no
+// more than two per section (a runaway layout would spill).
 func TestBrowserPrints(t *testing.T) {
+	bin := chromiumPath(t)
+	dir := shotDir(t)
+	html := renderPage(t, wrenOnce(), nil)
+	papers := []struct {
+		name, css, mediaBox string
+	}{
+		{"letter", "", "/MediaBox [0 0 612 792]"},
+		// The report leaves the size to the printer; a user's A4 choice is simulated
+		// by the one rule a print dialog would apply.
+		{"a4", "<style>@page { size: A4; }</style>", "/MediaBox [0 0 594.95996 841.91998]"}, // 210 × 297 mm in points, as Chromium rounds them
+	}
+	for _, paper := range papers {
+		t.Run(paper.name, func(t *testing.T) {
+			t.Parallel()
+			page := filepath.Join(dir, "wren-print-"+paper.name+".html")
+			doc := bytes.Replace(html, []byte("</head>"), []byte(paper.css+"</head>"), 1)
+			if err := os.WriteFile(page, doc, 0o644); err != nil {
+				t.Fatal(err)
+			}
+			pdf := filepath.Join(dir, "wren-"+paper.name+".pdf")
+			os.Remove(pdf)
+			ctx, cancel := context.WithTimeout(context.Background(), 2*time.Minute)
+			defer cancel()
+			cmd := exec.CommandContext(ctx, bin, "--headless", "--no-sandbox", "--disable-gpu", "--no-first-run",
+				"--disable-background-networking", "--disable-component-update", "--disable-sync",
+				"--user-data-dir="+filepath.Join(t.TempDir(), "profile"), "--host-resolver-rules=MAP * ~NOTFOUND",
+				"--no-pdf-header-footer", "--print-to-pdf="+pdf, "file://"+page)
+			cmd.Env = append(os.Environ(), "DBUS_SESSION_BUS_ADDRESS=unix:path=/nonexistent")
+			if out, err := cmd.CombinedOutput(); err != nil {
+				t.Fatalf("chromium --print-to-pdf: %v\n%s", err, tail(string(out), 2000))
+			}
+			raw, err := os.ReadFile(pdf)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !bytes.HasPrefix(raw, []byte("%PDF-")) {
+				t.Fatal("not a PDF")
+			}
+			pages := len(pdfPage.FindAll(raw, -1))
+			boxes := bytes.Count(raw, []byte(paper.mediaBox))
+			t.Logf("%s: %d pages, %d of them %s", pdf, pages, boxes, paper.mediaBox)
+			if pages < len(sectionIDs) || pages > 2*len(sectionIDs) {
+				t.Errorf("%d printed pages for %d sections", pages, len(sectionIDs))
+			}
+			if boxes != pages {
+				t.Errorf("%d of %d pages have the paper size %s", boxes, pages, paper.mediaBox)
+			}
+		})
+	}
+}
+
+// pdfPage matches a page object's type entry (and not the page tree's "/Type /Pages").
+var pdfPage = regexp.MustCompile(`/Type\s*/Page\b[^s]`)
+
+// TestBrowserNarrowNoOverflow renders the day-long report in a window as narrow as an A4
+// page (794 px at 96 px per inch) and checks that nothing runs off the right side: the
+// page's right padding must stay free of ink from top to bottom.
+func TestBrowserNarrowNoOverflow(t *testing.T) {
 	bin := chromiumPath(t)
 	t.Parallel()
 	dir := shotDir(t)
-	page := filepath.Join(dir, "wren-print.html")
+	page := filepath.Join(dir, "wren-narrow.html")
 	if err := os.WriteFile(page, renderPage(t, wrenOnce(), nil), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	pdf := filepath.Join(dir, "wren.pdf")
-	os.Remove(pdf)
-	ctx, cancel := context.WithTimeout(context.Background(), 2*time.Minute)
-	defer cancel()
-	cmd := exec.CommandContext(ctx, bin, "--headless", "--no-sandbox", "--disable-gpu", "--no-first-run",
-		"--disable-background-networking", "--disable-component-update", "--disable-sync",
-		"--user-data-dir="+filepath.Join(t.TempDir(), "profile"), "--host-resolver-rules=MAP * ~NOTFOUND",
-		"--no-pdf-header-footer", "--print-to-pdf="+pdf, "file://"+page)
-	cmd.Env = append(os.Environ(), "DBUS_SESSION_BUS_ADDRESS=unix:path=/nonexistent")
-	if out, err := cmd.CombinedOutput(); err != nil {
-		t.Fatalf("chromium --print-to-pdf: %v\n%s", err, tail(string(out), 2000))
-	}
-	raw, err := os.ReadFile(pdf)
+	const w, h = 794, 6000
+	run := runChromiumSize(t, bin, page, filepath.Join(dir, "wren-narrow.png"), w, h)
+	img, err := png.Decode(bytes.NewReader(run.png))
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !bytes.HasPrefix(raw, []byte("%PDF-")) {
-		t.Fatal("not a PDF")
+	// The sheet's padding is 1.6 rem (about 25 px); look at the outer 12 px, below the
+	// accent bar that tops the sheet edge to edge (30 px).
+	var ink int
+	for y := 40; y < img.Bounds().Dy(); y++ {
+		for x := w - 12; x < w; x++ {
+			r, g, b, _ := img.At(x, y).RGBA()
+			if r>>8 < 160 && g>>8 < 160 && b>>8 < 160 {
+				ink++
+			}
+		}
 	}
-	pages := bytes.Count(raw, []byte("/Type /Page\n")) + bytes.Count(raw, []byte("/Type /Page\r")) +
-		bytes.Count(raw, []byte("/Type /Page/")) + bytes.Count(raw, []byte("/Type /Page>")) + bytes.Count(raw, []byte("/Type /Page "))
-	t.Logf("%s: %d pages", pdf, pages)
-	if pages < len(sectionIDs) || pages > 2*len(sectionIDs) {
-		t.Errorf("%d printed pages for %d sections", pages, len(sectionIDs))
+	if ink > 0 {
+		t.Errorf("%d dark pixels in the right margin of a 794 px wide window: something overflows", ink)
 	}
 }
