@@ -115,43 +115,12 @@ func (d *diag) onV() (float64, string) {
 	return math.NaN(), ""
 }
 
-// MeasuredLight estimates the irradiance the capture was taken under, W/m², for the
-// circuit c: from the median short-circuit current of the cycles' charges, or, when the
-// circuit never fired, from the irradiance at which c settles at the measured equilibrium
-// voltage. It returns 0 when neither is known.
-func MeasuredLight(r *analyze.Result, c *model.Circuit) float64 {
-	var iscs []float64
-	for _, cy := range r.Cycles {
-		if cy.Kind == "full" && cy.LightA != nil && *cy.LightA > 0 {
-			iscs = append(iscs, *cy.LightA)
-		}
-	}
-	if len(iscs) > 0 {
-		sort.Float64s(iscs)
-		return predict.IrradianceFor(c, iscs[len(iscs)/2])
-	}
-	if r.EquilibriumV != nil && r.EquilibriumV.Value > 0 {
-		return lightForEquilibrium(c, r.EquilibriumV.Value)
-	}
-	return 0
-}
+// MeasuredLight estimates the irradiance a capture was taken under (see
+// predict.MeasuredLight).
+func MeasuredLight(r *analyze.Result, c *model.Circuit) float64 { return predict.MeasuredLight(r, c) }
 
-// lightForEquilibrium finds the irradiance at which c settles at veq (bisection on a log
-// scale between 1e-3 and 1e4 W/m²), or 0 if none does.
 func lightForEquilibrium(c *model.Circuit, veq float64) float64 {
-	lo, hi := math.Log(1e-3), math.Log(1e4)
-	if predict.EquilibriumV(c, math.Exp(hi)) < veq || predict.EquilibriumV(c, math.Exp(lo)) > veq {
-		return 0
-	}
-	for i := 0; i < 80; i++ {
-		m := 0.5 * (lo + hi)
-		if predict.EquilibriumV(c, math.Exp(m)) < veq {
-			lo = m
-		} else {
-			hi = m
-		}
-	}
-	return math.Exp(0.5 * (lo + hi))
+	return predict.LightForEquilibrium(c, veq)
 }
 
 func fmtV(v float64) string { return units.Format(v, "V") }

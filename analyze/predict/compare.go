@@ -2,6 +2,7 @@ package predict
 
 import (
 	"math"
+	"sort"
 
 	"capcycle/analyze"
 	"capcycle/analyze/model"
@@ -38,11 +39,10 @@ func Fitted(nominal *model.Circuit, r *analyze.Result) (*model.Circuit, []string
 			c.Trigger.OffV, c.Trigger.OnV = nominal.Trigger.OffV, nominal.Trigger.OnV
 		}
 	case model.TriggerHold:
-		// The supervisor watches the hold capacitor, one diode drop below the node.
+		// The supervisor watches the hold capacitor, one diode drop below the node; its
+		// release stays its own hysteresis below its threshold.
 		set("trigger.on_v", &c.Trigger.OnV, ft.OnV, func(v float64) float64 { return v - c.Trigger.DiodeV })
-		if c.Trigger.OffV >= c.Trigger.OnV {
-			c.Trigger.OffV = c.Trigger.OnV - (nominal.Trigger.OnV - nominal.Trigger.OffV)
-		}
+		c.Trigger.OffV = c.Trigger.OnV - (nominal.Trigger.OnV - nominal.Trigger.OffV)
 	case model.TriggerTimer:
 		set("trigger.period_s", &c.Trigger.PeriodS, ft.PeriodS, nil)
 		set("trigger.pulse_s", &c.Trigger.PulseS, ft.PulseS, nil)
@@ -80,7 +80,90 @@ func Fitted(nominal *model.Circuit, r *analyze.Result) (*model.Circuit, []string
 			replaced = append(replaced, "cell")
 		}
 	}
+	if c.Trigger.Kind == model.TriggerHold && c.Trigger.HoldF > 0 {
+		if fitHold(&c, r) {
+			replaced = append(replaced, "trigger.hold_f")
+		}
+	}
 	return &c, replaced
+}
+
+// fitHold scales the hold capacitance of a hold trigger so that the steady pulse at the
+// capture's typical light matches the measured median pulse: the hold time C_hold·ΔV/I_q
+// is what the pulses measure, and of its three parts the capacitance is the one least well
+// known (a few microfarads of electrolytic, ±20 % and more). It reports whether it did.
+func fitHold(c *model.Circuit, r *analyze.Result) bool {
+	var pulses []float64
+	for _, cy := range r.Cycles {
+		if cy.Kind == "full" && cy.PulseS > 0 {
+			pulses = append(pulses, cy.PulseS)
+		}
+	}
+	g := MeasuredLight(r, c)
+	if len(pulses) < 3 || !(g > 0) {
+		return false
+	}
+	want := median(pulses)
+	for range 4 { // the pulse is nearly proportional to C_hold; a few rounds converge
+		f, err := Steady(c, g, nil)
+		if err != nil || !f.Fires || !(f.PulseS > 0) {
+			return false
+		}
+		ratio := want / f.PulseS
+		if math.Abs(ratio-1) < 1e-3 {
+			break
+		}
+		c.Trigger.HoldF *= ratio
+	}
+	return true
+}
+
+// MeasuredLight estimates the irradiance a capture was taken under, W/m², for the circuit
+// c: from the median short-circuit current of the cycles' charges, or, when the circuit
+// never fired, from the irradiance at which c settles at the measured equilibrium voltage.
+// It returns 0 when neither is known.
+func MeasuredLight(r *analyze.Result, c *model.Circuit) float64 {
+	var iscs []float64
+	for _, cy := range r.Cycles {
+		if cy.Kind == "full" && cy.LightA != nil && *cy.LightA > 0 {
+			iscs = append(iscs, *cy.LightA)
+		}
+	}
+	if len(iscs) > 0 {
+		return IrradianceFor(c, median(iscs))
+	}
+	if r.EquilibriumV != nil && r.EquilibriumV.Value > 0 {
+		return LightForEquilibrium(c, r.EquilibriumV.Value)
+	}
+	return 0
+}
+
+// LightForEquilibrium finds the irradiance at which c settles at veq (bisection on a log
+// scale between 1e-3 and 1e4 W/m²), or 0 if none does.
+func LightForEquilibrium(c *model.Circuit, veq float64) float64 {
+	lo, hi := math.Log(1e-3), math.Log(1e4)
+	if EquilibriumV(c, math.Exp(hi)) < veq || EquilibriumV(c, math.Exp(lo)) > veq {
+		return 0
+	}
+	for range 80 {
+		m := 0.5 * (lo + hi)
+		if EquilibriumV(c, math.Exp(m)) < veq {
+			lo = m
+		} else {
+			hi = m
+		}
+	}
+	return math.Exp(0.5 * (lo + hi))
+}
+
+func median(x []float64) float64 {
+	s := append([]float64(nil), x...)
+	sort.Float64s(s)
+	n := len(s)
+	if n%2 == 1 {
+		return s[n/2]
+	}
+	return 0.5 * (s[n/2-1] + s[n/2])
 }
 
 // cache memoises Steady by light level: measured cycles at nearly the same light share one

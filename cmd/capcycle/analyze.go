@@ -151,6 +151,7 @@ func runAnalyze(ctx context.Context, args []string, e *env) error {
 	fs.Visit(func(fl *flag.Flag) { set[fl.Name] = true })
 
 	opts := &analyze.Options{Path: file}
+	var prof *profile.Profile
 	if f.profile != "" {
 		p, err := profile.Load(f.profile)
 		if err != nil {
@@ -158,8 +159,10 @@ func runAnalyze(ctx context.Context, args []string, e *env) error {
 		}
 		fromProfile(opts, p)
 		opts.Profile = p.Name
+		prof = p
 	}
 	f.apply(opts, set)
+	opts.Post = laterStages(prof, opts, file, f.reader)
 
 	in, err := os.Open(file)
 	if err != nil {
