@@ -303,3 +303,24 @@ func TestCodesDocumented(t *testing.T) {
 		}
 	}
 }
+
+// Behind a window the light changes all day and the voltage never levels off: the finding
+// then works from the highest voltage reached, at the brightest light.
+func TestNeverReachesTriggerFromPeak(t *testing.T) {
+	p := loadProfile(t, "fern.toml")
+	c := circuit(t, p)
+	const g = 60.0
+	peak := predict.EquilibriumV(c, g)
+	r := &analyze.Result{Schema: analyze.Schema, Samples: 1000, DurationS: 86400,
+		Envelope: []analyze.EnvelopePt{{TS: 0, MinV: 0, MaxV: peak}}}
+	f := find(Diagnose(&Input{Result: r, Nominal: c, Fitted: c, Profile: p}), CodeNeverFires)
+	if f == nil {
+		t.Fatal("no never-reaches-trigger finding")
+	}
+	if f.Numbers["peak_v"] != peak || math.Abs(f.Numbers["light_wm2"]-g)/g > 1e-3 {
+		t.Errorf("numbers %+v, want peak %.4f V at %.0f W/m²", f.Numbers, peak, g)
+	}
+	if !(f.Numbers["light_factor"] > 1) || f.Numbers["lower_on_v"] >= peak {
+		t.Errorf("suggestions missing: %+v", f.Numbers)
+	}
+}

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"strings"
 
 	"capcycle/analyze/model"
 	"capcycle/analyze/predict"
@@ -108,25 +109,35 @@ func (d *diag) notFiring() {
 			map[string]float64{"max_v": maxV, "on_v": on})
 		return
 	}
+	// Where it settles: the extrapolated equilibrium, or, when the light kept changing and
+	// the voltage never levelled off (a day behind a window), the highest voltage reached,
+	// which is a lower bound on the equilibrium at the brightest light of the capture.
 	eq := d.r.EquilibriumV
-	if eq == nil {
-		if !math.IsNaN(on) && maxV > 0 && maxV < on {
-			d.add(CodeNeverFires, "fault",
-				fmt.Sprintf("The voltage never reached the %s trigger (highest %s) and its settling point could not be determined.", fmtV(on), fmtV(maxV)),
-				"Record longer, until the voltage levels off, so the equilibrium and the drains can be measured.",
-				map[string]float64{"max_v": maxV, "on_v": on})
-		}
+	var veq float64
+	peak := eq == nil
+	switch {
+	case eq != nil:
+		veq = eq.Value
+	case !math.IsNaN(on) && maxV > 0 && maxV < on:
+		veq = maxV
+	default:
 		return
 	}
-	veq := eq.Value
 	if math.IsNaN(on) || veq >= on {
 		return
 	}
+	if peak && d.c != nil && d.in.LightWm2 <= 0 {
+		d.g = lightForEquilibrium(d.c, veq)
+	}
 	nums := map[string]float64{"equilibrium_v": veq, "on_v": on, "short_v": on - veq}
-	if eq.SD != nil {
+	msg := fmt.Sprintf("The voltage settles at %s, %s below the %s trigger, where the cell's current equals the drains.", fmtV(veq), fmtV(on-veq), fmtV(on))
+	if peak {
+		delete(nums, "equilibrium_v")
+		nums["peak_v"] = veq
+		msg = fmt.Sprintf("The voltage never reached the %s trigger: it peaked at %s, %s short, in the brightest light of the capture, where the cell's current fell to the drains.", fmtV(on), fmtV(veq), fmtV(on-veq))
+	} else if eq.SD != nil {
 		nums["equilibrium_sd_v"] = *eq.SD
 	}
-	msg := fmt.Sprintf("The voltage settles at %s, %s below the %s trigger, where the cell's current equals the drains.", fmtV(veq), fmtV(on-veq), fmtV(on))
 	sugg := "Give it more light, less drain or a lower trigger."
 	c := d.c
 	if c != nil && d.g > 0 {
@@ -150,35 +161,37 @@ func (d *diag) notFiring() {
 		}
 		nums["largest_share"] = share
 		msg += fmt.Sprintf(" Of the %s drain there, %s takes %.0f %%.", units.Format(total, "A"), largest, 100*share)
-		// More light.
+		// Each remedy on its own, with the model's prediction of the cycle it gives.
+		var opts []string
 		if gNeed := lightForEquilibrium(c, thr); gNeed > 0 {
 			nums["light_factor"] = gNeed / d.g
 			if f, ok := steadyWith(c, gNeed, func(*model.Circuit) {}); ok && f.Fires {
 				nums["period_with_light_s"] = f.PeriodS
-				sugg = fmt.Sprintf("%.2g× the light (a brighter sill or a larger cell) would make it fire, once every %s;", gNeed/d.g, fmtS(f.PeriodS))
+				opts = append(opts, fmt.Sprintf("%.2g× the light (a brighter sill or a larger cell), firing once every %s", gNeed/d.g, fmtS(f.PeriodS)))
 			} else {
-				sugg = fmt.Sprintf("%.2g× the light would bring it to the trigger;", gNeed/d.g)
+				opts = append(opts, fmt.Sprintf("%.2g× the light, which brings it to the trigger", gNeed/d.g))
 			}
 		}
 		// Less drain: the cell's current at the threshold against the drains there.
 		icell := c.Cell.Current(thr, d.g)
 		drainThr := predict.DrainA(c, thr)
 		nums["cell_at_trigger_a"], nums["drain_at_trigger_a"] = icell, drainThr
-		if icell > 0 && drainThr > icell {
+		switch {
+		case icell > 0 && drainThr > icell:
 			cut := 1 - icell/drainThr
 			nums["drain_cut"] = cut
-			sugg += fmt.Sprintf(" or %.0f %% less drain at the trigger (the cell gives %s there, the drains take %s)", 100*cut, units.Format(icell, "A"), units.Format(drainThr, "A"))
+			o := fmt.Sprintf("%.0f %% less drain at the trigger (the cell gives %s there, the drains take %s)", 100*cut, units.Format(icell, "A"), units.Format(drainThr, "A"))
 			if largest == "the probe divider" {
 				if f, ok := steadyWith(c, d.g, func(cc *model.Circuit) { cc.ProbeOhm *= 10 }); ok && f.Fires {
 					nums["period_probe_x10_s"] = f.PeriodS
-					sugg += fmt.Sprintf("; a probe divider of ten times the resistance alone would let it fire every %s", fmtS(f.PeriodS))
+					o += fmt.Sprintf(", e.g. a probe divider of ten times the resistance, firing every %s", fmtS(f.PeriodS))
 				}
 			}
-			sugg += ";"
-		} else if icell <= 0 {
-			sugg += " (at this light the cell cannot reach the trigger voltage at all, whatever the drain);"
+			opts = append(opts, o)
+		case icell <= 0:
+			msg += fmt.Sprintf(" At this light the cell cannot reach %s at all, whatever the drain.", fmtV(thr))
 		}
-		// Lower trigger: 5 % below the equilibrium.
+		// Lower trigger: 5 % below where it settles.
 		newOn := 0.95 * veq
 		f, ok := steadyWith(c, d.g, func(cc *model.Circuit) {
 			switch cc.Trigger.Kind {
@@ -195,13 +208,18 @@ func (d *diag) notFiring() {
 			}
 		})
 		nums["lower_on_v"] = newOn
+		where := "the equilibrium"
+		if peak {
+			where = "the peak"
+		}
 		if ok && f.Fires {
 			nums["period_lower_on_s"] = f.PeriodS
 			nums["energy_lower_on_j"] = f.EnergyJ
-			sugg += fmt.Sprintf(" or a trigger at %s (5 %% below the equilibrium), which would fire every %s with %s per pulse.", fmtV(newOn), fmtS(f.PeriodS), units.Format(f.EnergyJ, "J"))
+			opts = append(opts, fmt.Sprintf("a trigger at %s (5 %% below %s), firing every %s with %s per pulse", fmtV(newOn), where, fmtS(f.PeriodS), units.Format(f.EnergyJ, "J")))
 		} else {
-			sugg += fmt.Sprintf(" or a trigger at %s.", fmtV(newOn))
+			opts = append(opts, fmt.Sprintf("a trigger at %s (5 %% below %s)", fmtV(newOn), where))
 		}
+		sugg = "Any one of these would make it fire (model): " + strings.Join(opts, "; ") + "."
 	}
 	d.add(CodeNeverFires, "fault", msg, sugg, nums)
 }
@@ -386,6 +404,16 @@ func (d *diag) drains() {
 			nums["period_probe_x10_s"] = f.PeriodS
 			msg += " The measurement itself keeps the circuit from firing."
 			sugg += fmt.Sprintf(" With ten times the resistance the model predicts a fire every %s.", fmtS(f.PeriodS))
+		case ok1 && ok2 && !base.Fires && !f.Fires:
+			// Neither fires: how far the probe pulls the settling voltage down.
+			shift := f.EquilibriumV - base.EquilibriumV
+			nums["equilibrium_v"], nums["equilibrium_probe_x10_v"] = base.EquilibriumV, f.EquilibriumV
+			if shift < 0.01*base.EquilibriumV {
+				sev = "info"
+				msg += fmt.Sprintf(" It lowers the settling voltage by only %s (model), so it is not why the circuit stalls.", fmtV(shift))
+			} else {
+				msg += fmt.Sprintf(" It holds the settling voltage %s lower (model).", fmtV(shift))
+			}
 		default:
 			msg += " The measurement changes the circuit."
 		}

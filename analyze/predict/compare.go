@@ -50,10 +50,9 @@ func Fitted(nominal *model.Circuit, r *analyze.Result) (*model.Circuit, []string
 	if c.Load.Kind == model.LoadResistor {
 		set("load.ohm", &c.Load.Ohm, r.Fit.Load.Ohm, nil)
 	}
-	set("leak.ohm", &c.Storage.LeakOhm, r.Fit.Leak.Ohm, nil)
-	if q := r.Fit.Leak.QuiescentA; q != nil && q.Value >= 0 && !math.IsInf(q.Value, 0) {
-		c.Supervisor.QuiescentA = q.Value
-		replaced = append(replaced, "supervisor.quiescent_a")
+	if lk, ok := fittedLeak(&c, r); ok {
+		c.Storage.LeakOhm = lk
+		replaced = append(replaced, "leak.ohm")
 	}
 	cf := r.Fit.Cell
 	if cf.I0A != nil && cf.N != nil && cf.IscA != nil {
@@ -86,6 +85,39 @@ func Fitted(nominal *model.Circuit, r *analyze.Result) (*model.Circuit, []string
 		}
 	}
 	return &c, replaced
+}
+
+// fittedLeak turns the analysis's dark drain into the capacitor's own leakage resistance.
+// The dark decay measures every drain on the node together, less the probe: the
+// capacitor's leakage, the supervisor's quiescent current and, without a blocking diode, the
+// cell's own dark current through its diode and shunt. The model has the last two as parts
+// of their own, so their conductance at the decay's typical voltage is subtracted; what is
+// left is the leakage. A drain fully explained by the other parts leaves no leakage (0).
+func fittedLeak(c *model.Circuit, r *analyze.Result) (float64, bool) {
+	lk := r.Fit.Leak
+	if lk.Ohm == nil || !(lk.Ohm.Value > 0) || math.IsInf(lk.Ohm.Value, 0) {
+		return 0, false
+	}
+	v := 0.5 * c.Trigger.OnV
+	if tr := r.LeakTrace; tr != nil && len(tr.V) > 0 {
+		var sum float64
+		for _, x := range tr.V {
+			sum += x
+		}
+		v = sum / float64(len(tr.V))
+	}
+	if !(v > 0) {
+		return 0, false
+	}
+	g := 1 / lk.Ohm.Value
+	if q := lk.QuiescentA; q != nil && q.Value > 0 {
+		g += q.Value / v
+	}
+	other := QuiescentA(c, v)/v - c.Cell.Current(v, 0)/v
+	if rest := g - other; rest > 0 {
+		return 1 / rest, true
+	}
+	return 0, true
 }
 
 // fitHold scales the hold capacitance of a hold trigger so that the steady pulse at the
