@@ -15,7 +15,6 @@ type collector struct {
 	det   *detect.Detector
 	info  []swingInfo
 	decay []keptSwing // the longest falls, for the leak fit's plot
-	last  keptSwing   // the last rise, kept in full for the equilibrium fit
 	ts    []float64
 	vs    []float64
 	falls int
@@ -23,6 +22,13 @@ type collector struct {
 	widest     int
 	widestSpan float64
 	widestIV   []ivPt
+	ivBuf      ivBuffers
+}
+
+// ivBuffers are traceIV's scratch slices, reused from rise to rise.
+type ivBuffers struct {
+	out  []ivPt
+	t, v []float64
 }
 
 // fitThisFall says whether the fall gets its own exponential fit: every long one (a
@@ -95,7 +101,13 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 		c.keepDecay(i, s, pts)
 		return
 	}
-	iv := traceIV(pts, s)
+	// All the points only for a rise that may be the widest in voltage (for the diode
+	// fit); a few for the others (their light level).
+	k := ivPerRise
+	if len(pts) > 0 && pts[len(pts)-1].V-pts[0].V <= c.widestSpan {
+		k = ivPerRise / 4
+	}
+	iv := traceIV(pts, s, k, &c.ivBuf)
 	if len(iv) > 0 {
 		span := iv[len(iv)-1].v - iv[0].v
 		if span > c.widestSpan {
@@ -105,7 +117,8 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 			c.widestIV = append(c.widestIV[:0], iv...)
 		}
 	}
-	for k := 0; k < len(iv); k += 4 {
+	step := max(1, len(iv)/(ivPerRise/4))
+	for k := 0; k < len(iv); k += step {
 		inf.iv = append(inf.iv, iv[k])
 	}
 	if s.Open || s.FlatS > 0.2*s.DurationS() {
@@ -116,7 +129,6 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 		}
 		inf.exp = fitExp(c.ts, c.vs, noise/math.Sqrt(meanN(pts)))
 	}
-	c.last = keptSwing{index: i, dur: s.DurationS(), pts: append(c.last.pts[:0], pts...)}
 }
 
 func meanN(pts []detect.Point) float64 {
@@ -168,21 +180,21 @@ func compact(pts []detect.Point, n int) []tvPt {
 	return out
 }
 
-// traceIV evaluates the slope of a rise at up to ivPerRise voltages spread evenly over
+// traceIV evaluates the slope of a rise at up to want voltages spread evenly over
 // its range (so the I-V curve is covered where the voltage moves fast and where it
 // crawls alike), each from a local quadratic least-squares fit (Savitzky-Golay on the
 // non-uniform points) over the neighbouring points.
-func traceIV(pts []detect.Point, s *detect.Swing) []ivPt {
+func traceIV(pts []detect.Point, s *detect.Swing, want int, buf *ivBuffers) []ivPt {
 	n := len(pts)
 	if n < 5 {
 		return nil
 	}
-	k := min(ivPerRise, n/3)
-	half := max(2, n/(4*k))
+	k := min(want, n/3)
+	half := max(2, n/(4*ivPerRise)) // the same window whatever the number of points
 	lo, hi := pts[0].V, pts[n-1].V
-	var out []ivPt
-	ts := make([]float64, 0, 2*half+1)
-	vs := make([]float64, 0, 2*half+1)
+	out := buf.out[:0]
+	ts, vs := buf.t[:0], buf.v[:0]
+	defer func() { buf.out, buf.t, buf.v = out, ts, vs }()
 	c := 0
 	last := -1
 	for j := 0; j < k; j++ {

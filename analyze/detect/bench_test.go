@@ -7,10 +7,10 @@ import (
 	"capcycle/analyze/detect/detecttest"
 )
 
-// BenchmarkDetector pushes a 10-minute rover trace at 100 Hz (2 mV noise, 12 bits) in
+// BenchmarkDetector pushes an hour-long rover trace at 100 Hz (2 mV noise, 12 bits) in
 // 64k-sample batches; ns/sample is the detector's own cost per sample.
 func BenchmarkDetector(b *testing.B) {
-	ts, vs, _ := detecttest.Generate(wren, []detecttest.Light{{FromS: 0, IA: 0.6e-3}}, 600, detecttest.Sampling{DtS: 0.01},
+	ts, vs, _ := detecttest.Generate(wren, []detecttest.Light{{FromS: 0, IA: 0.6e-3}}, 3600, detecttest.Sampling{DtS: 0.01},
 		detecttest.ADC{NoiseV: 2e-3, Bits: 12, FullV: 5, Seed: 1})
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {

@@ -109,6 +109,7 @@ type Detector struct {
 	gapS     float64
 	dtTyp    float64
 	nblk     int
+	skip     int
 
 	// saturation and gaps
 	satOn    bool
@@ -123,6 +124,7 @@ type Detector struct {
 	lo, hi     sample
 	last, ext  sample
 	seg, tail  decim
+	tmp        decim // scratch for revert
 	prov       bool
 	provSwing  Swing
 	provSeg    decim
@@ -320,33 +322,39 @@ func (d *Detector) noise(t, v float64) {
 	if d.cfg.NoiseV > 0 {
 		return
 	}
+	// Every fourth block of samples, and after the first 64 estimates every sixteenth,
+	// is plenty for a robust running estimate; the others are only counted.
+	every := 4
+	if len(d.sds) > 64 {
+		every = 16
+	}
+	if d.nblk%every != 0 {
+		d.skip++
+		if d.skip == noiseBlock {
+			d.skip = 0
+			d.nblk++
+		}
+		return
+	}
 	d.blk = append(d.blk, v)
 	d.blkT = append(d.blkT, t)
 	if len(d.blk) < noiseBlock {
 		return
 	}
 	d.nblk++
-	// Every fourth block, and after the first 64 estimates every sixteenth, is plenty for
-	// a robust running estimate.
-	every := 4
-	if len(d.sds) > 64 {
-		every = 16
-	}
-	if d.nblk%every == 1 {
-		sd := NoiseSD(d.blkT, d.blk, d.scratch)
-		d.sds = append(d.sds, sd)
-		if len(d.sds) > 2048 {
-			k := 0
-			for i := 0; i < len(d.sds); i += 2 {
-				d.sds[k] = d.sds[i]
-				k++
-			}
-			d.sds = d.sds[:k]
+	sd := NoiseSD(d.blkT, d.blk, d.scratch)
+	d.sds = append(d.sds, sd)
+	if len(d.sds) > 2048 {
+		k := 0
+		for i := 0; i < len(d.sds); i += 2 {
+			d.sds[k] = d.sds[i]
+			k++
 		}
-		tmp := append(d.scratch[:0], d.sds...)
-		d.sd = medianInPlace(tmp)
-		d.setSwingMin()
+		d.sds = d.sds[:k]
 	}
+	tmp := append(d.scratch[:0], d.sds...)
+	d.sd = medianInPlace(tmp)
+	d.setSwingMin()
 	d.blk, d.blkT = d.blk[:0], d.blkT[:0]
 }
 

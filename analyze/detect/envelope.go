@@ -37,6 +37,17 @@ func (e *Envelope) Add(t, v []float64) {
 				e.width = (t[len(t)-1] - t[0]) / float64(len(t)) * 4
 			}
 		}
+		if n := len(e.bins); n > 0 && t[i] >= e.bins[n-1].StartS && t[i] < e.bins[n-1].EndS {
+			// the common case: still in the last bin
+			b := &e.bins[n-1]
+			if !(v[i] >= b.MinV) {
+				b.MinV = v[i]
+			}
+			if !(v[i] <= b.MaxV) {
+				b.MaxV = v[i]
+			}
+			continue
+		}
 		k := int((t[i] - e.t0) / e.width)
 		for k >= e.limit {
 			e.merge()

@@ -83,7 +83,7 @@ func (d *Detector) turn(s sample) {
 		d.provTrough = d.ext
 		d.seg, d.provSeg = d.provSeg, d.seg
 	} else {
-		d.emit(&sw, &d.seg)
+		d.emit(&sw, d.ptsBuf) // makeSwing left d.seg's points there
 	}
 	if d.mode > 0 {
 		d.before = d.levelBefore()
@@ -153,20 +153,24 @@ func (d *Detector) levelBefore() float64 {
 
 // confirm emits the provisional fall, with the level the rise after it starts from.
 func (d *Detector) confirm() {
-	d.ptsBuf = d.seg.points(d.ptsBuf)
 	n := 0
-	for _, p := range d.ptsBuf {
+	for _, p := range d.seg.pts {
 		if n == levelN {
 			break
 		}
 		d.levelBuf[n] = p.V
 		n++
 	}
+	if n < levelN && d.seg.accN > 0 {
+		d.levelBuf[n] = d.seg.accV / float64(d.seg.accN)
+		n++
+	}
 	if n >= 3 {
 		d.provSwing.LevelAfterV = medianInPlace(d.levelBuf[:n])
 	}
 	d.prov = false
-	d.emit(&d.provSwing, &d.provSeg)
+	d.ptsBuf = d.provSeg.points(d.ptsBuf)
+	d.emit(&d.provSwing, d.ptsBuf)
 	d.provSeg.reset()
 }
 
@@ -179,11 +183,14 @@ func (d *Detector) revert(s sample) {
 	d.seg, d.provSeg = d.provSeg, up
 	d.tail = upTail
 	// tail after the trough: the rise's samples (its first point is the trough) and its tail
-	var tmp decim = newDecim(d.limit)
-	tmp.appendFrom(&up, 1)
-	tmp.appendFrom(&upTail, 0)
+	if d.tmp.limit == 0 {
+		d.tmp = newDecim(d.limit)
+	}
+	d.tmp.reset()
+	d.tmp.appendFrom(&up, 1)
+	d.tmp.appendFrom(&upTail, 0)
 	d.tail.reset()
-	d.tail.appendFrom(&tmp, 0)
+	d.tail.appendFrom(&d.tmp, 0)
 	d.tail.add(s.t, s.v)
 	d.provSeg.reset()
 	d.mode = -1
@@ -328,11 +335,11 @@ func slopeOver(pts []Point, from, to float64) float64 {
 	return stv / stt
 }
 
-func (d *Detector) emit(sw *Swing, seg *decim) {
+// emit records a confirmed swing and hands it, with its points, to Config.OnSwing.
+func (d *Detector) emit(sw *Swing, pts []Point) {
 	d.swings = append(d.swings, *sw)
 	if d.cfg.OnSwing != nil {
-		d.ptsBuf = seg.points(d.ptsBuf)
-		d.cfg.OnSwing(len(d.swings)-1, &d.swings[len(d.swings)-1], d.ptsBuf)
+		d.cfg.OnSwing(len(d.swings)-1, &d.swings[len(d.swings)-1], pts)
 	}
 }
 
@@ -350,7 +357,7 @@ func (d *Detector) endZigzag(gap bool) {
 			d.last = sample{t: p[0].T, v: p[0].V, m: p[0].V}
 			d.ext = sample{t: p[len(p)-1].T, v: p[len(p)-1].V, m: p[len(p)-1].V}
 			sw := d.makeSwing(d.ext.m >= d.last.m, true, gap)
-			d.emit(&sw, &d.seg)
+			d.emit(&sw, d.ptsBuf) // makeSwing left d.seg's points there
 		}
 	default:
 		// The swing to the running extreme, then what came after it as a last open swing.
@@ -362,7 +369,7 @@ func (d *Detector) endZigzag(gap bool) {
 		endP := p[len(p)-1]
 		d.ext = sample{t: endP.T, v: endP.V, m: endP.V}
 		sw := d.makeSwing(d.mode > 0, true, gap)
-		d.emit(&sw, &d.seg)
+		d.emit(&sw, d.ptsBuf) // makeSwing left d.seg's points there
 	}
 	d.mode = 0
 	d.seg.reset()
