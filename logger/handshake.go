@@ -112,13 +112,18 @@ func (ss *session) channels(n int) []capture.Channel {
 	return out
 }
 
-// commands are the settings to send: only what differs from the board's identity.
+// commands are the settings to send: only what differs from the board's identity. A board
+// may refuse a channel count at its present rate (more channels take longer per sample) or
+// a rate at its present channel count, so a lower fast rate goes before the channel count
+// and a higher one after it: each command is then valid when it arrives.
 func (ss *session) commands(id wire.Identity) []wire.Frame {
 	c := &ss.cfg
 	var out []wire.Frame
+	var chanCmd, rateCmd wire.Frame
 	if c.Channels > 0 && uint32(c.Channels) != id.NCh {
-		out = append(out, wire.CmdChan{N: uint32(c.Channels)})
+		chanCmd = wire.CmdChan{N: uint32(c.Channels)}
 	}
+	lower := false
 	if c.SlowHz > 0 || c.FastHz > 0 {
 		r := wire.CmdRate{SlowHz: id.SlowHz, FastHz: id.FastHz}
 		if c.SlowHz > 0 {
@@ -128,7 +133,17 @@ func (ss *session) commands(id wire.Identity) []wire.Frame {
 			r.FastHz = c.FastHz
 		}
 		if r.SlowHz != id.SlowHz || r.FastHz != id.FastHz {
-			out = append(out, r)
+			rateCmd = r
+			lower = r.FastHz < id.FastHz
+		}
+	}
+	first, second := chanCmd, rateCmd
+	if lower {
+		first, second = rateCmd, chanCmd
+	}
+	for _, f := range []wire.Frame{first, second} {
+		if f != nil {
+			out = append(out, f)
 		}
 	}
 	if b := c.Burst; b != nil && (b.Thr != id.Thr || b.Pre != id.Pre || b.Post != id.Post) {
