@@ -54,6 +54,7 @@ const (
 	ResetPin      ResetCause = "ext" // reset pin, e.g. pulsed by the USB bridge's DTR
 	ResetBrownOut ResetCause = "bod" // supply dipped below the brown-out level
 	ResetWatchdog ResetCause = "wdt" // the watchdog fired
+	ResetUnknown  ResetCause = "unk" // the flags were cleared (e.g. by a boot loader) before the firmware read them
 )
 
 // ErrorCode is the code of an ER reply. Its String is the msg word devices send with it.
