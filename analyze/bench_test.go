@@ -108,10 +108,10 @@ func parseCSV(path string) (int, error) {
 }
 
 // peakHeap samples the live heap (runtime/metrics, which does not stop the world as
-// runtime.ReadMemStats does) every few milliseconds until stop is closed.
+// runtime.ReadMemStats does) every 20 ms until stop is closed.
 func peakHeap(stop chan struct{}, peak *atomic.Uint64) {
 	s := []metrics.Sample{{Name: "/memory/classes/heap/objects:bytes"}}
-	t := time.NewTicker(5 * time.Millisecond)
+	t := time.NewTicker(20 * time.Millisecond)
 	defer t.Stop()
 	for {
 		metrics.Read(s)
