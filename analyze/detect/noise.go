@@ -63,8 +63,9 @@ func medianInPlace(x []float64) float64 {
 
 // ADCStep estimates the quantisation step of samples v: the typical size of the smallest
 // non-zero differences between neighbours, accepted only when at least 90 % of the
-// samples lie on a grid of that step (within a tenth of it). It returns 0 when the samples show no step (no
-// quantisation, or noise far above it). scratch is reused when large enough.
+// differences are whole multiples of it (within 15 %) and other multiples than one step
+// (zero, two, three...) make up at least 5 % of them. It returns 0 when the samples show
+// no step (no quantisation, or noise far above it). scratch is reused when large enough.
 func ADCStep(v, scratch []float64) float64 {
 	d := scratch[:0]
 	zeros := 0
@@ -91,15 +92,22 @@ func ADCStep(v, scratch []float64) float64 {
 		n++
 	}
 	step := sum / float64(n)
-	// Quantised samples sit on a grid of that step (an offset aside).
-	good := 0
-	for _, x := range v {
-		r := (x - v[0]) / step
-		if math.Abs(r-math.Round(r)) < 0.1 {
+	// Quantised samples move by whole steps: nearly all differences are whole multiples
+	// of it, and more than one multiple shows (0 and 1, or 1, 2, 3 with noise); a smooth
+	// curve sampled slowly has all its differences alike and fails the second test.
+	good, other := 0, zeros
+	for _, x := range d {
+		r := x / step
+		k := math.Round(r)
+		if math.Abs(r-k) < 0.15 {
 			good++
+			if k >= 2 {
+				other++
+			}
 		}
 	}
-	if float64(good) < 0.9*float64(len(v)) {
+	all := len(d) + zeros
+	if float64(good+zeros) < 0.9*float64(all) || float64(other) < 0.05*float64(all) {
 		return 0
 	}
 	return step

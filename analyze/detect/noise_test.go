@@ -43,3 +43,26 @@ func TestNoiseSD(t *testing.T) {
 		}
 	}
 }
+
+// ADCStep finds a 12-bit step under noise and printed with 5 decimals, and none on an
+// unquantised curve or a smooth curve sampled slowly.
+func TestADCStep(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 4))
+	lsb := 5.0 / 4096
+	var q, smooth, slow []float64
+	for i := 0; i < 1024; i++ {
+		v := 1 + 0.001*float64(i) + 2e-3*rng.NormFloat64()
+		q = append(q, math.Round(math.Round(v/lsb)*lsb*1e5)/1e5)
+		smooth = append(smooth, v)
+		slow = append(slow, 1+0.063*float64(i)-1e-6*float64(i*i))
+	}
+	if got := ADCStep(q, nil); math.Abs(got-lsb) > 0.01*lsb {
+		t.Errorf("quantised: step %v, want %v", got, lsb)
+	}
+	if got := ADCStep(smooth, nil); got != 0 {
+		t.Errorf("unquantised noise: step %v, want 0", got)
+	}
+	if got := ADCStep(slow, nil); got != 0 {
+		t.Errorf("smooth slow curve: step %v, want 0", got)
+	}
+}
