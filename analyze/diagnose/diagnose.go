@@ -39,6 +39,8 @@ func Diagnose(in *Input) []analyze.Finding {
 	}
 	d.capture()
 	switch {
+	case d.fullCycles() == 0 && d.chatterCycles() > 0:
+		d.chatter() // it fires, but every fire lets go at once
 	case d.fullCycles() == 0:
 		d.notFiring()
 	default:
@@ -80,6 +82,16 @@ func (d *diag) add(code, sev, msg, sugg string, nums map[string]float64) {
 		}
 	}
 	d.out = append(d.out, analyze.Finding{Code: code, Severity: sev, Message: msg, Suggestion: sugg, Numbers: nums})
+}
+
+func (d *diag) chatterCycles() int {
+	n := 0
+	for _, c := range d.r.Cycles {
+		if c.Kind == "chatter" {
+			n++
+		}
+	}
+	return n
 }
 
 func (d *diag) fullCycles() int {

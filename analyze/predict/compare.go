@@ -61,10 +61,18 @@ func Fitted(nominal *model.Circuit, r *analyze.Result) (*model.Circuit, []string
 		if ref == 0 {
 			ref = model.RefIrradianceWm2
 		}
-		// The fitted cell is known at the light of the fit only; scale it so that the
-		// nominal reference irradiance gives the fitted short-circuit current, which keeps
-		// light levels comparable between the nominal and fitted predictions.
+		// The fitted cell is known at the light of the fit only. Voltage alone cannot tell a
+		// dimmer light from a smaller cell, so the difference from the declared cell's
+		// short-circuit current is put down to the light: the fit was made at
+		// g_fit = ref·Isc_fit/Isc_nominal, and the fitted cell's photocurrent at the
+		// reference is Isc_fit·ref/g_fit. Light levels then read the same in W/m² for the
+		// nominal and the fitted circuit (a cell fitted in shade at 200 W/m² must not make
+		// the measured light 1000 W/m²).
 		cell.IphA = cf.IscA.Value
+		if iscNom := nominal.Cell.Current(0, ref); iscNom > 0 {
+			gFit := cf.IscA.Value / iscNom * ref
+			cell.IphA = cf.IscA.Value * ref / gFit
+		}
 		cell.RefWm2 = ref
 		cell.I0A = cf.I0A.Value
 		cell.N = cf.N.Value // per cell; the analysis used the profile's cells in series
@@ -74,7 +82,7 @@ func Fitted(nominal *model.Circuit, r *analyze.Result) (*model.Circuit, []string
 		if cf.RshOhm != nil {
 			cell.RshOhm = cf.RshOhm.Value
 		}
-		if cell.IphA > 0 && cell.I0A > 0 && cell.N > 0 {
+		if cell.IphA > 0 && cell.I0A > 0 && cell.N > 0 && plausibleCell(&cell, nominal, r) {
 			c.Cell = cell
 			replaced = append(replaced, "cell")
 		}
@@ -87,15 +95,48 @@ func Fitted(nominal *model.Circuit, r *analyze.Result) (*model.Circuit, []string
 	return &c, replaced
 }
 
+// Bounds on a fitted cell's ideality per cell: real cells lie between about 1 and 2,
+// amorphous ones up to about 3 to 4 (common practice, no source); outside [0.5, 5] the fit
+// has gone astray.
+const (
+	minIdeality = 0.5
+	maxIdeality = 5
+)
+
+// plausibleCell reports whether a fitted cell may replace the declared one: its ideality is
+// within the bounds above, and at the light of the fit it can reach the voltage at which the
+// capture was seen to fire (the median fire voltage), which a cell that reached it must.
+// A fit of a short recharge near the trigger (chatter) can give a degenerate diode that fails
+// both.
+func plausibleCell(cell *model.Cell, nominal *model.Circuit, r *analyze.Result) bool {
+	if cell.N < minIdeality || cell.N > maxIdeality {
+		return false
+	}
+	var fires []float64
+	for _, cy := range r.Cycles {
+		fires = append(fires, cy.FireV)
+	}
+	if len(fires) == 0 {
+		return true
+	}
+	g := IrradianceFor(nominal, r.Fit.Cell.IscA.Value)
+	return g > 0 && cell.OpenCircuitV(g) >= median(fires)
+}
+
 // fittedLeak turns the analysis's dark drain into the capacitor's own leakage resistance.
 // The dark decay measures every drain on the node together, less the probe: the
 // capacitor's leakage, the supervisor's quiescent current and, without a blocking diode, the
 // cell's own dark current through its diode and shunt. The model has the last two as parts
 // of their own, so their conductance at the decay's typical voltage is subtracted; what is
 // left is the leakage. A drain fully explained by the other parts leaves no leakage (0).
+//
+// A leak the analysis took from the approach to a plateau (Method "plateau", when the
+// capture has no dark decay) is not used: that time constant includes the lit cell's own
+// slope dI/dV, which for a cell near its open-circuit voltage is far steeper than any
+// leakage (a Wren-like cell settling at 3.9 V gives about 0.5 kΩ against a 0.9 MΩ leak).
 func fittedLeak(c *model.Circuit, r *analyze.Result) (float64, bool) {
 	lk := r.Fit.Leak
-	if lk.Ohm == nil || !(lk.Ohm.Value > 0) || math.IsInf(lk.Ohm.Value, 0) {
+	if lk.Ohm == nil || !(lk.Ohm.Value > 0) || math.IsInf(lk.Ohm.Value, 0) || lk.Method == "plateau" {
 		return 0, false
 	}
 	v := 0.5 * c.Trigger.OnV
@@ -164,10 +205,50 @@ func MeasuredLight(r *analyze.Result, c *model.Circuit) float64 {
 	if len(iscs) > 0 {
 		return IrradianceFor(c, median(iscs))
 	}
+	if g := chatterLight(r, c); g > 0 {
+		return g
+	}
 	if r.EquilibriumV != nil && r.EquilibriumV.Value > 0 {
 		return LightForEquilibrium(c, r.EquilibriumV.Value)
 	}
 	return 0
+}
+
+// chatterLight is the irradiance a capture of chatter alone was taken under, from the
+// recharges between the tiny fires: the cell gives C·ΔV/t_charge plus the drains at the
+// recharge's mid voltage, and the light is where c's cell gives that current there
+// (bisection on a log scale between 1e-3 and 1e4 W/m²). The per-cycle light_a of such a
+// capture is not used: a recharge of a few tens of millivolts does not determine the
+// cell's short-circuit current. It returns 0 without chatter or without the capacitance.
+func chatterLight(r *analyze.Result, c *model.Circuit) float64 {
+	if c.Storage.CapF <= 0 {
+		return 0
+	}
+	var gs []float64
+	for _, cy := range r.Cycles {
+		if cy.Kind != "chatter" || cy.ChargeS == nil || !(*cy.ChargeS > 0) || !(cy.FireV > cy.ResetV) {
+			continue
+		}
+		v := 0.5 * (cy.FireV + cy.ResetV)
+		need := c.Storage.CapF*(cy.FireV-cy.ResetV) / *cy.ChargeS + DrainA(c, v)
+		lo, hi := math.Log(1e-3), math.Log(1e4)
+		if c.Cell.Current(v, math.Exp(hi)) < need || c.Cell.Current(v, math.Exp(lo)) > need {
+			continue
+		}
+		for range 60 {
+			m := 0.5 * (lo + hi)
+			if c.Cell.Current(v, math.Exp(m)) < need {
+				lo = m
+			} else {
+				hi = m
+			}
+		}
+		gs = append(gs, math.Exp(0.5*(lo+hi)))
+	}
+	if len(gs) == 0 {
+		return 0
+	}
+	return median(gs)
 }
 
 // LightForEquilibrium finds the irradiance at which c settles at veq (bisection on a log
