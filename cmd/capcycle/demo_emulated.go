@@ -72,10 +72,6 @@ func recordEmulated(ctx context.Context, emu *emulatedBoards, rig *robotRig, p *
 	if err := recordFromProfile(lcfg, p, false); err != nil {
 		return nil, err
 	}
-	// One channel: the storage node. (The recorder sends ">chan" before ">rate"; the
-	// firmware refuses two channels at its boot fast rate of 500 Hz, above its two-channel
-	// limit, so a second channel would stop the handshake.)
-	lcfg.Channels, lcfg.Dividers, lcfg.Columns = 1, lcfg.Dividers[:1], nil
 	run := func(ctx context.Context) error {
 		select {
 		case <-board.Done():
