@@ -5,6 +5,7 @@ const (
 	CodeCycling        = "cycling"               // info: the circuit fires; the headline figures
 	CodeNeverFires     = "never-reaches-trigger" // fault: settles below the trigger voltage
 	CodeNoDump         = "no-dump"               // fault: passes the trigger but nothing discharges it
+	CodeStillCharging  = "still-charging"        // info: the capture ended while the node was still charging below the trigger
 	CodeChatter        = "chatter"               // warn: fires with tiny swings
 	CodeWeakPulse      = "weak-pulse"            // warn: energy per pulse below what the load needs to start
 	CodeEarlyRelease   = "early-release"         // warn: the trigger lets go well above its release voltage
@@ -23,6 +24,7 @@ var Codes = map[string]string{
 	CodeCycling:        "the circuit fires; period, pulse and energy per pulse (info)",
 	CodeNeverFires:     "the voltage settles below the trigger; how much more light, less drain or lower trigger would make it fire",
 	CodeNoDump:         "the voltage passes the trigger and keeps rising or clips: the switching path, not the energy, is at fault",
+	CodeStillCharging:  "the capture ended while the voltage was still rising below the trigger: record longer",
 	CodeChatter:        "fires with tiny swings; the hold capacitance needed for a useful swing",
 	CodeWeakPulse:      "energy per pulse below what the load needs to start",
 	CodeEarlyRelease:   "the trigger releases well above its declared release voltage",

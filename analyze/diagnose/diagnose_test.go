@@ -324,3 +324,18 @@ func TestNeverReachesTriggerFromPeak(t *testing.T) {
 		t.Errorf("suggestions missing: %+v", f.Numbers)
 	}
 }
+
+// A capture that stops while the node is still charging says so, and claims no settling.
+func TestStillCharging(t *testing.T) {
+	p := loadProfile(t, "fern.toml")
+	c := circuit(t, p)
+	r := &analyze.Result{Schema: analyze.Schema, Samples: 300, DurationS: 180}
+	for i := 0; i < 40; i++ {
+		v := 0.004 * float64(i) // a steady climb to 0.156 V
+		r.Envelope = append(r.Envelope, analyze.EnvelopePt{TS: 4.5 * float64(i), MinV: v, MaxV: v})
+	}
+	fs := Diagnose(&Input{Result: r, Nominal: c, Fitted: c, Profile: p})
+	if find(fs, CodeStillCharging) == nil || find(fs, CodeNeverFires) != nil {
+		t.Fatalf("findings %+v, want still-charging and no never-reaches-trigger", fs)
+	}
+}

@@ -119,6 +119,13 @@ func (d *diag) notFiring() {
 	case eq != nil:
 		veq = eq.Value
 	case !math.IsNaN(on) && maxV > 0 && maxV < on:
+		if d.risingAtEnd() {
+			d.add(CodeStillCharging, "info",
+				fmt.Sprintf("The voltage was still rising when the capture ended, at %s after %s, below the %s trigger: too short to tell whether it fires or settles.", fmtV(maxV), fmtS(d.r.DurationS), fmtV(on)),
+				"Record longer, until it fires or the voltage levels off.",
+				map[string]float64{"max_v": maxV, "on_v": on, "duration_s": d.r.DurationS})
+			return
+		}
 		veq = maxV
 	default:
 		return
@@ -222,6 +229,24 @@ func (d *diag) notFiring() {
 		sugg = "Any one of these would make it fire (model): " + strings.Join(opts, "; ") + "."
 	}
 	d.add(CodeNeverFires, "fault", msg, sugg, nums)
+}
+
+// risingAtEnd reports whether the highest voltage of the envelope lies in its last 5 % and
+// the voltage there still climbs: the capture stopped while the node was charging.
+func (d *diag) risingAtEnd() bool {
+	env := d.r.Envelope
+	n := len(env)
+	if n < 4 {
+		return false
+	}
+	top := 0
+	for i, e := range env {
+		if e.MaxV >= env[top].MaxV {
+			top = i
+		}
+	}
+	tail := max(1, n/20)
+	return top >= n-tail && env[n-1].MaxV > env[n-1-tail].MaxV
 }
 
 // cycling states the headline figures of a firing circuit.
