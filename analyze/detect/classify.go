@@ -80,6 +80,9 @@ func (d *Detector) Finish() *Summary {
 		}
 		d.bootstrap()
 	}
+	if d.waitMove && len(d.moveBuf) > 0 {
+		d.reestimate()
+	}
 	d.flushMedian()
 	d.endZigzag(false)
 	if d.satOn {

@@ -92,6 +92,12 @@ type Detector struct {
 	limit  int
 	boot   []sample
 	booted bool
+	// waitMove: the first samples did not move (one value throughout), so no step or
+	// noise showed in them; the first bootN samples after the value first changes are
+	// held in moveBuf, the estimates made from them, and then they are detected.
+	waitMove bool
+	stuckV   float64
+	moveBuf  []sample
 
 	// median of 3
 	p1, p2 sample
@@ -200,8 +206,71 @@ func (d *Detector) Push(t, v []float64) {
 			}
 			continue
 		}
+		if d.waitMove {
+			d.held(t[i], v[i])
+			continue
+		}
 		d.one(t[i], v[i])
 	}
+}
+
+// held takes a sample while the estimates wait for the voltage to move.
+func (d *Detector) held(t, v float64) {
+	if len(d.moveBuf) == 0 && v == d.stuckV {
+		d.one(t, v)
+		return
+	}
+	d.moveBuf = append(d.moveBuf, sample{t: t, v: v})
+	if len(d.moveBuf) >= bootN {
+		d.reestimate()
+	}
+}
+
+// reestimate makes the step, noise and scale estimates from the held samples and
+// detects them.
+func (d *Detector) reestimate() {
+	d.waitMove = false
+	buf := d.moveBuf
+	d.moveBuf = nil
+	ts := make([]float64, len(buf))
+	vs := make([]float64, len(buf))
+	for i, s := range buf {
+		ts[i], vs[i] = s.t, s.v
+	}
+	d.estimate(ts, vs)
+	if d.cfg.NoiseV == 0 {
+		d.sds = append(d.sds[:0], d.sd) // the still stretch's estimate said nothing
+	}
+	d.setSwingMin()
+	for _, s := range buf {
+		d.one(s.t, s.v)
+	}
+}
+
+// estimate sets the step, the noise and the voltage scale from samples (the step and
+// noise only where the configuration leaves them to be estimated).
+func (d *Detector) estimate(ts, vs []float64) {
+	if d.cfg.StepV == 0 {
+		d.step = ADCStep(vs, d.scratch)
+	}
+	for _, x := range vs {
+		d.vscale = math.Max(d.vscale, math.Abs(x))
+	}
+	if d.cfg.NoiseV > 0 {
+		d.sd = d.cfg.NoiseV
+	} else if len(vs) >= 3 {
+		d.sd = NoiseSD(ts, vs, d.scratch)
+	}
+}
+
+// stuck reports whether samples hold one value throughout.
+func stuck(vs []float64) bool {
+	for _, x := range vs {
+		if x != vs[0] {
+			return false
+		}
+	}
+	return len(vs) > 0
 }
 
 func (d *Detector) bootstrap() {
@@ -214,9 +283,6 @@ func (d *Detector) bootstrap() {
 	}
 	d.scratch = make([]float64, 0, noiseBlock)
 	d.step = d.cfg.StepV
-	if d.step == 0 {
-		d.step = ADCStep(vs, d.scratch)
-	}
 	dts := make([]float64, 0, n)
 	for i := 1; i < n; i++ {
 		dts = append(dts, ts[i]-ts[i-1])
@@ -229,14 +295,12 @@ func (d *Detector) bootstrap() {
 	if d.cfg.GapS > 0 {
 		d.gapS = d.cfg.GapS
 	}
-	for _, x := range vs {
-		d.vscale = math.Max(d.vscale, math.Abs(x))
+	d.estimate(ts, vs)
+	if d.cfg.NoiseV == 0 && n >= 3 {
+		d.sds = append(d.sds, d.sd)
 	}
-	if d.cfg.NoiseV > 0 {
-		d.sd = d.cfg.NoiseV
-	} else if n >= 3 {
-		d.sds = append(d.sds, NoiseSD(ts, vs, d.scratch))
-		d.sd = d.sds[0]
+	if stuck(vs) && (d.cfg.NoiseV == 0 || d.cfg.StepV == 0) {
+		d.waitMove, d.stuckV = true, vs[n-1]
 	}
 	d.setSwingMin()
 	d.blk = make([]float64, 0, noiseBlock)
@@ -341,8 +405,19 @@ func (d *Detector) noise(t, v float64) {
 	if len(d.blk) < noiseBlock {
 		return
 	}
+	if d.step == 0 && d.cfg.StepV == 0 {
+		// No step showed yet (the first samples may not have moved): look again.
+		d.step = ADCStep(d.blk, d.scratch)
+	}
+	sd, used := noiseSD(d.blkT, d.blk, d.scratch)
+	if used < noiseBlock/16 {
+		// Mostly runs of one value: nothing to learn about the noise here; the next
+		// block is taken instead.
+		d.blk, d.blkT = d.blk[:0], d.blkT[:0]
+		d.setSwingMin()
+		return
+	}
 	d.nblk++
-	sd := NoiseSD(d.blkT, d.blk, d.scratch)
 	d.sds = append(d.sds, sd)
 	if len(d.sds) > 2048 {
 		k := 0

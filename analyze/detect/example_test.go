@@ -52,6 +52,6 @@ func ExampleDetector() {
 		fmt.Printf("fire %.2f s at %.2f V, reset %.2f s at %.2f V\n", c.FireS, c.FireV, c.ResetS, c.ResetV)
 	}
 	// Output:
-	// fire 9.00 s at 2.00 V, reset 9.09 s at 1.00 V
-	// fire 19.00 s at 2.00 V, reset 19.09 s at 1.00 V
+	// fire 9.00 s at 2.00 V, reset 9.10 s at 1.00 V
+	// fire 19.00 s at 2.00 V, reset 19.10 s at 1.00 V
 }

@@ -20,10 +20,23 @@ var nan = math.NaN()
 // |e| times sqrt(pi/2) (the mean absolute deviation's factor for a normal distribution)
 // is returned. Both estimate the SD of normal noise; the trimming keeps the few large
 // differences of fires out.
+//
+// A run of identical values (a storage node at exactly 0 V all night, an input stuck at
+// one code) says nothing about the noise of the stretches that move: each run counts as
+// at most RunCap repeats, so hours of one value cannot drive the estimate to 0.
 func NoiseSD(t, v, scratch []float64) float64 {
+	sd, _ := noiseSD(t, v, scratch)
+	return sd
+}
+
+// RunCap is the most repeats a run of identical values counts as in NoiseSD and ADCStep.
+const RunCap = 16
+
+// noiseSD is NoiseSD that also returns the number of second differences used.
+func noiseSD(t, v, scratch []float64) (float64, int) {
 	e := secondDiffs(t, v, scratch[:0])
 	if len(e) == 0 {
-		return 0
+		return 0, 0
 	}
 	med := medianInPlace(e) // sorts e
 	keep := len(e) - len(e)/10
@@ -32,11 +45,20 @@ func NoiseSD(t, v, scratch []float64) float64 {
 		sum += x
 	}
 	mean := sum / float64(keep)
-	return math.Max(1.4826*med, 1.2533*mean)
+	return math.Max(1.4826*med, 1.2533*mean), len(e)
 }
 
 func secondDiffs(t, v, e []float64) []float64 {
+	run := 0 // second differences so far inside the current run of identical values
 	for i := 1; i+1 < len(v); i++ {
+		if v[i-1] == v[i] && v[i] == v[i+1] {
+			run++
+			if run > RunCap {
+				continue
+			}
+		} else {
+			run = 0
+		}
 		h := t[i+1] - t[i-1]
 		if !(h > 0) {
 			continue
@@ -66,15 +88,20 @@ func medianInPlace(x []float64) float64 {
 // differences are whole multiples of it (within 15 %) and other multiples than one step
 // (zero, two, three...) make up at least 5 % of them. It returns 0 when the samples show
 // no step (no quantisation, or noise far above it). scratch is reused when large enough.
+// A run of identical values counts as at most RunCap repeats (see NoiseSD).
 func ADCStep(v, scratch []float64) float64 {
 	d := scratch[:0]
-	zeros := 0
+	zeros, run := 0, 0
 	for i := 1; i < len(v); i++ {
 		x := math.Abs(v[i] - v[i-1])
 		if x == 0 {
-			zeros++
+			run++
+			if run <= RunCap {
+				zeros++
+			}
 			continue
 		}
+		run = 0
 		d = append(d, x)
 	}
 	if len(d) < 8 {

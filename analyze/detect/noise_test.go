@@ -66,3 +66,41 @@ func TestADCStep(t *testing.T) {
 		t.Errorf("smooth slow curve: step %v, want 0", got)
 	}
 }
+
+// A capture that starts with hours of exactly 0 V (a storage node empty all night) and
+// then rises slowly, quantised by an 11-bit ADC through a 0.3125 divider (7.8 mV at the
+// node) with 1 mV of noise: the step and the noise come from the stretch that moves, not
+// from the still one, and the dawn's one-step dither is not taken for cycles.
+func TestStillNightThenDawn(t *testing.T) {
+	lsb := 5.0 / 2048 / 0.3125
+	rng := rand.New(rand.NewPCG(5, 6))
+	var ts, vs []float64
+	for i := 0; i < 4*3600*2; i++ { // 2 Hz
+		x := float64(i) * 0.5
+		v := 0.0
+		if x > 3*3600 {
+			v = 20e-6*(x-3*3600) + 1e-3*rng.NormFloat64() // 20 uV/s
+		}
+		v = math.Max(0, math.Round(v/lsb)*lsb)
+		ts = append(ts, x)
+		vs = append(vs, math.Round(v*1e5)/1e5)
+	}
+	if got := ADCStep(vs, nil); math.Abs(got-lsb) > 0.01*lsb {
+		t.Errorf("ADCStep over the whole trace: %v, want %v", got, lsb)
+	}
+	if got := NoiseSD(ts, vs, nil); got == 0 {
+		t.Errorf("NoiseSD over the whole trace: 0, want the quantisation noise of the rise")
+	}
+	d := New(nil)
+	d.Push(ts, vs)
+	s := d.Finish()
+	if math.Abs(s.StepV-lsb) > 0.01*lsb {
+		t.Errorf("detector step %v, want %v", s.StepV, lsb)
+	}
+	if s.NoiseV == 0 {
+		t.Errorf("detector noise 0")
+	}
+	if len(s.Cycles) != 0 {
+		t.Errorf("%d cycles on a slow rise (first at %.0f s, %.4f V), want 0", len(s.Cycles), s.Cycles[0].FireS, s.Cycles[0].FireV)
+	}
+}
