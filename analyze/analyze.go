@@ -4,6 +4,8 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
+	"strconv"
 
 	"capcycle/analyze/detect"
 	"capcycle/logger/capture"
@@ -34,6 +36,7 @@ func Run(r *capture.Reader, opts *Options) (*Result, error) {
 	done := make(chan struct{})
 	go func() {
 		defer close(batches)
+		first := true
 		for {
 			var b *batch
 			select {
@@ -43,6 +46,11 @@ func Run(r *capture.Reader, opts *Options) (*Result, error) {
 			}
 			k, err := r.Read(b.t, b.v)
 			b.n, b.err, b.rows, b.bytes = k, err, r.Rows(), r.Offset()
+			if first {
+				// The header block is read with the first rows: its metadata goes
+				// along with them (the reader keeps adding later event lines).
+				b.meta, first = append([]capture.Field(nil), r.MetaFields()...), false
+			}
 			batches <- b
 			if err != nil {
 				return
@@ -51,6 +59,10 @@ func Run(r *capture.Reader, opts *Options) (*Result, error) {
 	}()
 	var readErr error
 	for b := range batches {
+		if b.meta != nil {
+			a.useMeta(b.meta)
+			b.meta = nil
+		}
 		a.push(b.t[:b.n], b.v[:b.n])
 		if opts.Progress != nil {
 			opts.Progress(b.rows, b.bytes)
@@ -85,6 +97,7 @@ type batch struct {
 	err   error
 	rows  int
 	bytes int64
+	meta  []capture.Field // the first batch only
 }
 
 // RunSamples analyses samples already in memory (t increasing), as Run does for a file.
@@ -105,6 +118,8 @@ type analysis struct {
 	env  *detect.Envelope
 	col  *collector
 	cal  calWindow
+
+	stepOrigin string
 }
 
 func newAnalysis(opts *Options) *analysis {
@@ -118,6 +133,10 @@ func newAnalysis(opts *Options) *analysis {
 		OnSwing:    a.col.onSwing,
 	})
 	a.col.det = a.det
+	if opts.StepV > 0 {
+		a.det.SetStepV(opts.StepV)
+		a.stepOrigin = "declared"
+	}
 	if opts.CalResistorOhm > 0 && opts.CalEndS > opts.CalStartS {
 		a.cal = newCalWindow(opts.CalStartS, opts.CalEndS)
 	}
@@ -130,4 +149,78 @@ func (a *analysis) push(t, v []float64) {
 	if a.cal.on {
 		a.cal.add(t, v)
 	}
+}
+
+// useMeta takes the ADC step at the storage node from the capture's channel line for the
+// voltage column, unless Options.StepV gives it: v = counts / 2^bits * ref_v / divider *
+// scale, then the calibration gain, so one count is ref_v / 2^bits / divider * scale *
+// gain (logger/capture/FORMAT.md).
+func (a *analysis) useMeta(meta []capture.Field) {
+	if a.opts.StepV > 0 {
+		return
+	}
+	if lsb := metaStep(meta); lsb > 0 {
+		a.det.SetStepV(lsb)
+		a.stepOrigin = "metadata"
+	}
+}
+
+// metaStep returns the step of the vcap_v column (else of the first channel line) from
+// the metadata, 0 when no channel line gives one.
+func metaStep(meta []capture.Field) float64 {
+	var chosen []capture.Field
+	col := ""
+	for _, f := range meta {
+		if f.Name != capture.KeyChannel {
+			continue
+		}
+		word, fs := capture.ParseFields(f.Value)
+		if chosen == nil || (word == "vcap_v" && col != "vcap_v") {
+			chosen, col = fs, word
+		}
+	}
+	if chosen == nil {
+		return 0
+	}
+	num := func(fs []capture.Field, name string, def float64) float64 {
+		s, ok := capture.Lookup(fs, name)
+		if !ok {
+			return def
+		}
+		x, err := strconv.ParseFloat(s, 64)
+		if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
+			return math.NaN()
+		}
+		return x
+	}
+	bits := num(chosen, "bits", 0)
+	ref := num(chosen, "ref_v", 0)
+	div := num(chosen, "divider", 1)
+	sc := num(chosen, "scale", 1)
+	if div == 0 {
+		div = 1
+	}
+	if sc == 0 {
+		sc = 1
+	}
+	gain := 1.0
+	for _, f := range meta {
+		if f.Name != capture.KeyCalibration {
+			continue
+		}
+		if word, fs := capture.ParseFields(f.Value); word == col {
+			if g := num(fs, "gain", 1); g != 0 {
+				gain = g
+			}
+			break
+		}
+	}
+	if !(bits >= 1 && bits <= 32 && bits == math.Trunc(bits)) || !(ref > 0) || !(div > 0 && div <= 1) || !(sc > 0) {
+		return 0
+	}
+	lsb := ref / math.Exp2(bits) / div * sc * math.Abs(gain)
+	if !(lsb > 0) || math.IsInf(lsb, 0) || math.IsNaN(lsb) {
+		return 0
+	}
+	return lsb
 }

@@ -91,6 +91,13 @@ func (b *builder) noise() {
 		return
 	}
 	b.res.Noise = &Noise{RMSV: b.sum.NoiseV, StepV: b.sum.StepV}
+	switch {
+	case b.sum.StepV == 0:
+	case b.a.stepOrigin != "":
+		b.res.Noise.StepOrigin = b.a.stepOrigin
+	default:
+		b.res.Noise.StepOrigin = "estimated"
+	}
 }
 
 func (b *builder) cycles() {

@@ -42,7 +42,10 @@ type Options struct {
 	CalResistorOhm     float64
 	CalStartS, CalEndS float64
 
-	// Detector overrides (see detect.Config); 0 = estimate from the data.
+	// Detector overrides (see detect.Config); 0 = estimate from the data. StepV, the ADC
+	// step at the storage node, is otherwise taken from the capture's "channel" metadata
+	// line (reference / 2^bits / divider * scale * gain) when it has one, else estimated.
+	StepV     float64
 	NoiseV    float64
 	MinSwingV float64
 	GapS      float64

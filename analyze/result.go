@@ -167,6 +167,10 @@ type Capacity struct {
 type Noise struct {
 	RMSV  float64 `json:"rms_v"`
 	StepV float64 `json:"step_v"` // the smallest voltage step seen (ADC LSB)
+	// StepOrigin says where StepV comes from: "metadata" (the capture's channel line:
+	// reference / 2^bits / divider), "declared" (Options.StepV), "estimated" (from the
+	// samples), or "" when no step shows.
+	StepOrigin string `json:"step_origin,omitempty"`
 }
 
 // LightPt is one point of the light-level trace.

@@ -171,6 +171,15 @@ func New(cfg *Config) *Detector {
 	return d
 }
 
+// SetStepV sets the ADC step, as Config.StepV does, when it is learnt after New (from a
+// capture file's metadata, say). It has effect only before the first Push; 0 leaves the
+// step to be estimated.
+func (d *Detector) SetStepV(v float64) {
+	if d.samples == 0 && v > 0 {
+		d.cfg.StepV = v
+	}
+}
+
 // NoiseV is the noise SD in use (the median of the block estimates so far).
 func (d *Detector) NoiseV() float64 { return d.sd }
 

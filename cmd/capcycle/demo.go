@@ -256,19 +256,12 @@ func demoScenario(ctx context.Context, name string, o *demoOptions, capDir strin
 	return out, nil
 }
 
-// analyseDemo runs the analysis and the later stages on a capture with the profile.
-//
-// The smallest swing the detector follows is set from the ADC step the demo knows
-// (three steps of the recorded resolution at the storage node, the detector's own rule
-// when it can see the step), because a demo day starts at night with the storage empty:
-// every early sample reads 0 V, so no step or noise shows in the first samples the
-// detector estimates them from, and one-count dither at dawn would count as cycles.
+// analyseDemo runs the analysis and the later stages on a capture with the profile. (The
+// ADC step comes from the capture's channel line, so the night's hours at 0 V need no
+// help.)
 func analyseDemo(p *profile.Profile, rig *robotRig, ebits int, path string) (*analyze.Result, error) {
 	opts := &analyze.Options{Path: path, Profile: p.Name}
 	fromProfile(opts, p)
-	if rig.RefV > 0 && rig.Div[0] > 0 {
-		opts.MinSwingV = 3 * rig.RefV / float64(int(1)<<ebits) / rig.Div[0]
-	}
 	opts.Post = laterStages(p, opts, path, nil)
 	f, err := os.Open(path)
 	if err != nil {
