@@ -55,7 +55,10 @@ func (d *diag) capture() {
 	}
 	if r.Noise != nil {
 		need := d.neededStepV()
-		if need > 0 && r.Noise.RMSV > need/5 {
+		// Noise within one ADC step is the converter's own rounding (a step q alone reads
+		// as q/√12 RMS, and a little noise dithers between two codes): shorter leads and
+		// more filtering would not help, so only noise above one step counts.
+		if need > 0 && r.Noise.RMSV > need/5 && r.Noise.RMSV > r.Noise.StepV {
 			d.add(CodeNoisy, "warn",
 				fmt.Sprintf("The noise (%s RMS) is large beside the smallest step the analysis needs (%s): fires, resets and slopes are uncertain.", fmtV(r.Noise.RMSV), fmtV(need)),
 				"Keep the probe leads short and twisted with their ground, add 100 nF from the ADC pin to ground, and let the board average more conversions (a lower slow rate).",
