@@ -662,26 +662,63 @@ func (b *builder) envelope() {
 	}
 }
 
-// traces: up to five full cycles spread over the capture, each the charge before the
-// fire, the pulse and the recharge after it, time relative to the fire.
+// traces: up to five typical full cycles spread over the capture, time relative to the
+// fire: from 1.5 median charge times before the fire to 4 median pulse lengths after it
+// (the charge, the pulse and the start of the recharge at a scale that suits them).
+// Typical means a charge time within 25 % of the median (widened to a factor of 2, then
+// to any known charge time, when too few are that close), so neither the first charge
+// of the day from empty nor the first after a dark stretch or a gap is drawn.
 func (b *builder) traces() {
 	cs := b.full()
 	if len(cs) == 0 {
 		return
 	}
-	k := min(5, len(cs))
+	var charges, pulses []float64
+	for _, c := range cs {
+		pulses = append(pulses, c.PulseS())
+		if !math.IsNaN(c.ChargeS) {
+			charges = append(charges, c.ChargeS)
+		}
+	}
+	medPulse := median(pulses)
+	pick := cs
+	before := math.Inf(1)
+	if len(charges) > 0 {
+		med := median(charges)
+		before = 1.5 * med
+		for _, f := range []float64{1.25, 2, math.Inf(1)} {
+			var near []detect.Cycle
+			for _, c := range cs {
+				if !math.IsNaN(c.ChargeS) && c.ChargeS <= f*med && c.ChargeS >= med/f {
+					near = append(near, c)
+				}
+			}
+			if len(near) >= min(5, len(charges)) {
+				pick = near
+				break
+			}
+		}
+	}
+	after := math.Inf(1)
+	if medPulse > 0 {
+		after = 4 * medPulse
+	}
+	k := min(5, len(pick))
 	for j := 0; j < k; j++ {
-		c := cs[j*(len(cs)-1)/max(1, k-1)]
-		if k == 1 {
-			c = cs[0]
+		c := pick[0]
+		if k > 1 {
+			c = pick[j*(len(pick)-1)/(k-1)]
 		}
 		tr := Trace{Label: "cycle", TS: []float64{}, V: []float64{}}
-		for _, idx := range []int{c.Swing - 1, c.Swing, c.Swing + 1} {
+		for idx := c.Swing - 3; idx <= c.Swing+1; idx++ {
 			if idx < 0 || idx >= len(b.info) {
 				continue
 			}
 			for _, p := range b.info[idx].trace {
 				t := float64(p.t) - c.FireS
+				if t < -before || t > after {
+					continue
+				}
 				if n := len(tr.TS); n > 0 && t <= tr.TS[n-1] {
 					continue
 				}
