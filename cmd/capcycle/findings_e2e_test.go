@@ -16,7 +16,9 @@ package main
 import (
 	"fmt"
 	"math"
+	"path/filepath"
 	"sort"
+	"strings"
 	"testing"
 
 	"capcycle/analyze"
@@ -73,7 +75,9 @@ func near(t *testing.T, what string, got, want, tol float64) {
 	t.Helper()
 	if !(math.Abs(got-want) <= tol) {
 		t.Errorf("%s = %.6g, want %.6g ± %.3g", what, got, want, tol)
+		return
 	}
+	t.Logf("%s = %.6g (want %.6g ± %.3g)", what, got, want, tol)
 }
 
 // steadyOf measures the steady cycle of a model run from its event list: the median
@@ -528,4 +532,213 @@ func TestE2ETriggerOffNominal(t *testing.T) {
 	}
 	near(t, "declared_on_v", numOf(t, f, "declared_on_v"), 2.7, 1e-12)
 	near(t, "accuracy_pct", numOf(t, f, "accuracy_pct"), 1.5, 1e-12)
+}
+
+// benchTOML is Wren's cell and capacitor on the bench with a voltage trigger of fixed
+// release into a 22 Ω resistor and no supervisor draw: a circuit the ngspice netlist
+// carries part for part. ON is replaced by the trigger voltage.
+const benchTOML = `name = "Wren bench"
+notes = "Wren's cell and capacitor on the bench: a voltage trigger with a fixed release into a resistor"
+
+[storage]
+kind = "electrolytic"
+cap_f = "4700u"
+tolerance = "M"
+rated_v = 6.3
+leak_a = "3u"
+leak_v = 2.7
+
+[trigger]
+kind = "voltage"
+release = "fixed"
+on_v = ON
+off_v = 1.6
+accuracy_pct = 1.5
+
+[switch]
+on_ohm = 0.4
+
+[load]
+kind = "resistor"
+ohm = 22
+
+[cell]
+voc_v = 4.2
+isc_a = "18m"
+series_cells = 5
+
+[adc]
+reference = "avcc"
+reference_v = 5.0
+bits = 10
+
+[[channel]]
+node = "vcap"
+adc = 0
+top_ohm = "1meg"
+bottom_ohm = "1meg"
+`
+
+// The bench circuit simulated by ngspice instead of our model, sampled at 50 Hz through
+// the divider and the ADC: healthy with a 2.7 V trigger, stalled with a 4.5 V one.
+func TestE2ENgspiceScenarios(t *testing.T) {
+	if testing.Short() {
+		t.Skip("ngspice runs take a few seconds; skipped with -short")
+	}
+	const g, dur, rate = 300.0, 120.0, 50.0
+	t.Run("healthy", func(t *testing.T) {
+		p := parseProfile(t, "bench", strings.Replace(benchTOML, "ON", "2.7", 1))
+		c := circuitOf(t, p)
+		sp := runNgspice(t, c, g, dur, 1.0)
+		res := analyse(t, p, sp.sample(rate, boardOf(t, p)))
+		logFindings(t, res)
+		onlyProblems(t, res)
+		f := wantFinding(t, res, "cycling", "info")
+		fires := sp.fires(2.7, 1.6)
+		if n := int(numOf(t, f, "cycles")); n < len(fires)-1 || n > len(fires)+1 {
+			t.Errorf("%d cycles found, ngspice completed %d", n, len(fires))
+		}
+		var per []float64
+		for i := 2; i < len(fires); i++ {
+			per = append(per, fires[i]-fires[i-1])
+		}
+		// The median period against ngspice's own fires: within one sample interval.
+		near(t, "median_period_s", numOf(t, f, "median_period_s"), med(per), 1/rate+1e-9)
+		// Our model's prediction from the declared parts against ngspice's circuit: the
+		// charge times within 5 % on average (ngspice's switch lags by up to its 1 ms step
+		// at each change, which lengthens its recharge by about 1 %).
+		if pr := res.Prediction; pr == nil || pr.Nominal == nil || pr.Nominal.MAPEPct == nil {
+			t.Errorf("no nominal prediction")
+		} else if t.Logf("nominal charge-time MAPE against ngspice %.2f %%", *pr.Nominal.MAPEPct); *pr.Nominal.MAPEPct > 5 {
+			t.Errorf("nominal prediction's charge-time error against ngspice %.1f %%, want under 5 %%", *pr.Nominal.MAPEPct)
+		}
+	})
+	t.Run("never-fires", func(t *testing.T) {
+		p := parseProfile(t, "bench", strings.Replace(benchTOML, "ON", "4.5", 1))
+		c := circuitOf(t, p)
+		sp := runNgspice(t, c, g, dur, 1.0)
+		if n := len(sp.fires(4.5, 1.6)); n != 0 {
+			t.Fatalf("ngspice fired %d times", n)
+		}
+		res := analyse(t, p, sp.sample(rate, boardOf(t, p)))
+		logFindings(t, res)
+		onlyProblems(t, res, "never-reaches-trigger")
+		f := wantFinding(t, res, "never-reaches-trigger", "fault")
+		// The approach near open circuit takes well under a second (the cell's dynamic
+		// resistance times C), so ngspice's last point is the equilibrium: two ADC steps.
+		near(t, "equilibrium_v", numOf(t, f, "equilibrium_v"), sp.v[len(sp.v)-1], 2*adcStepV)
+		// The light: two ADC steps near open circuit are about 10 % of light (see above).
+		near(t, "light_wm2", numOf(t, f, "light_wm2"), g, 0.10*g)
+	})
+}
+
+// What-if against direct simulation: "capcycle whatif --json" for a change, and a model run
+// of the changed circuit measured from its event list. Both are the same model, so the
+// what-if's steady cycle (taken after four cycles) and the direct run's median cycle (from
+// the second of a minute's cycles on) agree to within 0.1 %: Wren's cycle repeats from the
+// second on (the event times are located to 1 ns).
+func TestE2EWhatifAgainstSimulation(t *testing.T) {
+	wren := filepath.Join("..", "..", "testdata", "profiles", "wren.toml")
+	const g = 500.0
+	for _, tc := range []struct {
+		set    string
+		change func(*model.Circuit)
+	}{
+		{"cap=10000u", func(c *model.Circuit) { c.Storage.CapF = 10e-3 }},
+		{"hold=4.7u", func(c *model.Circuit) { c.Trigger.HoldF = 4.7e-6 }},
+		{"probe=20k", func(c *model.Circuit) { c.ProbeOhm = 20e3 }},
+		{"load=33", func(c *model.Circuit) { c.Load.Ohm = 33 }},
+	} {
+		t.Run(tc.set, func(t *testing.T) {
+			a := whatifJSON(t, "--profile", wren, "--light", "500", "--sun-hours", "6", "--set", tc.set)
+			if a.Changed == nil || !a.Changed.Fires {
+				t.Fatalf("what-if answer %+v", a)
+			}
+			c := circuitOf(t, loadProfile(t, "wren.toml"))
+			tc.change(c)
+			sim, err := model.Simulate(c, model.Constant(g), &model.Options{DurationS: 60, StartV: 1.5})
+			if err != nil {
+				t.Fatal(err)
+			}
+			per, pulse, energy, fv, rv := steadyOf(t, c, sim)
+			ch := a.Changed
+			rel := func(what string, got *float64, want float64) {
+				t.Helper()
+				if got == nil {
+					t.Errorf("%s is null", what)
+					return
+				}
+				near(t, what, *got, want, 0.001*math.Abs(want))
+			}
+			rel("period_s", ch.PeriodS, per)
+			rel("pulse_s", ch.PulseS, pulse)
+			rel("energy_j", ch.EnergyJ, energy)
+			rel("fire_v", ch.FireV, fv)
+			rel("reset_v", ch.ResetV, rv)
+			rel("duty_cycle", ch.DutyCycle, pulse/per)
+			rel("fires_per_h", ch.FiresPerHour, 3600/per)
+			rel("energy_per_day_j", ch.EnergyPerDayJ, energy*3600/per*6)
+		})
+	}
+}
+
+// What the analysis gets wrong on generated traces. These checks are written and would
+// fail today; they are skipped with the numbers until the analysis (package analyze and
+// analyze/detect) reads these traces right. The findings above allow for both (see
+// diagnose's fireReading and predict's plausibleCell and chatterLight).
+
+// The fire voltage is "the peak before the fall": on a steep charge sampled at 50 Hz it
+// should be the last sample before the fire, read to within one ADC step.
+func TestE2EAnalysisFireVoltageOnSteepCharge(t *testing.T) {
+	t.Skip("analysis: on a steep charge fire_v is the mean of the last two samples, not the last one: " +
+		"Wren at 800 W/m², 50 Hz (61 mV rise per sample), median fire_v − the last sample's true voltage = −29.9 mV " +
+		"(−16.7 mV at 400 W/m², −4.7 mV at 150 W/m²), e.g. the fire at 1.7317 s reads 2.5977 V and 2.6660 V on the last two " +
+		"samples and fire_v is 2.6318 V; the median fire_v is 2.644 V against the true 2.700 V (detect's onset band takes in " +
+		"the sample below the median-of-3 start level)")
+	p := loadProfile(t, "wren.toml")
+	c := circuitOf(t, p)
+	const rate = 50.0
+	r := simulate(t, c, model.Constant(800), 120, rate, 1.5, boardOf(t, p))
+	res := analyse(t, p, r)
+	fires := r.sim.Fires()
+	var d []float64
+	k := 0
+	for _, cy := range res.Cycles {
+		for k < len(fires) && fires[k] < cy.FireS-0.5/rate {
+			k++
+		}
+		if k >= len(fires) {
+			break
+		}
+		i := int(math.Floor(fires[k] * rate)) // the last sample at or before the fire
+		d = append(d, cy.FireV-r.trueV[i])
+	}
+	near(t, "median fire_v − last sample before the fire", med(d), 0, adcStepV)
+}
+
+// A capture of chatter alone still traces the light on each recharge: the per-cycle
+// light_a (the cell's short-circuit current) should be within 20 % of the cell's, and the
+// single-diode fit should not be degenerate.
+func TestE2EAnalysisChatterLight(t *testing.T) {
+	t.Skip("analysis: on a capture of chatter alone (Wren, 22 nF hold, 50 W/m², 100 Hz, 50 mV recharges at 2.65-2.70 V) " +
+		"the median light_a of the 415 chatter cycles is 19.8 mA against the cell's 0.90 mA (22×), and fit.cell is degenerate: " +
+		"ideality n = 0.030 per cell, I0 = 9.5e-308 A, Voc = 2.676 V, below the 2.70 V the node fires at")
+	p := variant(t, "Wren", profileText(t, "wren.toml"), []string{"hold_f = \"2.2u\"", "hold_f = \"22n\""}, "")
+	c := circuitOf(t, p)
+	const g = 50.0
+	res := analyse(t, p, simulate(t, c, model.Constant(g), 120, 100, 1.5, boardOf(t, p)))
+	var l []float64
+	for _, cy := range res.Cycles {
+		if cy.LightA != nil {
+			l = append(l, *cy.LightA)
+		}
+	}
+	if len(l) == 0 {
+		t.Fatal("no light_a on any cycle")
+	}
+	isc := c.Cell.Current(0, g)
+	near(t, "median light_a", med(l), isc, 0.2*isc)
+	if n := res.Fit.Cell.N; n != nil && (n.Value < 0.5 || n.Value > 5) {
+		t.Errorf("fitted ideality %.3g per cell", n.Value)
+	}
 }

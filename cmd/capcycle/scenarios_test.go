@@ -101,8 +101,9 @@ func (r *reader) read(v float64) float64 {
 
 // genRun is a generated capture: the model's own event list and the samples as read.
 type genRun struct {
-	sim  *model.Result
-	t, v []float64
+	sim   *model.Result
+	t, v  []float64
+	trueV []float64 // the node voltage at each sample, before the divider and the ADC (model runs only)
 }
 
 // simulate runs c under light for durS seconds from startV, sampled at rateHz and read
@@ -115,6 +116,7 @@ func simulate(t *testing.T, c *model.Circuit, light model.Light, durS, rateHz, s
 		OnSample: func(s model.Sample) {
 			r.t = append(r.t, s.TS)
 			r.v = append(r.v, rd.read(s.V))
+			r.trueV = append(r.trueV, s.V)
 		}})
 	if err != nil {
 		t.Fatal(err)
