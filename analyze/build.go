@@ -1,6 +1,7 @@
 package analyze
 
 import (
+	"fmt"
 	"math"
 	"sort"
 
@@ -449,9 +450,10 @@ func (b *builder) equilibrium() {
 }
 
 // cell: capacitive-load I-V tracing. I/C = dV/dt + V/tau_leak + drift on each rise; with
-// C known, I = C times that, and the single-diode fit on the rise that spans the widest
-// range of voltage. Per cycle, the cell's short-circuit current (or I/C) is the light
-// level.
+// C known, I = C times that, and the single-diode fit on the rise in the brightest light
+// over a good span (see ivRank). When that fit fails, Isc from a straight line through the
+// traced points extrapolated to 0 V (lineIsc). Per cycle, the cell's short-circuit
+// current (or Isc/C) is the light level.
 func (b *builder) cell() {
 	// The drains over C: the fitted dark decay when there is one, else the probe's known
 	// share alone (when C and the probe are known).
@@ -499,24 +501,31 @@ func (b *builder) cell() {
 	}
 	cf := &b.res.Fit.Cell
 	var d diodeResult
-	if b.capF > 0 && widest >= 0 {
+	var ln ivLine
+	if widest >= 0 {
 		w := rises[widest]
 		if col := b.a.col; len(col.widestIV) > 0 && col.widest == w.idx {
 			w.v, w.i = nil, nil
 			for _, p := range col.widestIV {
+				ic := p.dvdt + drains(p.v)
+				if b.capF > 0 {
+					ic *= b.capF
+				}
 				w.v = append(w.v, p.v)
-				w.i = append(w.i, (p.dvdt+drains(p.v))*b.capF)
+				w.i = append(w.i, ic)
 			}
 		}
-		for k := range w.v {
-			cf.IV = append(cf.IV, [2]float64{w.v[k], w.i[k]})
+		if b.capF > 0 {
+			for k := range w.v {
+				cf.IV = append(cf.IV, [2]float64{w.v[k], w.i[k]})
+			}
+			ns := max(1, b.opts.CellSeries)
+			tk := b.opts.CellTempK
+			if tk <= 0 {
+				tk = 298.15
+			}
+			d = fitDiode(w.v, w.i, ns, tk)
 		}
-		ns := max(1, b.opts.CellSeries)
-		tk := b.opts.CellTempK
-		if tk <= 0 {
-			tk = 298.15
-		}
-		d = fitDiode(w.v, w.i, ns, tk)
 		if d.ok {
 			// Isc = Iph Rsh/(Rs + Rsh) minus a diode current that is nil at 0 V for any
 			// real cell: its SE is taken as the photocurrent's.
@@ -538,18 +547,28 @@ func (b *builder) cell() {
 				cf.RshOhm = est(d.p.Rsh, d.sd.Rsh, "fitted")
 			}
 		} else {
-			b.note("the traced I-V points do not determine the single-diode model (too narrow a span of voltage)")
+			ln = lineIsc(w.v, w.i)
+			if ln.ok && b.capF > 0 {
+				cf.IscA = est(ln.isc, ln.iscSD, "fitted")
+			}
+			b.note(ln.note(b.capF > 0))
 		}
 	}
-	// The light level of each rise.
+	// The light level of each rise: its short-circuit current, from the fitted cell with
+	// the photocurrent that puts the rise's points on its curve, or along the traced line
+	// shifted through them (the shunt slope kept, the current at 0 V moved); the mean
+	// traced current only when neither is known.
 	level := make([]float64, len(rises))
 	top := 0.0
 	for k, r := range rises {
 		var sum float64
 		for j := range r.v {
-			if d.ok {
+			switch {
+			case d.ok:
 				sum += d.iscFor(d.photocurrent(r.v[j], r.i[j]))
-			} else {
+			case ln.ok:
+				sum += r.i[j] - ln.slope*r.v[j]
+			default:
 				sum += r.i[j]
 			}
 		}
@@ -583,6 +602,81 @@ func (b *builder) cell() {
 		pt.FiresH = b.firesPerHour(rises[k].t, rises[j-1].t)
 		b.res.Light = append(b.res.Light, pt)
 	}
+}
+
+// ivLine is a straight line I = isc + slope V through traced I-V points.
+type ivLine struct {
+	ok           bool
+	isc, iscSD   float64
+	slope        float64
+	vLo, vHi     float64 // the voltages it rests on
+	iHi          float64 // the line's current at vHi
+	lowerOnly    bool    // the upper third bent away and was left out
+	points, used int
+}
+
+// lineIsc fits a robust straight line to the traced points (volts, current) and takes its
+// value at 0 V as Isc, with the SE of the intercept. Well below Voc a cell's curve is
+// nearly straight (the shunt's slope); when the line through the lower two thirds of the
+// points (by voltage) disagrees with the one through all of them by more than 3 combined
+// SEs, the curve bends towards Voc in the upper third, and the lower line is used.
+func lineIsc(v, i []float64) ivLine {
+	n := len(v)
+	out := ivLine{points: n}
+	if n < 3 {
+		return out
+	}
+	idx := make([]int, n)
+	for k := range idx {
+		idx[k] = k
+	}
+	sort.Slice(idx, func(a, b int) bool { return v[idx[a]] < v[idx[b]] })
+	sub := func(m int) ([]float64, []float64) {
+		xs, ys := make([]float64, m), make([]float64, m)
+		for k := 0; k < m; k++ {
+			xs[k], ys[k] = v[idx[k]], i[idx[k]]
+		}
+		return xs, ys
+	}
+	xs, ys := sub(n)
+	l := fitLine(xs, ys)
+	if !l.ok {
+		return out
+	}
+	m := n
+	if lo := (2*n + 2) / 3; lo >= 4 && lo < n {
+		xl, yl := sub(lo)
+		if l2 := fitLine(xl, yl); l2.ok && math.Abs(l2.a-l.a) > 3*math.Hypot(l.aSD, l2.aSD) {
+			l, m, out.lowerOnly = l2, lo, true
+		}
+	}
+	if math.IsNaN(l.a) || math.IsNaN(l.aSD) {
+		return out
+	}
+	out.ok, out.isc, out.iscSD, out.slope, out.used = true, l.a, l.aSD, l.b, m
+	out.vLo, out.vHi = xs[0], xs[m-1]
+	out.iHi = l.a + l.b*out.vHi
+	return out
+}
+
+// note says what the line determines and what it does not.
+func (l ivLine) note(amps bool) string {
+	what := "Isc"
+	if !amps {
+		what = "Isc/C"
+	}
+	if !l.ok {
+		return "the traced I-V points do not determine the single-diode model, nor a straight line to 0 V: Isc and Voc are not determined"
+	}
+	s := fmt.Sprintf("the traced I-V points (%.3g to %.3g V) do not determine the single-diode model: %s is the current of a straight line through %d of them extrapolated to 0 V", l.vLo, l.vHi, what, l.used)
+	if l.lowerOnly {
+		s += " (the lower two thirds; the curve bends above)"
+	}
+	s += "; Voc, the maximum power point and the diode parameters (I0, n, Rs, Rsh) are not determined"
+	if l.isc > 0 && l.iHi > 0.8*l.isc {
+		s += ": the traced voltages never go near open circuit (the current at the top of the trace is still within 20 % of Isc)"
+	}
+	return s
 }
 
 // ivEnds extends a straight line through the first three traced points (in order of

@@ -19,9 +19,9 @@ type collector struct {
 	vs    []float64
 	falls int
 
-	widest     int
-	widestSpan float64
-	widestIV   []ivPt
+	widest     int    // the rise chosen for the single-diode fit (see ivRank)
+	widestRank ivRank // its rank
+	widestIV   []ivPt // its traced points, all of them
 	ivBuf      ivBuffers
 }
 
@@ -101,21 +101,17 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 		c.keepDecay(i, s, pts)
 		return
 	}
-	// All the points only for a rise that may be the widest in voltage (for the diode
-	// fit); a few for the others (their light level).
+	// All the points only for a rise that may be the best for the diode fit (see
+	// ivRank); a few for the others (their light level).
+	rank := rankRise(pts)
 	k := ivPerRise
-	if len(pts) > 0 && pts[len(pts)-1].V-pts[0].V <= c.widestSpan {
+	if !rank.better(c.widestRank) {
 		k = ivPerRise / 4
 	}
 	iv := traceIV(pts, s, k, &c.ivBuf)
-	if len(iv) > 0 {
-		span := iv[len(iv)-1].v - iv[0].v
-		if span > c.widestSpan {
-			// The rise over the widest range of voltage keeps all its points, for the
-			// single-diode fit; every rise keeps a few, for its light level.
-			c.widestSpan, c.widest = span, i
-			c.widestIV = append(c.widestIV[:0], iv...)
-		}
+	if len(iv) > 0 && rank.better(c.widestRank) {
+		c.widestRank, c.widest = rank, i
+		c.widestIV = append(c.widestIV[:0], iv...)
 	}
 	step := max(1, len(iv)/(ivPerRise/4))
 	for k := 0; k < len(iv); k += step {
@@ -158,6 +154,44 @@ func (c *collector) keepDecay(i int, s *detect.Swing, pts []detect.Point) {
 	if d > c.decay[k].dur {
 		c.decay[k] = keptSwing{i, d, append(c.decay[k].pts[:0], pts...)}
 	}
+}
+
+// ivRank orders the rises for the cell's I-V tracing: first those with enough points for
+// a fit (ivEnough), then by span^2/duration, the span of voltage times the mean charging
+// rate (which is the mean current over C, the drains aside): a rise in bright light
+// across a wide span, rather than the slow first charge of the day from empty (wide but
+// in faint light) or a short rise in bright light.
+type ivRank struct {
+	ok     bool // a rise was ranked
+	enough bool
+	score  float64
+}
+
+// ivEnough is the number of points a rise needs to be traced at ivPerRise/2 voltages.
+const ivEnough = 3 * ivPerRise / 2
+
+func rankRise(pts []detect.Point) ivRank {
+	n := len(pts)
+	if n < 5 {
+		return ivRank{}
+	}
+	span, dur := pts[n-1].V-pts[0].V, pts[n-1].T-pts[0].T
+	if !(span > 0) || !(dur > 0) {
+		return ivRank{}
+	}
+	return ivRank{ok: true, enough: n >= ivEnough, score: span * span / dur}
+}
+
+func (r ivRank) better(o ivRank) bool {
+	switch {
+	case !r.ok:
+		return false
+	case !o.ok:
+		return true
+	case r.enough != o.enough:
+		return r.enough
+	}
+	return r.score > o.score
 }
 
 // compact averages pts down to at most n points.

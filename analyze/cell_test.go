@@ -1,0 +1,60 @@
+package analyze
+
+import (
+	"math"
+	"strings"
+	"testing"
+
+	"capcycle/analyze/detect/detecttest"
+	"capcycle/analyze/model"
+)
+
+// The built-in Wren circuit (model.Scenario) starting empty in faint light (20 W/m²: a
+// slow first charge over the widest span of voltage), then cycling in bright light
+// (300 W/m²) far below the cell's open-circuit voltage. The I-V tracing takes a bright
+// rise; when the single-diode model is not determined there, Isc is still reported (the
+// traced current extrapolated to 0 V) with an SD, and each cycle's light level is a
+// short-circuit current, near the model's Isc at its light.
+func TestCellBrightRise(t *testing.T) {
+	sc, err := model.Scenario("wren")
+	if err != nil {
+		t.Fatal(err)
+	}
+	light, err := model.NewPiecewise([]float64{0, 60, 61}, []float64{20, 20, 300})
+	if err != nil {
+		t.Fatal(err)
+	}
+	ts, vs, _ := simulate(t, sc.Circuit, light, 150, 50, 0, detecttest.ADC{NoiseV: 1e-3, Bits: 12, FullV: 5, Seed: 31})
+	res := RunSamples(ts, vs, &Options{CapF: sc.Circuit.Storage.CapF, ProbeOhm: sc.Circuit.ProbeOhm, CellSeries: 5})
+	want := sc.Circuit.Cell.Current(0, 300)
+	cf := res.Fit.Cell
+	if cf.IscA == nil || cf.IscA.SD == nil {
+		t.Fatalf("isc_a %+v, want %.4g A with an SD (notes %q)", cf.IscA, want, res.Notes)
+	}
+	// 5 %: the traced currents rest on a few samples per rise, quantised (12 bits on 5 V)
+	if got := cf.IscA.Value; math.Abs(got-want) > 0.05*want {
+		t.Errorf("isc_a %.4g A ± %.2g, model %.4g A at 300 W/m²", got, *cf.IscA.SD, want)
+	}
+	if cf.VocV == nil {
+		found := false
+		for _, n := range res.Notes {
+			found = found || strings.Contains(n, "Voc") && strings.Contains(n, "not determined")
+		}
+		if !found {
+			t.Errorf("voc_v null without a note saying so: %q", res.Notes)
+		}
+	}
+	n := 0
+	for _, c := range res.Cycles {
+		if c.FireS < 70 || c.LightA == nil || c.Kind != "full" {
+			continue
+		}
+		n++
+		if got := *c.LightA; math.Abs(got-want) > 0.1*want {
+			t.Errorf("cycle %d at %.1f s: light_a %.4g A, model Isc %.4g A", c.Index, c.FireS, got, want)
+		}
+	}
+	if n < 5 {
+		t.Errorf("%d bright cycles with a light level, want at least 5", n)
+	}
+}
