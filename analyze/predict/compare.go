@@ -215,8 +215,8 @@ func MeasuredLight(r *analyze.Result, c *model.Circuit) float64 {
 }
 
 // chatterLight is the irradiance a capture of chatter alone was taken under, from the
-// recharges between the tiny fires: the cell gives C·ΔV/t_charge plus the drains at the
-// recharge's mid voltage, and the light is where c's cell gives that current there
+// recharges between the tiny fires: from the previous cycle's reset to this fire the cell
+// gives C·(V_fire − V_reset,prev)/t_charge plus the drains at the recharge's mid voltage, and the light is where c's cell gives that current there
 // (bisection on a log scale between 1e-3 and 1e4 W/m²). The per-cycle light_a of such a
 // capture is not used: a recharge of a few tens of millivolts does not determine the
 // cell's short-circuit current. It returns 0 without chatter or without the capacitance.
@@ -225,12 +225,16 @@ func chatterLight(r *analyze.Result, c *model.Circuit) float64 {
 		return 0
 	}
 	var gs []float64
-	for _, cy := range r.Cycles {
-		if cy.Kind != "chatter" || cy.ChargeS == nil || !(*cy.ChargeS > 0) || !(cy.FireV > cy.ResetV) {
+	for k, cy := range r.Cycles {
+		if k == 0 || cy.Kind != "chatter" || cy.ChargeS == nil || !(*cy.ChargeS > 0) {
 			continue
 		}
-		v := 0.5 * (cy.FireV + cy.ResetV)
-		need := c.Storage.CapF*(cy.FireV-cy.ResetV) / *cy.ChargeS + DrainA(c, v)
+		from := r.Cycles[k-1].ResetV
+		if !(cy.FireV > from) {
+			continue
+		}
+		v := 0.5 * (cy.FireV + from)
+		need := c.Storage.CapF*(cy.FireV-from) / *cy.ChargeS + DrainA(c, v)
 		lo, hi := math.Log(1e-3), math.Log(1e4)
 		if c.Cell.Current(v, math.Exp(hi)) < need || c.Cell.Current(v, math.Exp(lo)) > need {
 			continue
