@@ -246,14 +246,7 @@ func (d *Detector) makeSwing(up, open, gap bool) Swing {
 		}
 	}
 	if len(pts) > 0 {
-		// The fire voltage is the mean of the samples at the starting level.
-		var sum float64
-		var w int
-		for _, p := range pts[:k+1] {
-			sum += p.V * float64(p.N)
-			w += p.N
-		}
-		sw.OnsetS, sw.OnsetV = pts[k].T, sum/float64(w)
+		sw.OnsetS, sw.OnsetV = pts[k].T, levelAt(pts[:k+1])
 		sw.OnsetIndex, sw.ResetIndex = k, len(pts)-1
 	}
 	// The reset is where the fast fall stops: the first sample (median of 3) within the
@@ -378,3 +371,33 @@ func (d *Detector) endZigzag(gap bool) {
 
 // Swings returns the swings confirmed so far (for tests and debugging).
 func (d *Detector) Swings() []Swing { return d.swings }
+
+// levelAt is the fire voltage from the samples at the starting level (the last one is the
+// onset): a straight line through them, weighted by the samples each point stands for,
+// evaluated at the onset. On a flat top that is their mean (the noise averaged away); on
+// a charge still rising steeply it is the last sample's level, not the mean of a rising
+// stretch, which would read low by half the rise across it.
+func levelAt(pts []Point) float64 {
+	n := len(pts)
+	if n == 1 {
+		return pts[0].V
+	}
+	var sw, st, sv float64
+	for _, p := range pts {
+		w := float64(p.N)
+		sw += w
+		st += w * p.T
+		sv += w * p.V
+	}
+	mt, mv := st/sw, sv/sw
+	var stt, stv float64
+	for _, p := range pts {
+		w := float64(p.N)
+		stt += w * (p.T - mt) * (p.T - mt)
+		stv += w * (p.T - mt) * (p.V - mv)
+	}
+	if !(stt > 0) {
+		return mv
+	}
+	return mv + stv/stt*(pts[n-1].T-mt)
+}
