@@ -29,7 +29,7 @@ var Codes = map[string]string{
 	CodeWeakPulse:      "energy per pulse below what the load needs to start",
 	CodeEarlyRelease:   "the trigger releases well above its declared release voltage",
 	CodeLeakyCap:       "capacitor leakage above its datasheet limit",
-	CodeProbeHeavy:     "the probe divider draws more than 10 % of the node's drain",
+	CodeProbeHeavy:     "the probe divider draws more than 10 % of the node's drain (a warning when it changes the period by 5 % or more, or keeps the circuit from firing)",
 	CodeClipping:       "samples at the ADC's full scale: the divider ratio is too small",
 	CodeGaps:           "stretches of the capture with no samples",
 	CodeLost:           "samples the recorder counted as lost",
