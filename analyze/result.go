@@ -18,16 +18,19 @@ type Result struct {
 	Cycles   []Cycle   `json:"cycles"`
 	Segments []Segment `json:"segments"`
 
-	Fit          Fit          `json:"fit"`
-	EquilibriumV *Estimate    `json:"equilibrium_v"`
-	Equilibrium  *Settling    `json:"equilibrium,omitempty"`
-	Capacitance  *Capacity    `json:"capacitance,omitempty"`
-	Noise        *Noise       `json:"noise,omitempty"`
-	Light        []LightPt    `json:"light,omitempty"`
-	Findings     []Finding    `json:"findings"`
-	Prediction   *Prediction  `json:"prediction"`
-	Declared     *Declared    `json:"declared,omitempty"`
-	Envelope     []EnvelopePt `json:"envelope,omitempty"`
+	Fit          Fit       `json:"fit"`
+	EquilibriumV *Estimate `json:"equilibrium_v"`
+	Equilibrium  *Settling `json:"equilibrium,omitempty"`
+	Capacitance  *Capacity `json:"capacitance,omitempty"`
+	Noise        *Noise    `json:"noise,omitempty"`
+	Light        []LightPt `json:"light,omitempty"`
+	Findings     []Finding `json:"findings"`
+	// Attribution compares each declared part the capture measured with its declared
+	// value, against the part's tolerance; the largest contradiction first.
+	Attribution []Attribution `json:"attribution,omitempty"`
+	Prediction  *Prediction   `json:"prediction"`
+	Declared    *Declared     `json:"declared,omitempty"`
+	Envelope    []EnvelopePt  `json:"envelope,omitempty"`
 
 	// Traces are a few measured cycles, decimated, with time relative to the fire, for the
 	// overlay plot; ModelTrace is the fitted model's cycle on the same axis.
@@ -195,6 +198,23 @@ type Finding struct {
 	Message    string             `json:"message"`
 	Suggestion string             `json:"suggestion,omitempty"`
 	Numbers    map[string]float64 `json:"numbers"`
+}
+
+// Attribution is one declared part against what the capture measured.
+type Attribution struct {
+	Part     string   `json:"part"` // profile key, e.g. "storage.cap_f"
+	Unit     string   `json:"unit"`
+	Declared float64  `json:"declared"`
+	Measured float64  `json:"measured"`
+	SD       *float64 `json:"sd"`
+	DiffPct  float64  `json:"diff_pct"` // (measured − declared) / declared, %
+	// The band the measurement is judged against, % below and above the declared value,
+	// and where it comes from ("tolerance code M", "stated accuracy", "datasheet limit",
+	// "two standard errors").
+	TolMinusPct float64 `json:"tol_minus_pct"`
+	TolPlusPct  float64 `json:"tol_plus_pct"`
+	Basis       string  `json:"basis"`
+	Within      bool    `json:"within"`
 }
 
 // Declared is the profile's view of the circuit, kept for the parameter table.

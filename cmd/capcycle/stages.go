@@ -46,6 +46,7 @@ func laterStages(p *profile.Profile, opts *analyze.Options, file string, setup f
 			}
 		}
 		res.Findings = diagnose.Diagnose(in)
+		res.Attribution = diagnose.Attribute(res, p)
 		return nil
 	}
 }
