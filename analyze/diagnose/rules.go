@@ -506,10 +506,10 @@ func (d *diag) nominal() {
 }
 
 // fireReading says how well the capture pins down the fire voltage. The analysis reads it
-// as the mean of the samples still at the starting level (within four noise SDs, at least
-// one ADC step, of the peak) before the fall, and the fire comes somewhere within one
-// sample interval after the last of them, so the reading is low by up to the rise per
-// sample plus that band, and high by at most the band. rise is the median charging slope
+// from the samples still at the starting level (within four noise SDs, at least one ADC
+// step, of the peak) before the fall, and the fire comes somewhere within one sample
+// interval after the last of them, so the reading is low by up to the rise per sample plus
+// that band, and high by at most the band. rise is the median charging slope
 // of the full cycles, (fire_v − reset_v)/charge_s, times the mean sample spacing outside
 // gaps: an upper bound where the charge slows towards the fire, which makes the check err on
 // the side of no finding.

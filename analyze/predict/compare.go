@@ -217,9 +217,10 @@ func MeasuredLight(r *analyze.Result, c *model.Circuit) float64 {
 // chatterLight is the irradiance a capture of chatter alone was taken under, from the
 // recharges between the tiny fires: from the previous cycle's reset to this fire the cell
 // gives C·(V_fire − V_reset,prev)/t_charge plus the drains at the recharge's mid voltage, and the light is where c's cell gives that current there
-// (bisection on a log scale between 1e-3 and 1e4 W/m²). The per-cycle light_a of such a
-// capture is not used: a recharge of a few tens of millivolts does not determine the
-// cell's short-circuit current. It returns 0 without chatter or without the capacitance.
+// (bisection on a log scale between 1e-3 and 1e4 W/m²). This needs only the cycles' times
+// and voltages, not the per-cycle light_a, whose extrapolation to 0 V from a recharge of a
+// few tens of millivolts is not relied on. It returns 0 without chatter or without the
+// capacitance.
 func chatterLight(r *analyze.Result, c *model.Circuit) float64 {
 	if c.Storage.CapF <= 0 {
 		return 0
