@@ -610,7 +610,7 @@ type ivLine struct {
 	isc, iscSD   float64
 	slope        float64
 	vLo, vHi     float64 // the voltages it rests on
-	iHi          float64 // the line's current at vHi
+	iHi          float64 // the traced current at the highest traced voltage
 	lowerOnly    bool    // the upper third bent away and was left out
 	points, used int
 }
@@ -655,7 +655,7 @@ func lineIsc(v, i []float64) ivLine {
 	}
 	out.ok, out.isc, out.iscSD, out.slope, out.used = true, l.a, l.aSD, l.b, m
 	out.vLo, out.vHi = xs[0], xs[m-1]
-	out.iHi = l.a + l.b*out.vHi
+	out.iHi = i[idx[n-1]] // the traced current at the highest voltage
 	return out
 }
 

@@ -108,7 +108,7 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 	if !rank.better(c.widestRank) {
 		k = ivPerRise / 4
 	}
-	iv := traceIV(pts, s, k, &c.ivBuf)
+	iv := traceIV(pts, s, k, 4*math.Max(c.det.StepV(), 2*c.det.NoiseV()), &c.ivBuf)
 	if len(iv) > 0 && rank.better(c.widestRank) {
 		c.widestRank, c.widest = rank, i
 		c.widestIV = append(c.widestIV[:0], iv...)
@@ -217,8 +217,11 @@ func compact(pts []detect.Point, n int) []tvPt {
 // traceIV evaluates the slope of a rise at up to want voltages spread evenly over
 // its range (so the I-V curve is covered where the voltage moves fast and where it
 // crawls alike), each from a local quadratic least-squares fit (Savitzky-Golay on the
-// non-uniform points) over the neighbouring points.
-func traceIV(pts []detect.Point, s *detect.Swing, want int, buf *ivBuffers) []ivPt {
+// non-uniform points) over the neighbouring points. The window is widened, on both sides
+// alike, until it spans at least minSpanV of voltage: on a slow rise read in coarse ADC
+// steps the levels fall on the steps' edges, and a window narrower than a few steps
+// would take the edge for the slope.
+func traceIV(pts []detect.Point, s *detect.Swing, want int, minSpanV float64, buf *ivBuffers) []ivPt {
 	n := len(pts)
 	if n < 5 {
 		return nil
@@ -240,7 +243,12 @@ func traceIV(pts []detect.Point, s *detect.Swing, want int, buf *ivBuffers) []iv
 			continue
 		}
 		last = c
-		a, b := max(0, c-half), min(n, c+half+1)
+		h := half
+		a, b := max(0, c-h), min(n, c+h+1)
+		for minSpanV > 0 && pts[b-1].V-pts[a].V < minSpanV && (a > 0 || b < n) {
+			h++
+			a, b = max(0, c-h), min(n, c+h+1)
+		}
 		ts, vs = ts[:0], vs[:0]
 		for _, p := range pts[a:b] {
 			ts = append(ts, p.T)

@@ -106,6 +106,9 @@ func fitDiode(v, i []float64, ns int, tK float64) diodeResult {
 	}
 	d := diodeResult{ok: true, p: f.Params, sd: f.SD, vt: f.Vt, voc: f.Voc, isc: f.Isc,
 		vmp: f.Vmp, pmp: f.Pmp, rmse: f.RMSE}
+	if err == nil && !plausibleDiode(f.Params.N, f.Voc, v, i) {
+		return diodeResult{}
+	}
 	if err != nil {
 		// A near-ideal cell drives Rs to 0 and Rsh to infinity, where the solver stops
 		// without converging: the curve (Isc, Voc, the maximum power point) is still
@@ -135,4 +138,25 @@ func (d *diodeResult) iscFor(iph float64) float64 {
 	p := d.p
 	p.Iph = iph
 	return p.Isc(d.vt)
+}
+
+// plausibleDiode rejects a single-diode fit that no real cell gives: an ideality factor
+// per cell outside 0.5 to 10 (real cells lie between about 1 and 2, amorphous and
+// multi-junction ones per cell somewhat above; from memory), or an open-circuit voltage
+// below a traced point that still delivers current (the cell gives none beyond Voc). A
+// fit to a short span far from Voc can reach either, trading I0 against n.
+func plausibleDiode(n, voc float64, v, i []float64) bool {
+	if !(n >= 0.5 && n <= 10) || math.IsNaN(voc) {
+		return false
+	}
+	top := 0.0
+	for _, x := range i {
+		top = math.Max(top, x)
+	}
+	for k := range v {
+		if v[k] > voc && i[k] > 0.05*top {
+			return false
+		}
+	}
+	return true
 }
