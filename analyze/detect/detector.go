@@ -104,18 +104,19 @@ type Detector struct {
 	np     int
 
 	// noise
-	blk      []float64
-	blkT     []float64
-	scratch  []float64
-	sds      []float64
-	sd       float64
-	step     float64
-	swingMin float64
-	vscale   float64
-	gapS     float64
-	dtTyp    float64
-	nblk     int
-	skip     int
+	blk       []float64
+	blkT      []float64
+	scratch   []float64
+	sds       []float64
+	sd        float64
+	step      float64
+	swingMin  float64
+	vscale    float64
+	gapS      float64
+	dtTyp     float64
+	nblk      int
+	stepTries int // blocks searched for a step after the first samples showed none
+	skip      int
 
 	// saturation and gaps
 	satOn    bool
@@ -414,17 +415,18 @@ func (d *Detector) noise(t, v float64) {
 	if len(d.blk) < noiseBlock {
 		return
 	}
-	if d.step == 0 && d.cfg.StepV == 0 {
-		// No step showed yet (the first samples may not have moved): look again.
-		d.step = ADCStep(d.blk, d.scratch)
-	}
 	sd, used := noiseSD(d.blkT, d.blk, d.scratch)
 	if used < noiseBlock/16 {
 		// Mostly runs of one value: nothing to learn about the noise here; the next
 		// block is taken instead.
 		d.blk, d.blkT = d.blk[:0], d.blkT[:0]
-		d.setSwingMin()
 		return
+	}
+	if d.step == 0 && d.cfg.StepV == 0 && d.stepTries < 8 {
+		// No step showed yet (the first samples may not have moved): look again, in
+		// the first few blocks that move.
+		d.stepTries++
+		d.step = ADCStep(d.blk, d.scratch)
 	}
 	d.nblk++
 	d.sds = append(d.sds, sd)
