@@ -101,6 +101,10 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 		c.keepDecay(i, s, pts)
 		return
 	}
+	// A rise that starts on a flat stretch (the bottom of a dark decay, held at 0 V until
+	// the light returns) is taken from the last point still at its starting level: the
+	// flat part is no charging, neither for the I-V tracing nor for the approach's fit.
+	pts = pts[flatStart(pts, math.Max(4*noise, c.det.StepV())):]
 	// All the points only for a rise that may be the best for the diode fit (see
 	// ivRank); a few for the others (their light level).
 	rank := rankRise(pts)
@@ -154,6 +158,16 @@ func (c *collector) keepDecay(i int, s *detect.Swing, pts []detect.Point) {
 	if d > c.decay[k].dur {
 		c.decay[k] = keptSwing{i, d, append(c.decay[k].pts[:0], pts...)}
 	}
+}
+
+// flatStart returns the index of the last of the leading points within band of the
+// first one (0 when the second point already leaves it).
+func flatStart(pts []detect.Point, band float64) int {
+	k := 0
+	for k+1 < len(pts) && math.Abs(pts[k+1].V-pts[0].V) <= band {
+		k++
+	}
+	return k
 }
 
 // ivRank orders the rises for the cell's I-V tracing: first those with enough points for

@@ -5,6 +5,7 @@ import (
 	"testing"
 
 	"capcycle/analyze/detect/detecttest"
+	"capcycle/analyze/model"
 )
 
 // A stall whose true settling voltage is the trigger's own 4.00 V (20 uA into 200 kOhm,
@@ -45,5 +46,38 @@ func TestEquilibriumAtTheTrigger(t *testing.T) {
 	}
 	if above == 0 || below == 0 {
 		t.Errorf("%d estimates above and %d below the 4.00 V trigger: pinned to one side", above, below)
+	}
+}
+
+// The last rise starts after a dark stretch that ended at 0 V: 17 s flat at the bottom
+// before the light returns (Wren with a 1 kOhm leak, 100 W/m², dark from 60 to 100 s,
+// 20 Hz, 10-bit ADC). The approach is fitted from where the voltage leaves the bottom,
+// not from the start of the flat stretch, so its asymptote is the true equilibrium (the
+// noise-free run's last value) to within two ADC steps.
+func TestEquilibriumAfterFlatStart(t *testing.T) {
+	sc, err := model.Scenario("wren")
+	if err != nil {
+		t.Fatal(err)
+	}
+	c := sc.Circuit
+	c.Storage.LeakOhm = 1e3
+	const g = 100.0
+	light, err := model.NewPiecewise([]float64{0, 60, 60.01, 100, 100.01, 400}, []float64{g, g, 0, 0, g, g})
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, truth, _ := simulate(t, c, light, 160, 20, 0.5, detecttest.ADC{})
+	lsb := 10.0 / 1024
+	ts, vs, sim := simulate(t, c, light, 160, 20, 0.5, detecttest.ADC{NoiseV: 2e-3, Bits: 10, FullV: 10, Seed: 61})
+	if len(sim.Fires()) != 0 {
+		t.Fatal("the model fired")
+	}
+	res := RunSamples(ts, vs, &Options{CapF: c.Storage.CapF, ProbeOhm: c.ProbeOhm})
+	veq := truth[len(truth)-1]
+	if res.EquilibriumV == nil {
+		t.Fatalf("no equilibrium; true %.4f V", veq)
+	}
+	if got := res.EquilibriumV.Value; math.Abs(got-veq) > 2*lsb {
+		t.Errorf("equilibrium %.4f V, true %.4f V (two steps: %.4f V)", got, veq, 2*lsb)
 	}
 }
