@@ -539,6 +539,7 @@ func (b *builder) cell() {
 				cf.IscA = est(isc, math.NaN(), "measured")
 				cf.VocV = est(voc, math.NaN(), "measured")
 				cf.MppV, cf.MppW = ptr(vmp), ptr(pmp)
+				ln = lineIsc(w.v, w.i) // the light levels: the stopped solver's cell is no guide
 				b.note("the cell looks near-ideal (series resistance near 0, shunt near infinite): Isc, Voc and the maximum power point come from the traced curve; Rs, Rsh, I0 and n are not determined")
 			} else {
 				cf.I0A = est(d.p.I0, d.sd.I0, "fitted")
@@ -564,7 +565,7 @@ func (b *builder) cell() {
 		var sum float64
 		for j := range r.v {
 			switch {
-			case d.ok:
+			case d.ok && !d.partial:
 				sum += d.iscFor(d.photocurrent(r.v[j], r.i[j]))
 			case ln.ok:
 				sum += r.i[j] - ln.slope*r.v[j]
@@ -573,6 +574,10 @@ func (b *builder) cell() {
 			}
 		}
 		level[k] = sum / float64(len(r.v))
+		if math.IsNaN(level[k]) || math.IsInf(level[k], 0) {
+			level[k] = math.NaN() // not determined for this rise
+			continue
+		}
 		top = math.Max(top, level[k])
 	}
 	byRise := map[int]int{}
@@ -581,7 +586,7 @@ func (b *builder) cell() {
 	}
 	for ci := range b.res.Cycles {
 		c := &b.sum.Cycles[ci]
-		if k, ok := byRise[c.Swing-1]; ok {
+		if k, ok := byRise[c.Swing-1]; ok && !math.IsNaN(level[k]) {
 			b.res.Cycles[ci].LightA = ptr(level[k])
 		}
 	}
@@ -589,15 +594,21 @@ func (b *builder) cell() {
 	step := (len(rises) + 1999) / 2000
 	for k := 0; k < len(rises); k += step {
 		j := min(len(rises), k+step)
-		var t, l float64
+		var t, l, nl float64
 		for q := k; q < j; q++ {
 			t += rises[q].t
-			l += level[q]
+			if !math.IsNaN(level[q]) {
+				l += level[q]
+				nl++
+			}
+		}
+		if nl == 0 {
+			continue
 		}
 		n := float64(j - k)
 		pt := LightPt{TS: t / n}
 		if top > 0 {
-			pt.Level = l / n / top
+			pt.Level = l / nl / top
 		}
 		pt.FiresH = b.firesPerHour(rises[k].t, rises[j-1].t)
 		b.res.Light = append(b.res.Light, pt)
