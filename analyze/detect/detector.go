@@ -10,7 +10,9 @@ import (
 type Config struct {
 	// NoiseV is the sample noise SD in volts. Default: estimated (NoiseSD) block by block.
 	NoiseV float64
-	// StepV is the ADC step in volts. Default: estimated (ADCStep) from the first samples.
+	// StepV is the ADC step in volts. Default: estimated (ADCStep) from the first samples
+	// (the first that move, when the capture starts on one value), and looked for again in
+	// the first few moving blocks when those show none.
 	StepV float64
 	// MinSwingV is the smallest rise or fall the detector follows. Default:
 	// max(8 * noise, 3 * step, 1e-4 * the first samples' largest |v|, 1 uV).

@@ -16,14 +16,20 @@
 //
 //  1. Noise and resolution: the noise SD from the median absolute second difference
 //     (NoiseSD, exact for non-uniform spacing), re-estimated block by block; the ADC step
-//     from the grid the samples sit on (ADCStep).
+//     from the grid the samples sit on (ADCStep), unless Config.StepV gives it (a
+//     capture's metadata). Both look at the stretches that move: a run of one value
+//     counts as at most RunCap repeats, a block that hardly moves is skipped, and when
+//     the first samples hold one value (an empty capacitor at night) the estimates wait
+//     for the first samples after it changes.
 //  2. A median of 3 removes single-sample spikes (a motor's commutation) from the
 //     decisions; the raw samples are kept for the values.
 //  3. A zigzag with hysteresis MinSwingV (8 noise SDs, 3 ADC steps) splits the trace into
 //     rises and falls. A fall's end stays provisional until the rise after it proves
 //     itself, so a spike inside a pulse does not cut the pulse in two.
 //  4. Onset: the last sample at the level the fall starts from (within 4 noise SDs).
-//     Reset: the first sample (median of 3) within that band of the trough.
+//     The fire voltage is a straight line through the samples at that level, at the
+//     onset (their mean on a flat top, the last one's level on a steep charge). Reset:
+//     the first sample (median of 3) within that band of the trough.
 //  5. At Finish, a fall is a fire when it is fast: its implied time constant
 //     (fall time * V / dV) sits in the lower of two groups a factor of 8 apart when the
 //     falls form two groups (pulses through the load, slow decays through the leak), it
