@@ -556,8 +556,10 @@ func (b *builder) cell() {
 		}
 	}
 	// The light level of each rise: its short-circuit current, from the fitted cell with
-	// the photocurrent that puts the rise's points on its curve, or along the traced line
-	// shifted through them (the shunt slope kept, the current at 0 V moved); the mean
+	// the photocurrent that puts the rise's points on its curve, or else its mean traced
+	// current scaled as the traced line's Isc is to the mean current of the rise it was
+	// drawn through (the curve's shape taken to scale with the light; a slope carried
+	// over from one rise to all would put its error into every faint one); the mean
 	// traced current only when neither is known.
 	level := make([]float64, len(rises))
 	top := 0.0
@@ -567,8 +569,8 @@ func (b *builder) cell() {
 			switch {
 			case d.ok && !d.partial:
 				sum += d.iscFor(d.photocurrent(r.v[j], r.i[j]))
-			case ln.ok:
-				sum += r.i[j] - ln.slope*r.v[j]
+			case ln.ok && ln.meanI > 0:
+				sum += r.i[j] * ln.isc / ln.meanI
 			default:
 				sum += r.i[j]
 			}
@@ -622,6 +624,7 @@ type ivLine struct {
 	slope        float64
 	vLo, vHi     float64 // the voltages it rests on
 	iHi          float64 // the traced current at the highest traced voltage
+	meanI        float64 // the mean traced current of all the points
 	lowerOnly    bool    // the upper third bent away and was left out
 	points, used int
 }
@@ -667,6 +670,7 @@ func lineIsc(v, i []float64) ivLine {
 	out.ok, out.isc, out.iscSD, out.slope, out.used = true, l.a, l.aSD, l.b, m
 	out.vLo, out.vHi = xs[0], xs[m-1]
 	out.iHi = i[idx[n-1]] // the traced current at the highest voltage
+	out.meanI = meanOf(i)
 	return out
 }
 
