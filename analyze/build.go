@@ -625,6 +625,8 @@ type ivLine struct {
 	vLo, vHi     float64 // the voltages it rests on
 	iHi          float64 // the traced current at the highest traced voltage
 	meanI        float64 // the mean traced current of all the points
+	changing     bool    // the current rises with the voltage: the light changed
+	iLo          float64 // with changing: the current at vLo
 	lowerOnly    bool    // the upper third bent away and was left out
 	points, used int
 }
@@ -653,6 +655,10 @@ func lineIsc(v, i []float64) ivLine {
 		return xs, ys
 	}
 	xs, ys := sub(n)
+	if k, lo, hi := risingCurrent(ys); k >= 0 {
+		out.changing, out.vLo, out.vHi, out.iLo, out.iHi = true, xs[1], xs[k], lo, hi
+		return out
+	}
 	l := fitLine(xs, ys)
 	if !l.ok {
 		return out
@@ -674,11 +680,36 @@ func lineIsc(v, i []float64) ivLine {
 	return out
 }
 
+// risingCurrent looks, in currents ordered by voltage, for a 3-point running mean more
+// than 10 % above the first one (the lowest voltages): a cell under steady light gives
+// less current at a higher voltage, never more, so such a rise was traced while the light
+// grew (a slow charge through a morning). It returns the centre of the highest running
+// mean and the two means, or k = -1 when the currents do not rise.
+func risingCurrent(i []float64) (k int, first, top float64) {
+	if len(i) < 6 {
+		return -1, 0, 0
+	}
+	run := func(c int) float64 { return (i[c-1] + i[c] + i[c+1]) / 3 }
+	first, top, k = run(1), run(1), 1
+	for c := 2; c+1 < len(i); c++ {
+		if m := run(c); m > top {
+			top, k = m, c
+		}
+	}
+	if !(first > 0) || top <= 1.1*first {
+		return -1, 0, 0
+	}
+	return k, first, top
+}
+
 // note says what the line determines and what it does not.
 func (l ivLine) note(amps bool) string {
 	what := "Isc"
 	if !amps {
 		what = "Isc/C"
+	}
+	if l.changing {
+		return fmt.Sprintf("the traced current rises with the voltage (%.3g to %.3g from %.3g to %.3g V): the light grew while the rise was traced, so its points are no I-V curve; Isc, Voc and the diode parameters are not determined, and each cycle's light level is its mean charging current", l.iLo, l.iHi, l.vLo, l.vHi)
 	}
 	if !l.ok {
 		return "the traced I-V points do not determine the single-diode model, nor a straight line to 0 V: Isc and Voc are not determined"

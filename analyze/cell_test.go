@@ -93,3 +93,34 @@ func TestCellChatterLight(t *testing.T) {
 		t.Errorf("degenerate single-diode fit: ideality %.3g per cell", n.Value)
 	}
 }
+
+// Fern charging from empty through a morning whose light grows from 0 to 40 W/m² over four
+// hours, never firing: the one long rise is traced while the light changes, so its traced
+// current rises with the voltage, which no cell under steady light does. No Isc is read
+// from it (it would be some mixture of the morning's light levels), and a note says why.
+func TestCellGrowingLight(t *testing.T) {
+	sc, err := model.Scenario("fern")
+	if err != nil {
+		t.Fatal(err)
+	}
+	light, err := model.NewPiecewise([]float64{0, 4 * 3600}, []float64{0, 40})
+	if err != nil {
+		t.Fatal(err)
+	}
+	ts, vs, sim := simulate(t, sc.Circuit, light, 4*3600, 0.5, 0, detecttest.ADC{NoiseV: 1e-3, Bits: 12, FullV: 10, Seed: 81})
+	if len(sim.Fires()) != 0 {
+		t.Fatal("the model fired")
+	}
+	res := RunSamples(ts, vs, &Options{CapF: sc.Circuit.Storage.CapF, ProbeOhm: sc.Circuit.ProbeOhm, CellSeries: sc.Circuit.Cell.Cells})
+	if cf := res.Fit.Cell; cf.IscA != nil {
+		t.Errorf("isc_a %.4g A from a rise traced in growing light (the cell's Isc went from 0 to %.4g A); notes %q",
+			cf.IscA.Value, sc.Circuit.Cell.Current(0, 40), res.Notes)
+	}
+	found := false
+	for _, n := range res.Notes {
+		found = found || strings.Contains(n, "light grew")
+	}
+	if !found {
+		t.Errorf("no note on the growing light: %q", res.Notes)
+	}
+}
