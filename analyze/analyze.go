@@ -100,7 +100,9 @@ type batch struct {
 	meta  []capture.Field // the first batch only
 }
 
-// RunSamples analyses samples already in memory (t increasing), as Run does for a file.
+// RunSamples analyses samples already in memory (t increasing), as Run does for a file,
+// except that it does not call opts.Post (it has no error to return): a caller that wants
+// the later stages calls the hook on the Result itself.
 func RunSamples(t, v []float64, opts *Options) *Result {
 	if opts == nil {
 		opts = &Options{}
