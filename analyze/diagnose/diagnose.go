@@ -34,7 +34,7 @@ func Diagnose(in *Input) []analyze.Finding {
 	if d.c != nil {
 		d.g = in.LightWm2
 		if d.g <= 0 {
-			d.g = MeasuredLight(in.Result, d.c)
+			d.g = predict.MeasuredLight(in.Result, d.c)
 		}
 	}
 	d.capture()
@@ -111,11 +111,8 @@ func (d *diag) onV() (float64, string) {
 		return e.Value, "measured"
 	}
 	if c := d.c; c != nil {
-		switch c.Trigger.Kind {
-		case model.TriggerVoltage:
-			return c.Trigger.OnV, "declared"
-		case model.TriggerHold:
-			return c.Trigger.OnV + c.Trigger.DiodeV, "declared"
+		if k := c.Trigger.Kind; k == model.TriggerVoltage || k == model.TriggerHold {
+			return predict.FireThresholdV(c), "declared"
 		}
 	}
 	if d.in.Profile != nil && d.in.Profile.Trigger.OnV > 0 {
@@ -125,14 +122,6 @@ func (d *diag) onV() (float64, string) {
 		return *d.r.Declared.OnV, "declared"
 	}
 	return math.NaN(), ""
-}
-
-// MeasuredLight estimates the irradiance a capture was taken under (see
-// predict.MeasuredLight).
-func MeasuredLight(r *analyze.Result, c *model.Circuit) float64 { return predict.MeasuredLight(r, c) }
-
-func lightForEquilibrium(c *model.Circuit, veq float64) float64 {
-	return predict.LightForEquilibrium(c, veq)
 }
 
 func fmtV(v float64) string { return units.Format(v, "V") }

@@ -137,7 +137,7 @@ func (d *diag) notFiring() {
 		return
 	}
 	if peak && d.c != nil && d.in.LightWm2 <= 0 {
-		d.g = lightForEquilibrium(d.c, veq)
+		d.g = predict.LightForEquilibrium(d.c, veq)
 	}
 	nums := map[string]float64{"equilibrium_v": veq, "on_v": on, "short_v": on - veq}
 	msg := fmt.Sprintf("The voltage settles at %s, %s below the %s trigger, where the cell's current equals the drains.", fmtV(veq), fmtV(on-veq), fmtV(on))
@@ -173,7 +173,7 @@ func (d *diag) notFiring() {
 		msg += fmt.Sprintf(" Of the %s drain there, %s takes %.0f %%.", units.Format(total, "A"), largest, 100*share)
 		// Each remedy on its own, with the model's prediction of the cycle it gives.
 		var opts []string
-		if gNeed := lightForEquilibrium(c, thr); gNeed > 0 {
+		if gNeed := predict.LightForEquilibrium(c, thr); gNeed > 0 {
 			nums["light_factor"] = gNeed / d.g
 			if f, ok := steadyWith(c, gNeed, func(*model.Circuit) {}); ok && f.Fires {
 				nums["period_with_light_s"] = f.PeriodS

@@ -43,6 +43,20 @@ type Supervisor struct {
 	MinSupplyV float64 // supply below which the current fades, volts (0: never fades)
 }
 
+// CurrentA returns the supervisor's draw with its supply at s volts: QuiescentA at and above
+// MinSupplyV, fading by the smoothstep of the type's doc below it, 0 at or below 0 V.
+func (sv Supervisor) CurrentA(s float64) float64 {
+	iq, vmin := sv.QuiescentA, sv.MinSupplyV
+	if iq == 0 || vmin == 0 || s >= vmin {
+		return iq
+	}
+	if s <= 0 {
+		return 0
+	}
+	u := s / vmin
+	return iq * u * u * (3 - 2*u)
+}
+
 // TriggerKind says what turns the switch on and off.
 type TriggerKind int
 

@@ -250,18 +250,7 @@ func (e *engine) stateOf(y *vec, m mode) State {
 }
 
 // quiescent returns the supervisor current at supply s.
-func (e *engine) quiescent(s float64) float64 {
-	iq := e.c.Supervisor.QuiescentA
-	vmin := e.c.Supervisor.MinSupplyV
-	if iq == 0 || vmin == 0 || s >= vmin {
-		return iq
-	}
-	if s <= 0 {
-		return 0
-	}
-	u := s / vmin
-	return iq * u * u * (3 - 2*u)
-}
+func (e *engine) quiescent(s float64) float64 { return e.c.Supervisor.CurrentA(s) }
 
 // motorCurrent returns the armature current: the state when the inductance is integrated,
 // otherwise the quasi-static (V_sw - Ke ω)/(R + R_on), never negative (the switch blocks

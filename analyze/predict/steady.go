@@ -60,7 +60,7 @@ func Steady(c *model.Circuit, g float64, opt *Options) (Figures, error) {
 	}
 	veq := EquilibriumV(c, g)
 	start := startV(c)
-	if c.Trigger.Kind != model.TriggerTimer && c.Trigger.Kind != model.TriggerNone && veq < fireThreshold(c) {
+	if c.Trigger.Kind != model.TriggerTimer && c.Trigger.Kind != model.TriggerNone && veq < FireThresholdV(c) {
 		return settled(c, g, veq), nil
 	}
 	// Guess the length from the charge from start to the trigger at the mean net current;
@@ -117,9 +117,9 @@ func settled(c *model.Circuit, g, veq float64) Figures {
 		ChargeS: math.Inf(1), PeriodS: math.Inf(1), FireV: math.NaN(), ResetV: math.NaN()}
 }
 
-// fireThreshold is the node voltage the trigger needs: OnV, plus the hold diode's drop for
+// FireThresholdV is the node voltage the trigger needs: OnV, plus the hold diode's drop for
 // a hold trigger (the supervisor watches the hold capacitor), or ArmV for a plateau trigger.
-func fireThreshold(c *model.Circuit) float64 {
+func FireThresholdV(c *model.Circuit) float64 {
 	switch c.Trigger.Kind {
 	case model.TriggerHold:
 		return c.Trigger.OnV + c.Trigger.DiodeV
@@ -145,7 +145,7 @@ func firstGuessS(c *model.Circuit, g, start float64) float64 {
 	if c.Trigger.Kind == model.TriggerTimer {
 		return c.Trigger.PhaseS + 6*c.Trigger.PeriodS
 	}
-	von := fireThreshold(c)
+	von := FireThresholdV(c)
 	net := NetCurrentA(c, g, 0.5*(start+von))
 	if net <= 0 {
 		return 600
@@ -170,27 +170,13 @@ func DrainA(c *model.Circuit, v float64) float64 {
 	return i + QuiescentA(c, v)
 }
 
-// QuiescentA is the supervisor's draw with the node at v.
+// QuiescentA is the supervisor's draw with the node at v: its supply is the node, or the
+// hold capacitor one diode drop below it for a hold trigger.
 func QuiescentA(c *model.Circuit, v float64) float64 {
-	s := v
 	if c.Trigger.Kind == model.TriggerHold {
-		s = v - c.Trigger.DiodeV
+		v -= c.Trigger.DiodeV
 	}
-	q := c.Supervisor.QuiescentA
-	if q == 0 {
-		return 0
-	}
-	if c.Supervisor.MinSupplyV <= 0 {
-		return q
-	}
-	u := s / c.Supervisor.MinSupplyV
-	switch {
-	case u <= 0:
-		return 0
-	case u >= 1:
-		return q
-	}
-	return q * u * u * (3 - 2*u)
+	return c.Supervisor.CurrentA(v)
 }
 
 // NetCurrentA is the charging current of the node at v under irradiance g: the cell's

@@ -39,7 +39,7 @@ func laterStages(p *profile.Profile, opts *analyze.Options, file string, setup f
 					res.Notes = append(res.Notes, "held-out check skipped: "+err.Error())
 				}
 			}
-			if g := diagnose.MeasuredLight(res, fitted); g > 0 {
+			if g := predict.MeasuredLight(res, fitted); g > 0 {
 				if tr, err := predict.CycleTrace(fitted, g, traceBefore(res), traceAfter(res), 600, "fitted model"); err == nil {
 					res.ModelTrace = tr
 				}

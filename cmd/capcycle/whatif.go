@@ -11,7 +11,6 @@ import (
 	"text/tabwriter"
 
 	"capcycle/analyze"
-	"capcycle/analyze/diagnose"
 	"capcycle/analyze/model"
 	"capcycle/analyze/predict"
 	"capcycle/analyze/profile"
@@ -190,7 +189,7 @@ func pickLight(flagG, flagH float64, res *analyze.Result, c *model.Circuit, l mo
 	g, hours = flagG, flagH
 	how = "--light"
 	if g <= 0 && res != nil {
-		g, how = diagnose.MeasuredLight(res, c), "measured in the analysis"
+		g, how = predict.MeasuredLight(res, c), "measured in the analysis"
 		if hours <= 0 && res.DurationS >= 20*3600 {
 			hours = litHours(res)
 		}
