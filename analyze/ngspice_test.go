@@ -7,11 +7,11 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
-	"strconv"
 	"strings"
 	"testing"
 
 	"capcycle/analyze/detect/detecttest"
+	"capcycle/internal/spicetest"
 	"capcycle/logger/capture"
 )
 
@@ -47,20 +47,12 @@ func ngspiceTrace(t *testing.T, netlist string) string {
 	w := bufio.NewWriter(f)
 	fmt.Fprintln(w, "# note: ngspice transient of the RC solar engine (analyze/ngspice_test.go)")
 	fmt.Fprintln(w, "time_s,vcap_v")
-	sc := bufio.NewScanner(in)
-	last := math.Inf(-1)
-	for sc.Scan() {
-		fs := strings.Fields(sc.Text())
-		if len(fs) < 2 {
-			continue
-		}
-		ts, err1 := strconv.ParseFloat(fs[0], 64)
-		vs, err2 := strconv.ParseFloat(fs[1], 64)
-		if err1 != nil || err2 != nil || ts <= last {
-			continue // ngspice repeats a time point at breakpoints
-		}
-		last = ts
-		fmt.Fprintf(w, "%.9f,%.9f\n", ts, vs)
+	ts, vs, err := spicetest.ReadWrdata(in)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := range ts {
+		fmt.Fprintf(w, "%.9f,%.9f\n", ts[i], vs[i])
 	}
 	w.Flush()
 	f.Close()

@@ -10,17 +10,16 @@ package main
 // into the load resistor.
 
 import (
-	"bufio"
 	"fmt"
 	"math"
 	"os"
 	"os/exec"
 	"path/filepath"
-	"strconv"
 	"strings"
 	"testing"
 
 	"capcycle/analyze/model"
+	"capcycle/internal/spicetest"
 )
 
 // spiceTrace is ngspice's node voltage at its own time points.
@@ -84,25 +83,11 @@ func runNgspice(t *testing.T, c *model.Circuit, g, durS, startV float64) *spiceT
 		t.Fatal(err)
 	}
 	defer f.Close()
-	tr := &spiceTrace{}
-	sc := bufio.NewScanner(f)
-	last := math.Inf(-1)
-	for sc.Scan() {
-		fs := strings.Fields(sc.Text())
-		if len(fs) < 2 {
-			continue
-		}
-		ts, err1 := strconv.ParseFloat(fs[0], 64)
-		vs, err2 := strconv.ParseFloat(fs[1], 64)
-		if err1 != nil || err2 != nil || ts <= last {
-			continue // ngspice repeats a time point at breakpoints
-		}
-		last = ts
-		tr.ts, tr.v = append(tr.ts, ts), append(tr.v, vs)
-	}
-	if err := sc.Err(); err != nil {
+	ts, vs, err := spicetest.ReadWrdata(f)
+	if err != nil {
 		t.Fatal(err)
 	}
+	tr := &spiceTrace{ts: ts, v: vs}
 	if len(tr.ts) < 100 {
 		t.Fatalf("ngspice wrote %d points", len(tr.ts))
 	}
