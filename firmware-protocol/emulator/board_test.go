@@ -676,16 +676,19 @@ func TestStopDuringBurst(t *testing.T) {
 	b := startBoard(t, w.String())
 	b.bootFrames()
 	b.until("B", func(f wire.Frame) bool { _, ok := f.(wire.BurstBegin); return ok })
+	// last is the newest sample seen, before or after >stop: when the board handles
+	// the command right after the 100th sample, no sample comes between it and OK.
+	var last wire.Sample
 	n := 0
 	b.until("100 burst samples", func(f wire.Frame) bool {
-		if _, ok := f.(wire.Sample); ok {
+		if s, ok := f.(wire.Sample); ok {
+			last = s
 			n++
 		}
 		return n == 100
 	})
 	b.send(wire.CmdStop{})
 	// Burst frames already made may still arrive; then OK, then E, and nothing more.
-	var last wire.Sample
 	b.until("the OK to >stop", func(f wire.Frame) bool {
 		switch f := f.(type) {
 		case wire.Sample:

@@ -335,11 +335,11 @@ static void handle(void)
 		}
 		break;
 	case 3:
+		running = 0; /* no new block starts while the ring drains */
+		adc_run(0);
 		cap_flush();
 		reply_ok(tag);
 		cap_end();
-		running = 0;
-		adc_run(0);
 		break;
 	case 4:
 		if (settings_save())

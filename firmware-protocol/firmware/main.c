@@ -74,8 +74,11 @@ int main(void)
 			if (b >= 0)
 				cmd_byte((uint8_t)b);
 		}
+		/* A block converted before >stop took effect is dropped, not begun as a
+		 * burst after the E. */
 		while (adc_pop(&s))
-			cap_sample(&s);
+			if (running)
+				cap_sample(&s);
 		out_poll();
 		cap_poll();
 		/* Uptime in whole seconds of the device clock; ST every ST_PERIOD_S. */
