@@ -191,6 +191,7 @@ func (b *builder) trigger() {
 func (b *builder) leakTau() {
 	b.drift = math.NaN()
 	var taus, sds, drifts, dsds []float64
+	dusk := 0
 	for i := range b.sum.Swings {
 		s, inf := b.swing(i)
 		if s.Up || s.Fire || s.Noise || !inf.exp.ok || inf.exp.n < 8 || b.inCalibration(s) {
@@ -200,8 +201,14 @@ func (b *builder) leakTau() {
 		sds = append(sds, inf.exp.tauSD)
 		drifts = append(drifts, inf.exp.drift)
 		dsds = append(dsds, inf.exp.driftSD)
+		if late := inf.exp.t0 - s.OnsetS; late > 0.1*s.FallS() {
+			dusk++
+		}
 	}
 	lf := &b.res.Fit.Leak
+	if dusk > 0 {
+		b.note(fmt.Sprintf("%d of %d decays sped up before they slowed (the light still fading): the leak is fitted from where the fall stopped speeding up", dusk, len(taus)))
+	}
 	if len(taus) > 0 {
 		m, se := combine(taus, sds)
 		lf.TauS = est(m, se, "fitted")
@@ -408,8 +415,10 @@ func (b *builder) leakPlot() {
 	s := &b.sum.Swings[best.index]
 	tr := &Trace{Label: "decay", TS: []float64{}, V: []float64{}}
 	md := &Trace{Label: "fit", TS: []float64{}, V: []float64{}}
+	// Only the fitted stretch (see darkPart): before it the light was still fading, after
+	// it the capacitor sat at its floor.
 	for _, p := range compact(best.pts, 400) {
-		if float64(p.t) < s.OnsetS {
+		if t := float64(p.t); t < s.OnsetS || t < e.t0 || t > e.t1 {
 			continue
 		}
 		tr.TS = append(tr.TS, float64(p.t)-s.OnsetS)

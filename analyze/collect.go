@@ -95,6 +95,10 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 				c.vs = append(c.vs, p.V)
 			}
 		}
+		if s.ResetIndex-s.OnsetIndex >= 64 && pts[s.ResetIndex].T-pts[s.OnsetIndex].T >= slowFallS {
+			lo, hi := darkPart(c.ts, c.vs, math.Max(4*noise, 2*c.det.StepV()))
+			c.ts, c.vs = c.ts[lo:hi], c.vs[lo:hi]
+		}
 		inf.exp = fitExp(c.ts, c.vs, noise)
 		inf.fallV = s.AmplitudeV()
 		inf.earlyV, inf.earlySlope, inf.lateV, inf.lateSlope = localSlopes(c.ts, c.vs)
@@ -129,6 +133,79 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 		}
 		inf.exp = fitExp(c.ts, c.vs, noise/math.Sqrt(meanN(pts)))
 	}
+}
+
+// slowFallS is the shortest fall taken for a decay rather than a pulse: a motor or
+// coil pulse of a small harvester lasts milliseconds to a second or two, a leak's decay
+// minutes to hours (common practice, no source).
+const slowFallS = 30.0
+
+// darkWindows is the number of equal stretches of time over which darkPart compares the
+// speed of a fall.
+const darkWindows = 16
+
+// darkPart returns the stretch [lo, hi) of a slow fall that a leak's decay can explain.
+//
+// A capacitor draining in the dark through drains that grow with the voltage (resistors,
+// a diode, a supervisor's quiescent draw) falls fastest at the start and ever more slowly
+// after. A fall that speeds up is no such decay: the light is still fading (at dusk a
+// panel's current dies away over an hour or more) and the fall is the balance of a
+// shrinking charge current against the drains. So the stretch starts where, of
+// darkWindows equal stretches of time, the fall stops speeding up (the start itself for
+// a decay in full dark).
+//
+// It ends where the voltage reaches its floor, within band of the fall's lowest value: a
+// capacitor drained to 0 V stays there, and the flat floor is no part of an exponential
+// approach (fitted with it, the asymptote lands far below zero).
+func darkPart(t, v []float64, band float64) (lo, hi int) {
+	n := len(t)
+	if n < 2*darkWindows {
+		return 0, n
+	}
+	floor := v[0]
+	for _, x := range v {
+		floor = math.Min(floor, x)
+	}
+	hi = n
+	for hi > 1 && v[hi-1] <= floor+band {
+		hi--
+	}
+	hi = min(n, hi+1) // keep the first point on the floor
+	if hi < 2*darkWindows {
+		return 0, n
+	}
+	t0, w := t[0], (t[hi-1]-t[0])/darkWindows
+	if !(w > 0) {
+		return 0, hi
+	}
+	var speed [darkWindows]float64
+	var start [darkWindows]int
+	fastest, jf, k := 0.0, 0, 0
+	for j := range darkWindows {
+		end := t0 + float64(j+1)*w
+		start[j] = k
+		for k < hi && (t[k] < end || j == darkWindows-1) {
+			k++
+		}
+		if l := fitLine(t[start[j]:k], v[start[j]:k]); l.ok {
+			speed[j] = -l.b
+		}
+		if speed[j] > fastest {
+			fastest, jf = speed[j], j
+		}
+	}
+	// Of the stretches of a decay the first is the fastest (by the ratio exp(span/(16
+	// tau)) over the next), and noise may put a later one ahead by a little: then the
+	// whole fall is the decay. Otherwise the fall sped up to a steady speed while the
+	// light faded (the charge current falling at a steady rate); the decay starts with
+	// the last stretch at that speed.
+	if speed[0] >= 0.9*fastest {
+		return 0, hi
+	}
+	for jf+1 < darkWindows && speed[jf+1] >= 0.9*fastest {
+		jf++
+	}
+	return start[jf], hi
 }
 
 func meanN(pts []detect.Point) float64 {

@@ -16,7 +16,7 @@ type expResult struct {
 	tau, tauSD   float64
 	vinf, vinfSD float64
 	v0           float64
-	t0           float64
+	t0, t1       float64 // the first and the last time fitted
 	rms          float64
 	n            int
 	systematic   bool
@@ -43,7 +43,7 @@ func fitExp(t, v []float64, noiseV float64) expResult {
 		return expResult{}
 	}
 	e := expResult{ok: true, tau: f.Tau.Value, tauSD: f.Tau.SD, vinf: f.VInf.Value, vinfSD: f.VInf.SD,
-		v0: f.V0.Value, t0: f.T0, rms: f.RMS, n: f.N}
+		v0: f.V0.Value, t0: f.T0, t1: t[len(t)-1], rms: f.RMS, n: f.N}
 	e.drift, e.driftSD = -e.vinf/e.tau, math.NaN()
 	if r := f.Result; r != nil && r.Cov != nil && len(r.X) == 3 {
 		g := [3]float64{-r.X[2], -1, -r.X[0]}

@@ -122,3 +122,39 @@ func shiftLight(l []detecttest.Light, t0 float64) []detecttest.Light {
 	}
 	return append([]detecttest.Light{{FromS: 0, IA: cur}}, out...)
 }
+
+// A decay at dusk: the light fades over two hours, then the dark drains the capacitor to
+// the ADC's floor at 0 V. Only the decay after the fall stopped speeding up, and before
+// the floor, is a leak's: its time constant within 5 % of C R_leak and the quiescent
+// current back within its uncertainty, where one exponential over the whole fall lands its
+// asymptote far below zero.
+func TestLeakAtDusk(t *testing.T) {
+	c := detecttest.Circuit{C: 4.7e-3, RLeakOhm: 1e6, RLoadOhm: 20, OnV: 10, OffV: 9, V0: 2.2, IQA: 0.3e-6}
+	light := []detecttest.Light{{FromS: 0, IA: 2.5e-6}}
+	for k := 1; k <= 120; k++ { // a staircase of 60 s steps down to dark at 10800 s
+		light = append(light, detecttest.Light{FromS: 3600 + 60*float64(k), IA: 2.5e-6 * (1 - float64(k)/120)})
+	}
+	for _, a := range []detecttest.ADC{{NoiseV: 1e-3, Bits: 10, FullV: 5, Seed: 7}, {NoiseV: 0.5e-3, Bits: 12, FullV: 5, Seed: 8}} {
+		ts, vs, tr := detecttest.Generate(c, light, 21600, detecttest.Sampling{DtS: 1}, a)
+		res := RunSamples(ts, vs, &Options{CapF: c.C})
+		lf := res.Fit.Leak
+		if lf.Method != "dark-decay" {
+			t.Fatalf("%+v: leak method %q, want dark-decay", a, lf.Method)
+		}
+		within(t, "tau_leak", lf.TauS, tr.TauLeakS, 0.05)
+		if q := lf.QuiescentA; q == nil || q.SD == nil || math.Abs(q.Value-c.IQA) > 3**q.SD+0.1*c.IQA {
+			t.Errorf("%+v: quiescent %+v, true %.3g A", a, q, c.IQA)
+		}
+		if m := res.LeakModel; m == nil || len(m.V) == 0 || m.TS[0] < 3600 {
+			t.Errorf("%+v: leak model %+v, want it from the end of the fade on", a, m)
+		} else {
+			for k, v := range m.V {
+				if v < -0.01 {
+					t.Errorf("%+v: the leak model reaches %.3f V at %.0f s after the onset", a, v, m.TS[k])
+					break
+				}
+			}
+		}
+		t.Logf("%+v: tau %.1f (true %.1f) q %v from %.0f s; notes %v", a, lf.TauS.Value, tr.TauLeakS, lf.QuiescentA, res.LeakModel.TS[0], res.Notes)
+	}
+}
