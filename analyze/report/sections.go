@@ -343,7 +343,7 @@ func leakSection(r *analyze.Result, o *Options) *section {
 	}
 	add("time constant", estimate(l.TauS, "s"))
 	add("leakage resistance (probe excluded)", orNeedsC(l.Ohm, "Ω", r))
-	add("quiescent current of the trigger", orNeedsC(l.QuiescentA, "A", r))
+	add("constant drain (quiescent currents)", orNeedsC(l.QuiescentA, "A", r))
 	if l.ProbeOhm != nil {
 		add("probe divider (known load)", estimate(l.ProbeOhm, "Ω"))
 	}
