@@ -126,6 +126,11 @@ type Reader struct {
 	TimeScale float64
 	// TimeFormat: TimeAuto (default), TimeSeconds or TimeRFC3339.
 	TimeFormat TimeFormat
+	// CurrentCol names the load-current column (amperes) or gives its 1-based position,
+	// for ReadCurrent. Default: the column "iload_a", else the first whose name starts
+	// with "iload" (its unit from the name: "iload_ma"); none when there is no such
+	// column. "none" ignores a current column.
+	CurrentCol string
 	// Comma is the field delimiter: ',', ';' or '\t'. Default: sniffed from the header row.
 	// When it is not ',', a decimal comma ("2,415") is accepted in numbers.
 	Comma byte
@@ -141,6 +146,8 @@ type Reader struct {
 	columns []string
 	tcol    int
 	vcol    int
+	icol    int // -1: no current column
+	iscale  float64
 	ncol    int
 	decimal byte
 	lastT   float64
@@ -354,6 +361,22 @@ func (r *Reader) start() error {
 	if r.tcol == r.vcol {
 		return r.errf(0, nil, fmt.Errorf("%w: time and volt are the same column %d", ErrMissingColumn, r.tcol+1))
 	}
+	r.icol = -1
+	if c := strings.ToLower(r.CurrentCol); c != "none" {
+		has := c != ""
+		for _, n := range names {
+			has = has || isCurrentName(n)
+		}
+		if has {
+			r.icol, r.iscale, err = r.pickColumn(r.CurrentCol, names, "current", isCurrentName)
+			if err != nil {
+				return err
+			}
+			if r.icol == r.tcol || r.icol == r.vcol {
+				return r.errf(0, nil, fmt.Errorf("%w: the current column %d is also the time or volt column", ErrMissingColumn, r.icol+1))
+			}
+		}
+	}
 	if r.TimeScale == 0 {
 		r.TimeScale = tunit
 	}
@@ -392,6 +415,11 @@ func (r *Reader) pickColumn(opt string, names []string, what string, match func(
 	return 0, 0, r.errf(0, nil, fmt.Errorf("%w: no %s column in the header (want %q, or name one)", ErrMissingColumn, what, want))
 }
 
+// ColIload is the load-current column of the design's capture contract, amperes.
+const ColIload = "iload_a"
+
+func isCurrentName(n string) bool { return n == ColIload || strings.HasPrefix(n, "iload") }
+
 func isTimeName(n string) bool {
 	return n == ColTime || n == "t" || strings.HasPrefix(n, "time") || strings.HasPrefix(n, "t_") ||
 		strings.HasPrefix(n, "t (") || strings.HasPrefix(n, "t [")
@@ -421,9 +449,9 @@ func unitFactor(name string) float64 {
 		u = n[i+1:]
 	}
 	switch u {
-	case "mv", "ms":
+	case "mv", "ms", "ma":
 		return 1e-3
-	case "uv", "µv", "us", "µs":
+	case "uv", "µv", "us", "µs", "ua", "µa":
 		return 1e-6
 	case "min":
 		return 60
@@ -470,7 +498,18 @@ func splitFields(line []byte, comma byte) func(func([]byte) bool) {
 // Read fills t and v (the shorter of the two sets the batch size) with the next rows:
 // t in seconds from the start, v in volts. It returns the number of rows filled and
 // io.EOF after the last row (possibly with n > 0), or a *ParseError for bad input.
-func (r *Reader) Read(t, v []float64) (int, error) {
+func (r *Reader) Read(t, v []float64) (int, error) { return r.read(t, v, nil) }
+
+// ReadCurrent is Read that also fills i with the load current in amperes, when the
+// capture has a current column (see CurrentCol and HasCurrent; else i is left alone). A
+// bad current cell is a *ParseError like a bad volt.
+func (r *Reader) ReadCurrent(t, v, i []float64) (int, error) { return r.read(t, v, i) }
+
+// HasCurrent reports whether the capture has a load-current column. It is known after
+// the first Read or ReadCurrent.
+func (r *Reader) HasCurrent() bool { return r.started && r.icol >= 0 }
+
+func (r *Reader) read(t, v, cur []float64) (int, error) {
 	if r.done {
 		return 0, io.EOF
 	}
@@ -481,6 +520,9 @@ func (r *Reader) Read(t, v []float64) (int, error) {
 		}
 	}
 	max := min(len(t), len(v))
+	if cur != nil && r.icol >= 0 {
+		max = min(max, len(cur))
+	}
 	n := 0
 	for n < max {
 		line, complete, err := r.nextLine()
@@ -511,7 +553,7 @@ func (r *Reader) Read(t, v []float64) (int, error) {
 			r.torn = true
 			continue
 		}
-		tt, vv, err := r.row(line)
+		tt, vv, ii, err := r.row(line)
 		if err != nil {
 			r.done = true
 			return n, err
@@ -528,6 +570,9 @@ func (r *Reader) Read(t, v []float64) (int, error) {
 		}
 		r.lastT = tt
 		t[n], v[n] = tt, vv
+		if cur != nil && r.icol >= 0 {
+			cur[n] = ii
+		}
 		n++
 		r.rows++
 	}
@@ -558,17 +603,17 @@ func fieldAt(line []byte, comma byte, k int) []byte {
 	return nil
 }
 
-// row parses the time and volt fields of one data row.
-func (r *Reader) row(line []byte) (t, v float64, err error) {
-	var tf, vf []byte
-	tc, vc := 0, 0
-	need := max(r.tcol, r.vcol)
+// row parses the time, volt and (when there is one) current fields of one data row.
+func (r *Reader) row(line []byte) (t, v, i float64, err error) {
+	var tf, vf, cf []byte
+	tc, vc, cc := 0, 0, 0
+	need := max(r.tcol, r.vcol, r.icol)
 	k, pos := 0, 0
 	for k <= need {
-		i := bytes.IndexByte(line[pos:], r.Comma)
+		j := bytes.IndexByte(line[pos:], r.Comma)
 		end := len(line)
-		if i >= 0 {
-			end = pos + i
+		if j >= 0 {
+			end = pos + j
 		}
 		if k == r.tcol {
 			tf, tc = line[pos:end], pos+1
@@ -576,7 +621,10 @@ func (r *Reader) row(line []byte) (t, v float64, err error) {
 		if k == r.vcol {
 			vf, vc = line[pos:end], pos+1
 		}
-		if i < 0 {
+		if k == r.icol {
+			cf, cc = line[pos:end], pos+1
+		}
+		if j < 0 {
 			break
 		}
 		pos = end + 1
@@ -584,19 +632,25 @@ func (r *Reader) row(line []byte) (t, v float64, err error) {
 	}
 	if k < need {
 		if err := r.checkText(line); err != nil {
-			return 0, 0, err
+			return 0, 0, 0, err
 		}
-		return 0, 0, r.errf(len(line)+1, nil, fmt.Errorf("%w: %d of at least %d", ErrFieldCount, k+1, need+1))
+		return 0, 0, 0, r.errf(len(line)+1, nil, fmt.Errorf("%w: %d of at least %d", ErrFieldCount, k+1, need+1))
 	}
 	t, err = r.timeField(tf, tc)
 	if err != nil {
-		return 0, 0, err
+		return 0, 0, 0, err
 	}
 	v, err = r.number(vf, vc)
 	if err != nil {
-		return 0, 0, err
+		return 0, 0, 0, err
 	}
-	return t, v * r.VoltScale, nil
+	if r.icol >= 0 {
+		if i, err = r.number(cf, cc); err != nil {
+			return 0, 0, 0, err
+		}
+		i *= r.iscale
+	}
+	return t, v * r.VoltScale, i, nil
 }
 
 func (r *Reader) timeField(f []byte, col int) (float64, error) {

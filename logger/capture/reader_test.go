@@ -63,6 +63,8 @@ var badFiles = []struct {
 	{"torn foreign row", "time_s,vcap_v\n0,1\n0.1,1.", 3, 0, nil}, // accepted: "1." is a number
 	{"long line", "time_s,vcap_v\n" + strings.Repeat("1", 70000) + "\n", 2, 0, ErrLineTooLong},
 	{"third column chosen by index absent", "time_s,vcap_v\n0,1\n", 1, 0, ErrMissingColumn}, // TimeCol "3"
+	{"not a number current", "time_s,vcap_v,iload_a\n0,1,0\n0.1,1,x\n", 3, 7, ErrNotNumber},
+	{"empty current cell", "time_s,vcap_v,iload_ma\n0,1,0\n0.1,1,\n", 3, 7, ErrEmptyCell},
 }
 
 func TestReaderBadInput(t *testing.T) {
@@ -241,5 +243,43 @@ func TestReadAllocs(t *testing.T) {
 	// The reader, its buffer and the header's column names; nothing per row.
 	if allocs > 20 {
 		t.Errorf("%v allocations for 2000 rows", allocs)
+	}
+}
+
+// A load-current column is found by name, scaled by its unit, read with ReadCurrent,
+// and ignored with CurrentCol "none".
+func TestReaderCurrent(t *testing.T) {
+	in := "# format: capcycle.capture/1\ntime_s,vcap_v,iload_ma\n0,2.5,0\n0.01,2.4,120.5\n0.02,2.3,118\n"
+	r := NewReader(strings.NewReader(in), "pulse.csv")
+	ts, vs, is := make([]float64, 8), make([]float64, 8), make([]float64, 8)
+	n, err := r.ReadCurrent(ts, vs, is)
+	if err != io.EOF || n != 3 {
+		t.Fatalf("ReadCurrent: %d rows, %v", n, err)
+	}
+	if !r.HasCurrent() {
+		t.Fatal("HasCurrent false with an iload_ma column")
+	}
+	if want := []float64{0, 0.1205, 0.118}; math.Abs(is[1]-want[1]) > 1e-12 || math.Abs(is[2]-want[2]) > 1e-12 || is[0] != 0 {
+		t.Errorf("currents %v, want %v A", is[:3], want)
+	}
+	if vs[2] != 2.3 || ts[2] != 0.02 {
+		t.Errorf("row 3: %g s %g V", ts[2], vs[2])
+	}
+
+	r = NewReader(strings.NewReader(strings.Replace(in, "0.02,2.3,118", "0.02,2.3,oops", 1)), "pulse.csv")
+	r.CurrentCol = "none"
+	if _, _, err := readAll(t, r); err != nil || r.HasCurrent() {
+		t.Errorf(`CurrentCol "none": %v, HasCurrent %v`, err, r.HasCurrent())
+	}
+
+	r = NewReader(strings.NewReader("time_s,vcap_v\n0,1\n"), "plain.csv")
+	if _, _, err := readAll(t, r); err != nil || r.HasCurrent() {
+		t.Errorf("no current column: %v, HasCurrent %v", err, r.HasCurrent())
+	}
+	r = NewReader(strings.NewReader("time_s,vcap_v\n0,1\n"), "plain.csv")
+	r.CurrentCol = "i_motor"
+	var pe *ParseError
+	if _, _, err := readAll(t, r); !errors.As(err, &pe) || !errors.Is(err, ErrMissingColumn) {
+		t.Errorf("a named current column that is absent: %v", err)
 	}
 }
