@@ -31,7 +31,7 @@ func Run(r *capture.Reader, opts *Options) (*Result, error) {
 	batches := make(chan *batch, 3)
 	free := make(chan *batch, 4)
 	for i := 0; i < 4; i++ {
-		free <- &batch{t: make([]float64, n), v: make([]float64, n)}
+		free <- &batch{t: make([]float64, n), v: make([]float64, n), i: make([]float64, n)}
 	}
 	done := make(chan struct{})
 	go func() {
@@ -44,8 +44,8 @@ func Run(r *capture.Reader, opts *Options) (*Result, error) {
 			case <-done:
 				return
 			}
-			k, err := r.Read(b.t, b.v)
-			b.n, b.err, b.rows, b.bytes = k, err, r.Rows(), r.Offset()
+			k, err := r.ReadCurrent(b.t, b.v, b.i)
+			b.n, b.err, b.rows, b.bytes, b.hasI = k, err, r.Rows(), r.Offset(), r.HasCurrent()
 			if first {
 				// The header block is read with the first rows: its metadata goes
 				// along with them (the reader keeps adding later event lines).
@@ -63,7 +63,11 @@ func Run(r *capture.Reader, opts *Options) (*Result, error) {
 			a.useMeta(b.meta)
 			b.meta = nil
 		}
-		a.push(b.t[:b.n], b.v[:b.n])
+		var cur []float64
+		if b.hasI {
+			cur = b.i[:b.n]
+		}
+		a.push(b.t[:b.n], b.v[:b.n], cur)
 		if opts.Progress != nil {
 			opts.Progress(b.rows, b.bytes)
 		}
@@ -93,6 +97,8 @@ func Run(r *capture.Reader, opts *Options) (*Result, error) {
 
 type batch struct {
 	t, v  []float64
+	i     []float64 // the load current, when hasI
+	hasI  bool
 	n     int
 	err   error
 	rows  int
@@ -104,13 +110,18 @@ type batch struct {
 // except that it does not call opts.Post (it has no error to return): a caller that wants
 // the later stages calls the hook on the Result itself.
 func RunSamples(t, v []float64, opts *Options) *Result {
+	return RunSamplesCurrent(t, v, nil, opts)
+}
+
+// RunSamplesCurrent is RunSamples with the load current iload (amperes, one per sample;
+// nil for none), from which the capacitance is measured at every fire (see pulseCap).
+func RunSamplesCurrent(t, v, iload []float64, opts *Options) *Result {
 	if opts == nil {
 		opts = &Options{}
 	}
 	a := newAnalysis(opts)
-	a.push(t, v)
-	res := a.finish(nil)
-	return res
+	a.push(t, v, iload)
+	return a.finish(nil)
 }
 
 // analysis is the state of one run.
@@ -120,6 +131,7 @@ type analysis struct {
 	env  *detect.Envelope
 	col  *collector
 	cal  calWindow
+	chg  *chargeLog // nil without a current channel
 
 	stepOrigin string
 }
@@ -145,7 +157,17 @@ func newAnalysis(opts *Options) *analysis {
 	return a
 }
 
-func (a *analysis) push(t, v []float64) {
+// push hands samples to the detector and the other accumulators; i is the load current
+// (nil without a current channel). The charge log goes first: the detector's callbacks
+// look the samples up in it.
+func (a *analysis) push(t, v, i []float64) {
+	if i != nil {
+		if a.chg == nil {
+			a.chg = newChargeLog()
+			a.col.chg = a.chg
+		}
+		a.chg.add(t, v, i)
+	}
 	a.det.Push(t, v)
 	a.env.Add(t, v)
 	if a.cal.on {

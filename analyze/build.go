@@ -243,7 +243,8 @@ func (b *builder) inCalibration(s *detect.Swing) bool {
 	return b.a.cal.on && s.EndS > o.CalStartS && s.StartS < o.CalEndS
 }
 
-// capacitance: measured from the calibration stretch when there is one, else declared.
+// capacitance: measured from the calibration stretch when there is one, else from the
+// load-current channel at every fire, else declared.
 func (b *builder) capacitance() {
 	o := b.opts
 	w := &b.a.cal
@@ -258,11 +259,29 @@ func (b *builder) capacitance() {
 			if g > 0 {
 				c := 1 / (g * o.CalResistorOhm)
 				b.capF = c
-				b.res.Capacitance = &Capacity{F: *est(c, c*e.tauSD/e.tau, "measured")}
+				b.res.Capacitance = &Capacity{F: *est(c, c*e.tauSD/e.tau, "measured"), Method: "calibration-resistor"}
 				return
 			}
 		}
 		b.note("the calibration stretch did not give a capacitance (no clean exponential decay)")
+	}
+	if b.a.chg != nil {
+		var cs []float64
+		for _, cy := range b.full() {
+			if _, inf := b.swing(cy.Swing); inf.capF > 0 {
+				cs = append(cs, inf.capF)
+			}
+		}
+		if len(cs) >= 3 {
+			// The median of the pulses, its SE that of a median of normal scatter
+			// (1.2533 sd/√n).
+			c := median(cs)
+			sd := 1.2533 * sdOfSlice(cs) / math.Sqrt(float64(len(cs)))
+			b.capF = c
+			b.res.Capacitance = &Capacity{F: *est(c, sd, "measured"), Method: "current-channel", Pulses: len(cs)}
+			return
+		}
+		b.note(fmt.Sprintf("the load-current column gave a capacitance on %d fires, fewer than the 3 needed", len(cs)))
 	}
 	if o.capKnown() {
 		b.capF = o.CapF

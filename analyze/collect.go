@@ -19,6 +19,10 @@ type collector struct {
 	vs    []float64
 	falls int
 
+	chg       *chargeLog // the load current, when the capture has one
+	riseSlope float64    // the end slope of the last rise, and its swing index
+	riseIdx   int
+
 	widest     int    // the rise chosen for the single-diode fit (see ivRank)
 	widestRank ivRank // its rank
 	widestIV   []ivPt // its traced points, all of them
@@ -53,8 +57,9 @@ type swingInfo struct {
 	// the voltage and its slope early and late in a fall (a line through the first and
 	// through the last third), for the effective load resistance
 	earlyV, earlySlope, lateV, lateSlope float64
-	iv                                   []ivPt // rises: traced points
-	trace                                []tvPt // compact copy for the overlay plot
+	iv                                   []ivPt  // rises: traced points
+	trace                                []tvPt  // compact copy for the overlay plot
+	capF                                 float64 // falls, with a current channel: C from the pulse's charge (0: none)
 }
 
 type ivPt struct{ t, v, dvdt float64 }
@@ -70,7 +75,7 @@ type keptSwing struct {
 const tracePts = 32
 const ivPerRise = 24
 
-func newCollector(opts *Options) *collector { return &collector{opts: opts} }
+func newCollector(opts *Options) *collector { return &collector{opts: opts, riseIdx: -1} }
 
 func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 	for len(c.info) <= i {
@@ -81,6 +86,15 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 	noise := math.Max(c.det.NoiseV(), c.det.StepV()/math.Sqrt(12))
 	if !s.Up {
 		c.falls++
+		if c.chg != nil && s.ResetIndex > s.OnsetIndex {
+			slope := 0.0
+			if c.riseIdx == i-1 {
+				slope = c.riseSlope
+			}
+			if f, ok := c.chg.pulseCap(pts[s.OnsetIndex].T, pts[s.ResetIndex].T, slope); ok {
+				inf.capF = f
+			}
+		}
 		if !c.fitThisFall(len(pts)) {
 			c.keepDecay(i, s, pts)
 			return
@@ -105,6 +119,7 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 		c.keepDecay(i, s, pts)
 		return
 	}
+	c.riseSlope, c.riseIdx = s.EndSlopeVPerS, i
 	// A rise that starts on a flat stretch (the bottom of a dark decay, held at 0 V until
 	// the light returns) is taken from the last point still at its starting level: the
 	// flat part is no charging, neither for the I-V tracing nor for the approach's fit.

@@ -164,6 +164,11 @@ type Settling struct {
 type Capacity struct {
 	F   Estimate `json:"f"`
 	Tol string   `json:"tolerance_code,omitempty"`
+	// Method says how a measured capacitance was found: "calibration-resistor" (a decay
+	// through a known resistor) or "current-channel" (the load's charge over the
+	// voltage it cost, at every fire); empty when declared.
+	Method string `json:"method,omitempty"`
+	Pulses int    `json:"pulses,omitempty"` // current-channel: the fires it rests on
 }
 
 // Noise is the sample noise and resolution seen in the capture.

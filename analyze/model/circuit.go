@@ -277,6 +277,7 @@ type State struct {
 	Branch2V  float64 // slow branch capacitor, volts
 	HoldV     float64 // hold capacitor, volts
 	MotorA    float64 // motor current, amperes
+	LoadA     float64 // current the load draws from the storage node, amperes (0 while off)
 	SpeedRadS float64 // motor speed, rad/s
 	On        bool    // switch state
 }

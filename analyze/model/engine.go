@@ -122,7 +122,7 @@ type engine struct {
 	validEnd float64
 	r        [5]vec
 
-	stepOn bool // switch state during the last step
+	stepMode mode // the mode the last step was taken in
 
 	nextTimed float64 // next timer transition, +Inf if none
 	timerK    int64
@@ -245,8 +245,20 @@ func (e *engine) stateOf(y *vec, m mode) State {
 	if e.motor {
 		s.SpeedRadS = y[iW]
 		s.MotorA = e.motorCurrent(y, m)
+		s.LoadA = s.MotorA
+	} else if m.on {
+		s.LoadA = e.resistorCurrent(y[iV])
 	}
 	return s
+}
+
+// resistorCurrent is the current of a resistive load through the closed switch, from the
+// storage node at v.
+func (e *engine) resistorCurrent(v float64) float64 {
+	if vd := v - e.c.Switch.DropV; vd > 0 {
+		return vd / (e.c.Load.Ohm + e.c.Switch.OnOhm)
+	}
+	return 0
 }
 
 // quiescent returns the supervisor current at supply s.
@@ -306,9 +318,7 @@ func (e *engine) eval(t float64, y *vec, m mode, dy *vec) aux {
 			dy[iW] = (l.KeVsPerRad*iload - l.ViscousNms*w - l.FrictionNm) / l.InertiaKgM2
 		}
 	} else if m.on {
-		if vd := v - c.Switch.DropV; vd > 0 {
-			iload = vd / (c.Load.Ohm + c.Switch.OnOhm)
-		}
+		iload = e.resistorCurrent(v)
 	}
 
 	sum := icell - ileak - iprobe - ib - iload
@@ -632,7 +642,7 @@ func (e *engine) advance() (bool, error) {
 			e.r[4][i] = h * (d1*k1[i] + d3*k3[i] + d4*k4[i] + d5*k5[i] + d6*k6[i] + d7*k7[i])
 		}
 		e.t0, e.hd = t, h
-		e.stepOn = m.on
+		e.stepMode = m
 		fac := 5.0
 		if err > 0 {
 			fac = math.Min(5, math.Max(0.2, 0.9*math.Pow(err, -0.2)))

@@ -213,10 +213,9 @@ func (s *sampling) emitUpTo(e *engine, fn func(Sample), atStart bool) {
 			fn(Sample{TS: ts, LightWm2: e.lc.at(ts), State: e.state()})
 		} else {
 			e.dense(ts, &y)
-			st := e.stateOf(&y, e.m)
-			// The dense output belongs to the mode the step was taken in; an event can change
-			// the switch only at validEnd.
-			st.On = e.stepOn
+			// The dense output belongs to the mode the step was taken in (an event changes
+			// the mode only at validEnd), and so do the currents derived from it.
+			st := e.stateOf(&y, e.stepMode)
 			fn(Sample{TS: ts, LightWm2: e.lc.at(ts), State: st})
 		}
 		s.k++
