@@ -32,3 +32,35 @@ func ReadWrdata(r io.Reader) (ts, vs []float64, err error) {
 	}
 	return ts, vs, sc.Err()
 }
+
+// ReadColumns reads the output of "wrdata FILE a b ..." with "set wr_singlescale": a time
+// column, then n vectors. It skips lines as ReadWrdata does; cols[k] is the k-th vector.
+func ReadColumns(r io.Reader, n int) (ts []float64, cols [][]float64, err error) {
+	sc := bufio.NewScanner(r)
+	last := math.Inf(-1)
+	cols = make([][]float64, n)
+	row := make([]float64, n+1)
+next:
+	for sc.Scan() {
+		fs := strings.Fields(sc.Text())
+		if len(fs) < n+1 {
+			continue
+		}
+		for k := range row {
+			x, err := strconv.ParseFloat(fs[k], 64)
+			if err != nil {
+				continue next
+			}
+			row[k] = x
+		}
+		if row[0] <= last {
+			continue
+		}
+		last = row[0]
+		ts = append(ts, row[0])
+		for k := range cols {
+			cols[k] = append(cols[k], row[k+1])
+		}
+	}
+	return ts, cols, sc.Err()
+}
