@@ -265,9 +265,9 @@ func (b *builder) capacitance() {
 		}
 		b.note("the calibration stretch did not give a capacitance (no clean exponential decay)")
 	}
-	if b.a.chg != nil {
+	if full := b.full(); b.a.chg != nil && len(full) > 0 {
 		var cs []float64
-		for _, cy := range b.full() {
+		for _, cy := range full {
 			if _, inf := b.swing(cy.Swing); inf.capF > 0 {
 				cs = append(cs, inf.capF)
 			}
@@ -281,7 +281,7 @@ func (b *builder) capacitance() {
 			b.res.Capacitance = &Capacity{F: *est(c, sd, "measured"), Method: "current-channel", Pulses: len(cs)}
 			return
 		}
-		b.note(fmt.Sprintf("the load-current column gave a capacitance on %d fires, fewer than the 3 needed", len(cs)))
+		b.note(fmt.Sprintf("the load-current column gave a capacitance on %d of %d fires, fewer than the 3 needed", len(cs), len(full)))
 	}
 	if o.capKnown() {
 		b.capF = o.CapF

@@ -40,6 +40,7 @@ type analyzeFlags struct {
 	segmentsCSV string
 	timeCol     string
 	voltCol     string
+	currentCol  string
 	voltUnit    string
 	timeFormat  string
 	delim       string
@@ -81,6 +82,7 @@ func newAnalyzeFlags(w io.Writer) (*flag.FlagSet, *analyzeFlags) {
 	fs.StringVar(&f.segmentsCSV, "segments-csv", "", "also write the segments to this CSV file")
 	fs.StringVar(&f.timeCol, "time-col", "", "time column: a name, or a position from 1 (default time_s)")
 	fs.StringVar(&f.voltCol, "volt-col", "", "voltage column: a name, or a position from 1 (default vcap_v)")
+	fs.StringVar(&f.currentCol, "current-col", "", "load-current column (amperes, or a unit in its name: iload_ma): a name, a position from 1, or none (default iload_a when present); it measures the capacitance at every fire")
 	fs.StringVar(&f.voltUnit, "volt-unit", "", "unit of the voltage column: V, mV or uV (default: from the column name, else V)")
 	fs.StringVar(&f.timeFormat, "time-format", "", "time column format: seconds or rfc3339 (default: from the first row)")
 	fs.StringVar(&f.delim, "delim", "", "field delimiter: ',', ';' or tab (default: from the header row)")
@@ -221,7 +223,7 @@ func runAnalyze(ctx context.Context, args []string, e *env) error {
 
 // reader applies the column-mapping flags.
 func (f *analyzeFlags) reader(r *capture.Reader) error {
-	r.TimeCol, r.VoltCol = f.timeCol, f.voltCol
+	r.TimeCol, r.VoltCol, r.CurrentCol = f.timeCol, f.voltCol, f.currentCol
 	tf, err := capture.ParseTimeFormat(f.timeFormat)
 	if err != nil {
 		return usageErrorf("--time-format: %v", err)
@@ -424,6 +426,16 @@ func printSummary(w io.Writer, res *analyze.Result) {
 	}
 	fmt.Fprintln(w)
 	fmt.Fprintf(w, "cycles: %d full, %d chatter\n", full, chatter)
+	if c := res.Capacitance; c != nil {
+		how := c.F.Origin
+		switch c.Method {
+		case "current-channel":
+			how = fmt.Sprintf("measured from the load current at %d fires", c.Pulses)
+		case "calibration-resistor":
+			how = "measured through the calibration resistor"
+		}
+		fmt.Fprintf(w, "capacitance: %s (%s)\n", estStr(&c.F, units.Farad), how)
+	}
 	t := res.Fit.Trigger
 	fmt.Fprintf(w, "trigger: %s", t.Kind)
 	if t.OnV != nil {

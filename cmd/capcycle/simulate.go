@@ -37,8 +37,9 @@ type simulateSetup struct {
 }
 
 func runSimulate(ctx context.Context, args []string, e *env) error {
-	fset := newFlags("simulate", "[--profile FILE | --scenario wren|fern] [--hours H] [--rate HZ] [-o FILE] [--force]", e.stderr,
+	fset := newFlags("simulate", "[--profile FILE | --scenario wren|fern] [--hours H] [--rate HZ] [--current] [-o FILE] [--force]", e.stderr,
 		"capcycle simulate --scenario wren --hours 24 -o wren-day.csv",
+		"capcycle simulate --scenario wren --hours 0.1 --rate 500 --current -o wren-iload.csv",
 		"capcycle simulate --profile fern.toml --hours 6 --rate 2 -o fern.csv",
 		"capcycle simulate --scenario fern --hours 1 | head")
 	profilePath := fset.String("profile", "", "bench profile (TOML) whose circuit to simulate")
@@ -47,6 +48,7 @@ func runSimulate(ctx context.Context, args []string, e *env) error {
 	rate := fset.Float64("rate", 10, "sample rate of the written trajectory, Hz")
 	out := fset.String("o", "", "capture file to write (default: standard output)")
 	force := fset.Bool("force", false, "replace the output file if it exists")
+	current := fset.Bool("current", false, "also write the load current ("+capture.ColIload+"), as a current channel would measure it")
 	if err := parseFlags(fset, args); err != nil {
 		return err
 	}
@@ -72,7 +74,7 @@ func runSimulate(ctx context.Context, args []string, e *env) error {
 	if err != nil {
 		return err
 	}
-	return simulateTo(ctx, setup, *hours*3600, *rate, *out, *force, e)
+	return simulateTo(ctx, setup, *hours*3600, *rate, *out, *force, *current, e)
 }
 
 func scenarioSetup(name string) (*simulateSetup, error) {
@@ -94,7 +96,7 @@ func scenarioSetup(name string) (*simulateSetup, error) {
 }
 
 // simulateTo runs the model and writes the trajectory as a capture file (or to stdout).
-func simulateTo(ctx context.Context, s *simulateSetup, durS, rate float64, out string, force bool, e *env) error {
+func simulateTo(ctx context.Context, s *simulateSetup, durS, rate float64, out string, force, current bool, e *env) error {
 	sp, err := model.NewSampler(s.circuit, s.light, &model.Options{DurationS: durS, RateHz: rate, StartV: s.startV})
 	if err != nil {
 		return inputError(err)
@@ -105,6 +107,11 @@ func simulateTo(ctx context.Context, s *simulateSetup, durS, rate float64, out s
 		Profile:  s.name,
 		Notes:    []string{"simulated by the capcycle circuit model; not a measurement"},
 		Channels: []capture.Channel{{Column: capture.ColVcap}},
+	}
+	row := []float64{0}
+	if current {
+		h.Channels = append(h.Channels, capture.Channel{Column: capture.ColIload})
+		row = append(row, 0)
 	}
 	var w *capture.Writer
 	if out == "" || out == "-" {
@@ -118,7 +125,6 @@ func simulateTo(ctx context.Context, s *simulateSetup, durS, rate float64, out s
 	if err != nil {
 		return workErrorf("%w", err)
 	}
-	row := []float64{0}
 	n := 0
 	for {
 		smp, ok := sp.Next()
@@ -126,6 +132,9 @@ func simulateTo(ctx context.Context, s *simulateSetup, durS, rate float64, out s
 			break
 		}
 		row[0] = smp.V
+		if current {
+			row[1] = smp.LoadA
+		}
 		if err := w.Row(smp.TS, row); err != nil {
 			w.Close(nil)
 			return workErrorf("%w", err)
