@@ -30,12 +30,15 @@ func newChargeLog() *chargeLog {
 	}
 }
 
-// add appends samples (t increasing) with their voltages and load currents.
+// add appends samples (t increasing) with their voltages and load currents. A current
+// of NaN (not sampled in that row) adds nothing to Q; pulseCap skips a pulse with one.
 func (c *chargeLog) add(t, v, i []float64) {
 	for k := range t {
 		if c.n > 0 {
 			p := (c.head - 1 + chargeRing) % chargeRing
-			c.sum += 0.5 * (i[k] + c.i[p]) * (t[k] - c.t[p])
+			if dq := 0.5 * (i[k] + c.i[p]) * (t[k] - c.t[p]); !math.IsNaN(dq) {
+				c.sum += dq
+			}
 		}
 		c.t[c.head], c.v[c.head], c.i[c.head], c.q[c.head] = t[k], v[k], i[k], c.sum
 		c.head = (c.head + 1) % chargeRing
@@ -97,6 +100,12 @@ func (c *chargeLog) pulseCap(onS, troughS, riseSlope float64) (float64, bool) {
 	if !ok0 || !okt {
 		return 0, false
 	}
+	kb, _ := c.find(onS - width)
+	for k := kb; k <= kt; k++ {
+		if math.IsNaN(c.i[c.slot(k)]) {
+			return 0, false // the current was not sampled throughout
+		}
+	}
 	s0 := c.slot(k0)
 	base := (c.q[s0] - qb0) / width
 	// The peak current of the pulse sets how close to the base "settled" is.
@@ -109,7 +118,9 @@ func (c *chargeLog) pulseCap(onS, troughS, riseSlope float64) (float64, bool) {
 	}
 	end := -1
 	for k := kt; k < c.n && c.t[c.slot(k)]-troughS <= width; k++ {
-		if math.Abs(c.i[c.slot(k)]-base) <= 0.02*peak {
+		if x := c.i[c.slot(k)]; math.IsNaN(x) {
+			return 0, false
+		} else if math.Abs(x-base) <= 0.02*peak {
 			end = k
 			break
 		}

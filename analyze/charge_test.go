@@ -80,3 +80,44 @@ func TestCapacitanceFromMotorCurrent(t *testing.T) {
 	within(t, "C", &c.F, sc.Circuit.Storage.CapF, 0.03)
 	t.Logf("C = %.4g F from %d pulses (true %.4g F)", c.F.Value, c.Pulses, sc.Circuit.Storage.CapF)
 }
+
+// The charge log across its ring's wrap: Q by the trapezoid rule, a rectangular pulse's
+// capacitance exact, a pulse with an unsampled current (NaN) or one older than the ring
+// refused.
+func TestChargeLog(t *testing.T) {
+	c := newChargeLog()
+	const dt = 1e-3
+	n := chargeRing + 5000 // wraps
+	ts, vs, is := make([]float64, n), make([]float64, n), make([]float64, n)
+	// A 10 mA offset throughout; from the samples after 69.000 s to 69.100 s a 1 A pulse,
+	// over which the voltage falls from 3 V to 2.9 V: 0.1 C into 1 F.
+	for k := range ts {
+		ts[k] = float64(k) * dt
+		vs[k] = 3
+		is[k] = 0.01
+		if t := ts[k]; t > 69.0+dt/2 && t < 69.1+dt/2 {
+			is[k] += 1
+		}
+		if ts[k] > 69.1-dt/2 {
+			vs[k] = 2.9
+		}
+	}
+	c.add(ts, vs, is)
+	if q, ok := c.qAt(69.05); !ok || math.Abs(q-(0.01*69.05+1*(0.05-dt/2))) > 1e-9 {
+		t.Errorf("Q(69.05 s) = %.9g, %v", q, ok)
+	}
+	got, ok := c.pulseCap(69.0, 69.1, 0)
+	// Q = 1 A · 0.1 s (the trapezoid: half a step at each edge cancels), ΔV = 0.1 V.
+	if !ok || math.Abs(got-1) > 1e-6 {
+		t.Errorf("C = %.5g, %v; want 1 F", got, ok)
+	}
+	if _, ok := c.pulseCap(1.0, 1.1, 0); ok {
+		t.Error("a pulse older than the ring was measured")
+	}
+	is[69050] = math.NaN()
+	c2 := newChargeLog()
+	c2.add(ts, vs, is)
+	if _, ok := c2.pulseCap(69.0, 69.1, 0); ok {
+		t.Error("a pulse with an unsampled current was measured")
+	}
+}

@@ -6,6 +6,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"strconv"
 	"strings"
 	"time"
@@ -501,8 +502,9 @@ func splitFields(line []byte, comma byte) func(func([]byte) bool) {
 func (r *Reader) Read(t, v []float64) (int, error) { return r.read(t, v, nil) }
 
 // ReadCurrent is Read that also fills i with the load current in amperes, when the
-// capture has a current column (see CurrentCol and HasCurrent; else i is left alone). A
-// bad current cell is a *ParseError like a bad volt.
+// capture has a current column (see CurrentCol and HasCurrent; else i is left alone). An
+// empty current cell (not sampled in that row) reads as NaN; any other bad current cell
+// is a *ParseError like a bad volt.
 func (r *Reader) ReadCurrent(t, v, i []float64) (int, error) { return r.read(t, v, i) }
 
 // HasCurrent reports whether the capture has a load-current column. It is known after
@@ -645,7 +647,10 @@ func (r *Reader) row(line []byte) (t, v, i float64, err error) {
 		return 0, 0, 0, err
 	}
 	if r.icol >= 0 {
-		if i, err = r.number(cf, cc); err != nil {
+		// An empty cell is a channel not sampled in that row (FORMAT.md): NaN.
+		if len(trimField(cf)) == 0 {
+			i = math.NaN()
+		} else if i, err = r.number(cf, cc); err != nil {
 			return 0, 0, 0, err
 		}
 		i *= r.iscale

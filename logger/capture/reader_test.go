@@ -64,7 +64,6 @@ var badFiles = []struct {
 	{"long line", "time_s,vcap_v\n" + strings.Repeat("1", 70000) + "\n", 2, 0, ErrLineTooLong},
 	{"third column chosen by index absent", "time_s,vcap_v\n0,1\n", 1, 0, ErrMissingColumn}, // TimeCol "3"
 	{"not a number current", "time_s,vcap_v,iload_a\n0,1,0\n0.1,1,x\n", 3, 7, ErrNotNumber},
-	{"empty current cell", "time_s,vcap_v,iload_ma\n0,1,0\n0.1,1,\n", 3, 7, ErrEmptyCell},
 }
 
 func TestReaderBadInput(t *testing.T) {
@@ -264,6 +263,12 @@ func TestReaderCurrent(t *testing.T) {
 	}
 	if vs[2] != 2.3 || ts[2] != 0.02 {
 		t.Errorf("row 3: %g s %g V", ts[2], vs[2])
+	}
+
+	// An empty current cell is a row in which the channel was not sampled.
+	r = NewReader(strings.NewReader("time_s,vcap_v,iload_a\n0,1,0.5\n0.1,1, \n"), "sparse.csv")
+	if n, err := r.ReadCurrent(ts, vs, is); err != io.EOF || n != 2 || is[0] != 0.5 || !math.IsNaN(is[1]) {
+		t.Errorf("an empty current cell: %d rows, %v, currents %v", n, err, is[:2])
 	}
 
 	r = NewReader(strings.NewReader(strings.Replace(in, "0.02,2.3,118", "0.02,2.3,oops", 1)), "pulse.csv")
