@@ -187,7 +187,7 @@ func darkPart(t, v []float64, band float64) (lo, hi int) {
 	}
 	hi = min(n, hi+1) // keep the first point on the floor
 	if hi < 2*darkWindows {
-		return 0, n
+		return 0, hi // too short a fall to rank its stretches
 	}
 	t0, w := t[0], (t[hi-1]-t[0])/darkWindows
 	if !(w > 0) {

@@ -256,11 +256,26 @@ func (c *conv) channels(rs []rawChannel) []Channel {
 	for i, r := range rs {
 		k := fmt.Sprintf("channel[%d].", i)
 		ch := &out[i]
-		ch.Node = Node(c.text(k+"node", r.Node, true, string(NodeVcap), string(NodeVcell), string(NodeVhold), string(NodeVload)))
+		ch.Node = Node(c.text(k+"node", r.Node, true, string(NodeVcap), string(NodeVcell), string(NodeVhold), string(NodeVload), string(NodeIload)))
 		if !r.ADC.set {
 			c.fail(k+"adc", ErrMissing, "required: the ADC input number, 0 to 15")
 		}
 		ch.ADC = int(c.integer(k+"adc", r.ADC, 0, 15, 0))
+		if ch.Node == NodeIload {
+			why := "an iload channel reads a shunt (shunt_ohm, amp_gain), not a divider"
+			c.forbid(k+"top_ohm", r.TopOhm, why)
+			c.forbid(k+"bottom_ohm", r.BottomOhm, why)
+			ch.ShuntOhm = c.num(k+"shunt_ohm", r.ShuntOhm, q{units.Ohm, units.Positive,
+				"the current-sense shunt in the load's return, in Ω, e.g. 1 or \"100m\""}, true)
+			ch.AmpGain = c.num(k+"amp_gain", r.AmpGain, plainPos, false)
+			if !r.AmpGain.set {
+				ch.AmpGain = 1
+			}
+		} else {
+			why := fmt.Sprintf("shunt_ohm and amp_gain are for node = %q (the load current)", NodeIload)
+			c.forbid(k+"shunt_ohm", r.ShuntOhm, why)
+			c.forbid(k+"amp_gain", r.AmpGain, why)
+		}
 		ch.TopOhm = c.num(k+"top_ohm", r.TopOhm, ohmsNN, false)
 		ch.BottomOhm = c.num(k+"bottom_ohm", r.BottomOhm, ohmsNN, false)
 		ch.SeriesOhm = c.num(k+"series_ohm", r.SeriesOhm, ohmsNN, false)

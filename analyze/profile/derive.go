@@ -53,6 +53,13 @@ type ChannelFigures struct {
 	LSBV       float64 // node voltage per ADC count, V
 	ExpectedV  float64 // highest voltage expected at the node (rated voltage, cell Voc, ...), V
 	LoadA      float64 // divider current at ExpectedV, A
+
+	// A NodeIload channel reads a current: FullScaleV and LSBV are then at the ADC pin
+	// (the amplifier output), ExpectedV and LoadA are NaN, and these give the current.
+	// All three are NaN for a voltage channel.
+	FullScaleA float64 // load current at the top of the ADC range, (Gain·reference + OffsetV)/(ShuntOhm·AmpGain), A
+	LSBA       float64 // load current per ADC count, A
+	ExpectedA  float64 // highest load current expected: (V − switch drop)/(load + switch on + shunt resistance) at on_v (else rated_v), A; the motor's stall current
 }
 
 // adcSourceOhmMax is the source impedance the ATmega328P-class ADC is designed for
@@ -145,6 +152,10 @@ func Derive(p *Profile) Derived {
 			warn("channel[%d] (%s): the node may reach %s but the ADC full scale is %s: readings clip, and the pin may go above the ADC reference (never let it exceed the reference or the supply, or go below 0 V)",
 				i, f.Node, units.Format(f.ExpectedV, units.Volt), units.Format(f.FullScaleV, units.Volt))
 		}
+		if f.ExpectedA > f.FullScaleA {
+			warn("channel[%d] (%s): the load may draw up to %s but the current channel's full scale is %s: readings clip, and the amplifier may drive the pin to its own supply (lower shunt_ohm or amp_gain; never let the pin exceed the reference or the supply, or go below 0 V)",
+				i, f.Node, units.Format(f.ExpectedA, units.Ampere), units.Format(f.FullScaleA, units.Ampere))
+		}
 		if f.SourceOhm > adcSourceOhmMax {
 			warn("channel[%d] (%s): the ADC pin sees %s, above the ~10 kΩ the converter is designed for; fit a capacitor (e.g. 100 nF) from the pin to ground",
 				i, f.Node, units.Format(f.SourceOhm, units.Ohm))
@@ -154,7 +165,9 @@ func Derive(p *Profile) Derived {
 }
 
 func channelFigures(p *Profile, ch Channel) ChannelFigures {
-	f := ChannelFigures{Node: ch.Node, ADC: ch.ADC, Ratio: ch.Ratio(), LoadOhm: ch.LoadOhm()}
+	nan := math.NaN()
+	f := ChannelFigures{Node: ch.Node, ADC: ch.ADC, Ratio: ch.Ratio(), LoadOhm: ch.LoadOhm(),
+		FullScaleA: nan, LSBA: nan, ExpectedA: nan}
 	f.SourceOhm = ch.SeriesOhm + ch.TopOhm
 	if ch.BottomOhm > 0 {
 		f.SourceOhm = ch.SeriesOhm + ch.TopOhm*ch.BottomOhm/(ch.TopOhm+ch.BottomOhm)
@@ -168,9 +181,33 @@ func channelFigures(p *Profile, ch Channel) ChannelFigures {
 		f.ExpectedV = p.Cell.VocV
 	case NodeVhold:
 		f.ExpectedV = p.Storage.RatedV - p.Trigger.DiodeV
+	case NodeIload:
+		f.ExpectedV = nan
+		f.FullScaleA = f.FullScaleV / ch.VoltsPerAmp()
+		f.LSBA = f.LSBV / ch.VoltsPerAmp()
+		f.ExpectedA = peakLoadA(p, ch.ShuntOhm)
 	}
 	f.LoadA = f.ExpectedV / f.LoadOhm
 	return f
+}
+
+// peakLoadA is the highest current the load draws: at the trigger's on_v (or the rated
+// voltage without one), less the switch's drop, through the load (a motor's armature at
+// stall), the switch's on-resistance and the shunt. NaN without a load resistance.
+func peakLoadA(p *Profile, shuntOhm float64) float64 {
+	v := p.Trigger.OnV
+	if v == 0 {
+		v = p.Storage.RatedV
+	}
+	r := p.Load.Ohm
+	if p.Load.Kind == Motor {
+		r = p.Load.ArmatureOhm
+	}
+	r += p.Switch.OnOhm + shuntOhm
+	if !(r > 0) {
+		return math.NaN()
+	}
+	return math.Max(0, v-p.Switch.DropV) / r
 }
 
 // ElectrolyticLeakLimitA returns the datasheet DC leakage limit of an aluminium

@@ -26,6 +26,12 @@
 //	top_ohm = "1meg"
 //	bottom_ohm = "1meg"
 //
+//	[[channel]]                # optional: the load current through a low-side shunt
+//	node = "iload"
+//	adc = 2
+//	shunt_ohm = 1              # adc_v = I_load · shunt_ohm · amp_gain
+//	amp_gain = 20
+//
 // Tables: storage, trigger, switch (optional), load, cell, adc, channel (one or more),
 // calibration (optional), light (optional, for the virtual robot). [Template] returns a
 // fully commented file for each trigger kind; the fields of [Profile] document every key,
@@ -47,7 +53,8 @@
 // # Derived figures
 //
 // [Derive] computes what follows from the profile: each channel's divider ratio, full
-// scale and resolution at the node, the current the probe draws at the trigger voltage,
+// scale and resolution at the node (for an iload channel, the full-scale current
+// reference/(shunt·gain) and the current per count), the current the probe draws at the trigger voltage,
 // the energy per pulse ½·C·(Von²−Voff²) with its tolerance range, the datasheet leakage
 // limit of an aluminium electrolytic (I = 0.01·C·V or 3 µA, whichever is greater, with C
 // in µF and V the rated voltage, after 2 minutes at 20 °C), the hold time of a hold-

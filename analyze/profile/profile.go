@@ -148,33 +148,65 @@ const (
 	NodeVcell Node = "vcell" // the cell's output
 	NodeVhold Node = "vhold" // the hold capacitor
 	NodeVload Node = "vload" // the load side of the switch
+	// NodeIload is the load current, read as the voltage across a shunt resistor in the
+	// load's ground return (low side), usually through a small amplifier. It is a
+	// current, not a node voltage: the channel has ShuntOhm and AmpGain instead of a
+	// divider.
+	NodeIload Node = "iload"
 )
 
 // Channel is one ADC input and the divider in front of it ([[channel]]). The node
 // voltage is recovered as node_v = GainV * adc_v / Ratio + OffsetV, where Ratio =
 // BottomOhm / (TopOhm + BottomOhm), or 1 without a bottom resistor.
+//
+// A NodeIload channel reads the load current instead, through a shunt of ShuntOhm in the
+// load's return and an amplifier of gain AmpGain, so that adc_v = I_load · ShuntOhm ·
+// AmpGain. It has no divider (Ratio 1); its "node" is the amplifier output at the pin,
+// and the current is I_load = (GainV * adc_v + OffsetV) / VoltsPerAmp().
 type Channel struct {
 	Node      Node    // required; each node at most once
 	ADC       int     // ADC input number, 0..15; required; each at most once
-	TopOhm    float64 // divider resistor from the node to the ADC pin, Ω; 0 = direct
-	BottomOhm float64 // divider resistor from the ADC pin to ground, Ω; 0 = none
+	TopOhm    float64 // divider resistor from the node to the ADC pin, Ω; 0 = direct; not for iload
+	BottomOhm float64 // divider resistor from the ADC pin to ground, Ω; 0 = none; not for iload
 	SeriesOhm float64 // extra series resistor into the pin (protection), Ω; 0 = none
 	Gain      float64 // calibration gain (dimensionless); default 1
-	OffsetV   float64 // calibration offset at the node, V; default 0
+	OffsetV   float64 // calibration offset at the node (iload: at the pin), V; default 0
+	ShuntOhm  float64 // iload only: the current-sense shunt, Ω; required there, > 0
+	AmpGain   float64 // iload only: the shunt amplifier's voltage gain (dimensionless); default 1 (no amplifier)
 }
 
-// Ratio is the divider ratio BottomOhm/(TopOhm+BottomOhm), or 1 without a bottom resistor.
+// IsCurrent reports whether the channel reads the load current (NodeIload) rather than a
+// node voltage.
+func (c Channel) IsCurrent() bool { return c.Node == NodeIload }
+
+// VoltsPerAmp is the ADC-pin voltage per ampere of load current of a NodeIload channel,
+// ShuntOhm·AmpGain (an AmpGain of 0 counts as 1), in V/A. It is 0 for a voltage channel.
+func (c Channel) VoltsPerAmp() float64 {
+	if !c.IsCurrent() {
+		return 0
+	}
+	g := c.AmpGain
+	if g == 0 {
+		g = 1
+	}
+	return c.ShuntOhm * g
+}
+
+// Ratio is the divider ratio BottomOhm/(TopOhm+BottomOhm), or 1 without a bottom
+// resistor. It is 1 for a NodeIload channel (the amplifier drives the pin directly).
 func (c Channel) Ratio() float64 {
-	if c.BottomOhm == 0 {
+	if c.BottomOhm == 0 || c.IsCurrent() {
 		return 1
 	}
 	return c.BottomOhm / (c.TopOhm + c.BottomOhm)
 }
 
 // LoadOhm is the resistance the divider puts across the node (TopOhm+BottomOhm), or
-// +Inf without a bottom resistor (the ADC pin itself draws next to nothing).
+// +Inf without a bottom resistor (the ADC pin itself draws next to nothing). It is +Inf
+// for a NodeIload channel: a shunt in the load's ground return carries the load current
+// and puts nothing across the capacitor.
 func (c Channel) LoadOhm() float64 {
-	if c.BottomOhm == 0 {
+	if c.BottomOhm == 0 || c.IsCurrent() {
 		return inf
 	}
 	return c.TopOhm + c.BottomOhm

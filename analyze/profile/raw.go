@@ -101,6 +101,8 @@ type rawChannel struct {
 	SeriesOhm rawValue `toml:"series_ohm"`
 	Gain      rawValue `toml:"gain"`
 	OffsetV   rawValue `toml:"offset_v"`
+	ShuntOhm  rawValue `toml:"shunt_ohm"`
+	AmpGain   rawValue `toml:"amp_gain"`
 }
 
 type rawCalibration struct {

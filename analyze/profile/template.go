@@ -107,7 +107,7 @@ reference_v = 5.0           # reference voltage, V: measure it (required)
 bits = 10                   # converter resolution (default 10)
 
 # One [[channel]] per ADC input. node: "vcap" (storage capacitor, required once),
-# "vcell", "vhold" (hold capacitor) or "vload". The node voltage is
+# "vcell", "vhold" (hold capacitor), "vload" or "iload" (load current). The node voltage is
 # gain · adc_v / ratio + offset_v, with ratio = bottom / (top + bottom).
 # Keep every ADC pin between 0 V and the reference: choose the divider for the highest
 # voltage the node can reach.
@@ -125,6 +125,18 @@ node = "vcell"
 adc = 1
 top_ohm = "1meg"
 bottom_ohm = "1meg"
+
+# A load-current channel (optional): a low-side shunt in the load's ground return, read
+# through a small amplifier; the ADC pin sees I_load · shunt_ohm · amp_gain (here 3 V at
+# 150 mA). The analysis then measures the capacitance from the charge each fire draws.
+# No divider keys here. Choose shunt and gain so that the pin stays between 0 V and the
+# reference at the largest current (the motor's stall current), and keep the amplifier's
+# output within the ADC's supply rails (see its maker's ratings).
+# [[channel]]
+# node = "iload"
+# adc = 2
+# shunt_ohm = 1             # current-sense shunt, Ω (required for iload)
+# amp_gain = 20             # amplifier voltage gain (default 1: the shunt straight on the pin)
 
 # [calibration]             # a stretch with a known resistor across the capacitor, to measure C
 # resistor_ohm = "1k"       # the known resistor, Ω (required in this table)
