@@ -209,7 +209,7 @@ var badProfiles = []struct {
 	{"iload with a zero shunt", "", "\n[[channel]]\nnode = \"iload\"\nadc = 2\n§shunt_ohm = 0",
 		"channel[2].shunt_ohm", ErrValue, "more than zero"},
 	{"iload with a negative shunt", "", "\n[[channel]]\nnode = \"iload\"\nadc = 2\n§shunt_ohm = \"-1\"",
-		"channel[2].shunt_ohm", ErrValue, "negative value"},
+		"channel[2].shunt_ohm", ErrValue, "greater than zero"},
 	{"iload with a top resistor", "", "\n[[channel]]\nnode = \"iload\"\nadc = 2\nshunt_ohm = 1\n§top_ohm = \"10k\"",
 		"channel[2].top_ohm", ErrValue, "not a divider"},
 	{"iload with a bottom resistor", "", "\n[[channel]]\nnode = \"iload\"\nadc = 2\n§bottom_ohm = \"10k\"\nshunt_ohm = 1",
