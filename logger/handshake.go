@@ -15,6 +15,7 @@ import (
 func (ss *session) handshake(rd *chunkReader, first bool) error {
 	if ss.s == nil {
 		ss.s = newStream(nil, 0, ss.cfg.Dividers)
+		ss.s.scales = ss.cfg.Scales
 	}
 	s := ss.s
 	s.hold = true
@@ -106,8 +107,8 @@ func (ss *session) channels(n int) []capture.Channel {
 	for k := range out {
 		c := s.ch[k]
 		out[k] = capture.Channel{Column: cols[k], ADC: k, Bits: int(s.id.EBits),
-			RefV: float64(s.id.RefUV) / 1e6, Divider: s.divider(k),
-			Gain: c.Gain.Float64(), OffsetV: float64(c.OffUV) / 1e6, CalFrom: "board"}
+			RefV: float64(s.id.RefUV) / 1e6, Divider: s.divider(k), Scale: s.scale(k),
+			Gain: c.Gain.Float64(), OffsetV: float64(c.OffUV) / 1e6 * s.scale(k), CalFrom: "board"}
 	}
 	return out
 }

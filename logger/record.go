@@ -5,7 +5,9 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"os"
+	"slices"
 	"strings"
 	"time"
 
@@ -45,6 +47,12 @@ type Config struct {
 	Burst    *Burst    // nil keeps the board's burst settings
 	Ref      string    // "avcc", "int" or "ext"; "" keeps
 	Dividers []float64 // per channel divider ratio (ADC volts / node volts); 0 uses the board's
+	// Scales is a per channel factor on the volts at the input, after the divider and the
+	// board's calibration, for a column in another unit: 1/(shunt·gain) turns a current
+	// sense amplifier's volts into amperes. It goes into the header's channel line
+	// (scale=S), and the calibration offset is scaled with it. 0 or missing means 1.
+	// Frame input only.
+	Scales []float64
 
 	Text TextInput // conversion of InputText lines
 
@@ -138,7 +146,15 @@ func (c *Config) check() error {
 			return fmt.Errorf("logger: channel %d divider %g is not a ratio in (0, 1] (ADC volts over node volts)", k, d)
 		}
 	}
+	for k, f := range c.Scales {
+		if math.IsNaN(f) || math.IsInf(f, 0) || f < 0 {
+			return fmt.Errorf("logger: channel %d scale %g is not a positive factor", k, f)
+		}
+	}
 	if c.Input == InputText {
+		if slices.ContainsFunc(c.Scales, func(f float64) bool { return f != 0 && f != 1 }) {
+			return errors.New("logger: per channel scales are for frame input; text input has one scale for every column")
+		}
 		t := c.Text
 		if t.Bits < 0 || t.Bits > 32 || t.Bits > 0 && t.VrefV <= 0 || t.Divider < 0 || t.Divider > 1 {
 			return fmt.Errorf("logger: text input needs bits in 0..32, a positive vref with bits, and a divider in (0, 1] (got bits %d vref %g divider %g)", t.Bits, t.VrefV, t.Divider)

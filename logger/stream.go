@@ -25,6 +25,7 @@ type stream struct {
 	ch       [wire.MaxChannels]wire.Channel
 	haveCh   [wire.MaxChannels]bool
 	divFixed []float64 // per column: divider from the config; 0 means the board's
+	scales   []float64 // per column: factor after the divider and the calibration (Config.Scales); 0 means 1
 	factor   [wire.MaxChannels]float64
 	offV     [wire.MaxChannels]float64
 
@@ -209,9 +210,18 @@ func (s *stream) convert() {
 			eb = s.id.Bits
 		}
 		ref := float64(s.id.RefUV) / 1e6
-		s.factor[k] = ref / float64(uint64(1)<<eb) / div * c.Gain.Float64()
-		s.offV[k] = float64(c.OffUV) / 1e6
+		sc := s.scale(k)
+		s.factor[k] = ref / float64(uint64(1)<<eb) / div * c.Gain.Float64() * sc
+		s.offV[k] = float64(c.OffUV) / 1e6 * sc
 	}
+}
+
+// scale is the factor on column k after the divider and the calibration (1 for volts).
+func (s *stream) scale(k int) float64 {
+	if k < len(s.scales) && s.scales[k] > 0 {
+		return s.scales[k]
+	}
+	return 1
 }
 
 // divider is the divider ratio used for column k.
