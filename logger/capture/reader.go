@@ -419,7 +419,18 @@ func (r *Reader) pickColumn(opt string, names []string, what string, match func(
 // ColIload is the load-current column of the design's capture contract, amperes.
 const ColIload = "iload_a"
 
-func isCurrentName(n string) bool { return n == ColIload || strings.HasPrefix(n, "iload") }
+// isCurrentName accepts iload_a and the like with a unit of current: "iload_ma",
+// "iload (uA)"; not "iload_v", a voltage.
+func isCurrentName(n string) bool {
+	if !strings.HasPrefix(n, "iload") {
+		return false
+	}
+	switch unitSuffix(n) {
+	case "a", "ma", "ua", "µa":
+		return true
+	}
+	return false
+}
 
 func isTimeName(n string) bool {
 	return n == ColTime || n == "t" || strings.HasPrefix(n, "time") || strings.HasPrefix(n, "t_") ||
@@ -431,25 +442,26 @@ func isVoltName(n string) bool {
 		strings.HasPrefix(n, "v (") || strings.HasPrefix(n, "v [") || strings.HasPrefix(n, "volt")
 }
 
-// unitFactor reads the unit at the end of a column name: "_mv", "(ms)", "[uV]".
-func unitFactor(name string) float64 {
-	n := strings.TrimSpace(name)
-	var u string
-	switch {
-	case strings.HasSuffix(n, ")") || strings.HasSuffix(n, "]"):
+// unitSuffix returns the unit at the end of a column name ("_mv", "(ms)", "[uV]"), lower
+// case, or "" when it has none.
+func unitSuffix(name string) string {
+	n := strings.ToLower(strings.TrimSpace(name))
+	if strings.HasSuffix(n, ")") || strings.HasSuffix(n, "]") {
 		i := strings.LastIndexAny(n, "([")
 		if i < 0 {
-			return 1
+			return ""
 		}
-		u = strings.TrimSpace(n[i+1 : len(n)-1])
-	default:
-		i := strings.LastIndexByte(n, '_')
-		if i < 0 {
-			return 1
-		}
-		u = n[i+1:]
+		return strings.TrimSpace(n[i+1 : len(n)-1])
 	}
-	switch u {
+	if i := strings.LastIndexByte(n, '_'); i >= 0 {
+		return n[i+1:]
+	}
+	return ""
+}
+
+// unitFactor reads the unit at the end of a column name: "_mv", "(ms)", "[uV]".
+func unitFactor(name string) float64 {
+	switch unitSuffix(name) {
 	case "mv", "ms", "ma":
 		return 1e-3
 	case "uv", "µv", "us", "µs", "ua", "µa":

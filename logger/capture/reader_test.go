@@ -277,9 +277,15 @@ func TestReaderCurrent(t *testing.T) {
 		t.Errorf(`CurrentCol "none": %v, HasCurrent %v`, err, r.HasCurrent())
 	}
 
-	r = NewReader(strings.NewReader("time_s,vcap_v\n0,1\n"), "plain.csv")
-	if _, _, err := readAll(t, r); err != nil || r.HasCurrent() {
-		t.Errorf("no current column: %v, HasCurrent %v", err, r.HasCurrent())
+	for _, head := range []string{"time_s,vcap_v", "time_s,vcap_v,iload_v", "time_s,vcap_v,iloader"} {
+		r = NewReader(strings.NewReader(head+"\n0,1,2\n"), "plain.csv")
+		if _, _, err := readAll(t, r); err != nil || r.HasCurrent() {
+			t.Errorf("%s: %v, HasCurrent %v (no column of current)", head, err, r.HasCurrent())
+		}
+	}
+	r = NewReader(strings.NewReader("time_s,vcap_v,iload (uA)\n0,1,250\n"), "paren.csv")
+	if n, err := r.ReadCurrent(ts, vs, is); err != io.EOF || n != 1 || math.Abs(is[0]-250e-6) > 1e-15 {
+		t.Errorf(`"iload (uA)": %d rows, %v, %g A`, n, err, is[0])
 	}
 	r = NewReader(strings.NewReader("time_s,vcap_v\n0,1\n"), "plain.csv")
 	r.CurrentCol = "i_motor"
