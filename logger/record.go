@@ -53,6 +53,9 @@ type Config struct {
 	// (scale=S), and the calibration offset is scaled with it. 0 or missing means 1.
 	// Frame input only.
 	Scales []float64
+	// Decimals is the number of decimals of the values in the file; default 5 (10 µV, or
+	// 10 µA in an amperes column). A finer current channel needs more.
+	Decimals int
 
 	Text TextInput // conversion of InputText lines
 
@@ -145,6 +148,9 @@ func (c *Config) check() error {
 		if d < 0 || d > 1 {
 			return fmt.Errorf("logger: channel %d divider %g is not a ratio in (0, 1] (ADC volts over node volts)", k, d)
 		}
+	}
+	if c.Decimals < 0 || c.Decimals > 12 {
+		return fmt.Errorf("logger: %d decimals: want 0 (default 5) to 12", c.Decimals)
 	}
 	for k, f := range c.Scales {
 		if math.IsNaN(f) || math.IsInf(f, 0) || f < 0 {
@@ -296,7 +302,7 @@ func (ss *session) openFile(h *capture.Header) error {
 				return fmt.Errorf("logger: %s has columns %s; this recording writes %s (nothing was changed)",
 					ss.cfg.Out, strings.Join(ex.Columns, ","), strings.Join(want, ","))
 			}
-			w, ex, err := capture.Append(ss.cfg.Out, ss.begun, nil)
+			w, ex, err := capture.Append(ss.cfg.Out, ss.begun, &capture.Options{ValueDecimals: ss.cfg.Decimals})
 			if err != nil {
 				return err
 			}
@@ -309,7 +315,7 @@ func (ss *session) openFile(h *capture.Header) error {
 			return nil
 		}
 	}
-	w, err := capture.Create(ss.cfg.Out, h, &capture.Options{Force: ss.cfg.Force})
+	w, err := capture.Create(ss.cfg.Out, h, &capture.Options{Force: ss.cfg.Force, ValueDecimals: ss.cfg.Decimals})
 	if err != nil {
 		return err
 	}

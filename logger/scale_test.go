@@ -24,6 +24,7 @@ func TestRecordScaledColumn(t *testing.T) {
 	cfg.Columns = []string{capture.ColIload}
 	cfg.Dividers = []float64{0, 1}
 	cfg.Scales = []float64{0, 0.05} // 1/(1 Ω · 20): a shunt and an amplifier, 20 V/A
+	cfg.Decimals = 7
 	r := startRecording(t, cfg)
 	r.waitFor("0 samples")
 	pb.write(pb.slow(nil, 10, func(i int) uint16 { return 2048 }))
@@ -41,6 +42,7 @@ func TestRecordScaledColumn(t *testing.T) {
 		"# channel: iload_a adc=1 bits=12 ref_v=5 divider=1 scale=0.05\n",
 		"# calibration: iload_a gain=1 offset_v=0.0005 from=board\n",
 		"time_s,vcap_v,iload_a\n",
+		",5.0000000,0.1255000\n", // Decimals
 	} {
 		if !strings.Contains(text, want) {
 			t.Errorf("capture has no %q:\n%s", want, text)
@@ -79,6 +81,7 @@ func TestConfigScales(t *testing.T) {
 		{"negative", Config{Out: "x.csv", Scales: []float64{1, -2}}, "channel 1 scale -2"},
 		{"infinite", Config{Out: "x.csv", Scales: []float64{math.Inf(1)}}, "channel 0 scale"},
 		{"text input", Config{Out: "x.csv", Input: InputText, Scales: []float64{1, 0.05}}, "frame input"},
+		{"too many decimals", Config{Out: "x.csv", Decimals: 13}, "decimals"},
 		{"text input, all ones", Config{Out: "x.csv", Input: InputText, Scales: []float64{1, 0}}, ""},
 	} {
 		err := c.cfg.check()

@@ -156,6 +156,11 @@ func printProfile(w io.Writer, file string, p *profile.Profile, d profile.Derive
 	fmt.Fprintln(tw, "probe")
 	for i, c := range d.Channels {
 		ch := p.Channels[i]
+		if ch.IsCurrent() {
+			row(fmt.Sprintf("channel %d: %s", c.ADC, c.Node), "shunt %s × gain %.4g = %s/A at the pin, full scale %s, %s per count, peak load current %s",
+				F(ch.ShuntOhm, units.Ohm), ch.AmpGain, F(ch.VoltsPerAmp(), "V"), F(c.FullScaleA, "A"), F(c.LSBA, "A"), F(c.ExpectedA, "A"))
+			continue
+		}
 		row(fmt.Sprintf("channel %d: %s", c.ADC, c.Node), "ratio %.4g (%s / %s), full scale %s, %s per count, draws %s at %s",
 			c.Ratio, F(ch.TopOhm, units.Ohm), F(ch.BottomOhm, units.Ohm), F(c.FullScaleV, "V"), F(c.LSBV, "V"),
 			F(c.LoadA, "A"), F(c.ExpectedV, "V"))

@@ -6,6 +6,7 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -16,6 +17,7 @@ import (
 	"capcycle/analyze/profile"
 	"capcycle/analyze/units"
 	"capcycle/logger"
+	"capcycle/logger/capture"
 )
 
 // recordCommand is "capcycle record".
@@ -229,7 +231,9 @@ func recordConfig(f *recordFlags, set map[string]bool, prof *profile.Profile, no
 }
 
 // recordFromProfile takes the name, the channels (vcap on ADC0, further nodes on ADC1..),
-// their dividers and the ADC reference from the profile.
+// their dividers and the ADC reference from the profile. A load-current channel (node
+// iload) is written as column iload_a in amperes: divider 1 and a scale of
+// 1/(shunt·gain) on the volts at its pin.
 func recordFromProfile(cfg *logger.Config, p *profile.Profile, text bool) error {
 	cfg.Profile = p.Name
 	byADC := map[int]profile.Channel{}
@@ -248,15 +252,31 @@ func recordFromProfile(cfg *logger.Config, p *profile.Profile, text bool) error 
 		cfg.Channels = maxADC + 1
 	}
 	cfg.Dividers = make([]float64, cfg.Channels)
+	cfg.Scales = nil
 	cfg.Columns = nil
 	for k := 0; k < cfg.Channels; k++ {
 		c, ok := byADC[k]
 		if ok {
 			cfg.Dividers[k] = c.Ratio()
 		}
+		if ok && c.IsCurrent() {
+			// The load current: the amplifier's volts at the pin (no divider) over
+			// shunt·gain, in amperes, written as the column the analysis reads.
+			if text {
+				return inputError(fmt.Errorf("profile %s: ADC%d reads the load current: text input has one scale for every column, so record it with the capcycle firmware (frame input)", p.Name, k))
+			}
+			if cfg.Scales == nil {
+				cfg.Scales = make([]float64, cfg.Channels)
+			}
+			cfg.Dividers[k], cfg.Scales[k] = 1, 1/c.VoltsPerAmp()
+			cfg.Decimals = max(cfg.Decimals, recordDecimals(p.ADC, c))
+		}
 		if k > 0 {
 			name := fmt.Sprintf("ch%d_v", k)
-			if ok {
+			switch {
+			case ok && c.IsCurrent():
+				name = capture.ColIload
+			case ok:
 				name = string(c.Node) + "_v"
 			}
 			cfg.Columns = append(cfg.Columns, name)
@@ -272,6 +292,15 @@ func recordFromProfile(cfg *logger.Config, p *profile.Profile, text bool) error 
 		cfg.Text = logger.TextInput{Bits: p.ADC.Bits, VrefV: p.ADC.ReferenceV, Divider: cfg.Dividers[0], Columns: cfg.Channels}
 	}
 	return nil
+}
+
+// recordDecimals is the number of decimals that keeps the file's step at most a tenth of
+// a count of current channel c at the firmware's resolution (the profile's bits plus the
+// 2 of its default oversampling): at least the default 5, at most 12.
+func recordDecimals(a profile.ADC, c profile.Channel) int {
+	lsbA := a.ReferenceV / math.Ldexp(1, a.Bits+2) / c.VoltsPerAmp()
+	d := int(math.Ceil(-math.Log10(lsbA / 10)))
+	return min(max(d, 5), 12)
 }
 
 // recordUntil is the next time of day "HH:MM" after now, in now's location.

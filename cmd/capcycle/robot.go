@@ -103,7 +103,7 @@ func (f *robotFlags) rig() (*robotRig, error) {
 		if err != nil {
 			return nil, workErrorf("built-in profile: %w", err)
 		}
-		rig.Nodes, rig.Div, rig.Bits, rig.Ref, rig.RefV = w.Nodes, w.Div, w.Bits, w.Ref, w.RefV
+		rig.Nodes, rig.Div, rig.VPerA, rig.Bits, rig.Ref, rig.RefV = w.Nodes, w.Div, w.VPerA, w.Bits, w.Ref, w.RefV
 	}
 	return rig, nil
 }

@@ -27,6 +27,7 @@ const (
 	nodeVcell                  // the cell's output
 	nodeVhold                  // the hold capacitor of a hold trigger
 	nodeVload                  // the load side of the switch
+	nodeIload                  // the load current, through a shunt and an amplifier (robotRig.VPerA)
 )
 
 func (n robotNode) String() string {
@@ -39,6 +40,8 @@ func (n robotNode) String() string {
 		return "vhold"
 	case nodeVload:
 		return "vload"
+	case nodeIload:
+		return "iload"
 	}
 	return "none"
 }
@@ -54,9 +57,12 @@ type robotRig struct {
 	StartS float64
 
 	// The board: Nodes[k] is what ADC input k reads through a divider of ratio Div[k]
-	// (ADC-pin volts over node volts). Nodes[0] is always nodeVcap.
+	// (ADC-pin volts over node volts). Nodes[0] is always nodeVcap. An input on
+	// nodeIload reads the load current as VPerA[k] volts per ampere (shunt·gain), with
+	// Div[k] 1; VPerA may be nil when no input reads it.
 	Nodes []robotNode
 	Div   []float64
+	VPerA []float64
 	Bits  int      // converter resolution
 	Ref   wire.Ref // reference the board boots with
 	RefV  float64  // the reference's nominal volts (what the firmware believes)
@@ -120,6 +126,12 @@ func rigFromProfile(p *profile.Profile) (*robotRig, error) {
 			return nil, fmt.Errorf("profile %s: channel on ADC%d: %w", p.Name, ch.ADC, err)
 		}
 		rig.Nodes[ch.ADC], rig.Div[ch.ADC] = n, ch.Ratio()
+		if n == nodeIload {
+			if rig.VPerA == nil {
+				rig.VPerA = make([]float64, maxADC+1)
+			}
+			rig.VPerA[ch.ADC] = ch.VoltsPerAmp()
+		}
 	}
 	if rig.Nodes[0] != nodeVcap {
 		return nil, fmt.Errorf("profile %s: the board's ADC0 must read vcap (the recorder writes ADC0 as vcap_v)", p.Name)
@@ -137,6 +149,8 @@ func nodeOf(n profile.Node) (robotNode, error) {
 		return nodeVhold, nil
 	case profile.NodeVload:
 		return nodeVload, nil
+	case profile.NodeIload:
+		return nodeIload, nil
 	}
 	return nodeNone, fmt.Errorf("node %q is not one the virtual robot can read", n)
 }
@@ -186,6 +200,7 @@ type modelSource struct {
 	sp      *model.Sampler
 	c       *model.Circuit
 	nodes   []robotNode
+	vPerA   []float64    // per input: volts per ampere of an iload input (robotRig.VPerA)
 	a, b    model.Sample // the samples around the last instant asked for; a.TS <= t <= b.TS
 	started bool
 	ended   bool
@@ -206,7 +221,7 @@ func newModelSource(rig *robotRig, durationS, rateHz float64) (*modelSource, err
 	if err != nil {
 		return nil, err
 	}
-	return &modelSource{sp: sp, c: rig.Circuit, nodes: rig.Nodes, startS: rig.StartS}, nil
+	return &modelSource{sp: sp, c: rig.Circuit, nodes: rig.Nodes, vPerA: rig.VPerA, startS: rig.StartS}, nil
 }
 
 // Sample implements virtualboard.Source.
@@ -239,7 +254,7 @@ func (s *modelSource) Sample(t float64, v []float64) bool {
 	}
 	for k := range v {
 		if k < len(s.nodes) {
-			v[k] = (1-w)*s.nodeV(s.a, s.nodes[k]) + w*s.nodeV(s.b, s.nodes[k])
+			v[k] = (1-w)*s.inputV(s.a, k) + w*s.inputV(s.b, k)
 		}
 	}
 	s.timeBits.Store(math.Float64bits(t))
@@ -254,6 +269,19 @@ func (s *modelSource) Err() error { return s.sp.Err() }
 // fires so far; safe from any goroutine.
 func (s *modelSource) progress() (ts, v float64, fires int64) {
 	return math.Float64frombits(s.timeBits.Load()), math.Float64frombits(s.voltBits.Load()), s.fires.Load()
+}
+
+// inputV is what board input k sees in sample x before its divider: its node's voltage,
+// or for an iload input the load current times the shunt's and amplifier's volts per
+// ampere (a low-side shunt carries the current the load draws from the storage node).
+func (s *modelSource) inputV(x model.Sample, k int) float64 {
+	if n := s.nodes[k]; n == nodeIload {
+		if k < len(s.vPerA) {
+			return x.LoadA * s.vPerA[k]
+		}
+		return 0
+	}
+	return s.nodeV(x, s.nodes[k])
 }
 
 // nodeV is the voltage of node n in sample x. The model puts the cell straight on the
