@@ -37,3 +37,21 @@ func ExampleDerive() {
 	// leakage limit 296 µA
 	// hold time 110 ms
 }
+
+// A load-current channel: a 1 Ω shunt in the load's return and an amplifier of gain 20
+// put 20 V per ampere on the ADC pin; a 5 V reference then reaches 250 mA.
+func ExampleChannel_VoltsPerAmp() {
+	text := profile.Template("voltage") + "\n[[channel]]\nnode = \"iload\"\nadc = 2\nshunt_ohm = 1\namp_gain = 20\n"
+	p, err := profile.Parse("wren.toml", []byte(text))
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	ch := p.Channels[2]
+	f := profile.Derive(p).Channels[2]
+	fmt.Println(ch.Node, ch.VoltsPerAmp(), "V/A, ratio", ch.Ratio(), "load", ch.LoadOhm())
+	fmt.Println("full scale", units.Format(f.FullScaleA, units.Ampere), "step", units.Format(f.LSBA, units.Ampere))
+	// Output:
+	// iload 20 V/A, ratio 1 load +Inf
+	// full scale 250 mA step 244 µA
+}

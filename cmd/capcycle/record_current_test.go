@@ -147,3 +147,52 @@ func TestRecordVirtualCurrentThenAnalyze(t *testing.T) {
 		t.Errorf("capacitance %s mF from %d fires; want 4.7 mF within 3 %% from at least 5 fires\n%s", m[1], n, sum)
 	}
 }
+
+// TestProfileCheckCurrentChannel: "profile check" shows a load-current channel's shunt,
+// full-scale current and current per count instead of a divider.
+func TestProfileCheckCurrentChannel(t *testing.T) {
+	code, out, errs := runCmd(t, "profile", "check", wrenCurrentProfile(t))
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	// 5 V / 20 V/A = 250 mA; / 1024 counts = 244 µA; 2.7 V / (18 + 0.4 + 1) Ω = 139 mA.
+	for _, want := range []string{"channel 1: iload", "shunt 1.00 Ω × gain 20", "full scale 250 mA", "244 µA per count", "peak load current 139 mA"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("no %q in:\n%s", want, out)
+		}
+	}
+}
+
+// TestRigCurrentInput: the virtual robot wires an iload channel as an input that reads
+// the model's load current at 20 V/A, with no divider.
+func TestRigCurrentInput(t *testing.T) {
+	p, err := profile.Load(wrenCurrentProfile(t))
+	if err != nil {
+		t.Fatal(err)
+	}
+	rig, err := rigFromProfile(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rig.Nodes) != 2 || rig.Nodes[1] != nodeIload || rig.Div[1] != 1 || len(rig.VPerA) != 2 || rig.VPerA[1] != 20 {
+		t.Fatalf("nodes %v div %v volts per amp %v; want [vcap iload], [0.5 1], [0 20]", rig.Nodes, rig.Div, rig.VPerA)
+	}
+	src, err := newModelSource(rig, 30, 500)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Over 30 s of the lamp the motor fires; the input follows LoadA·20 V/A, and is 0 V
+	// while the switch is off.
+	var peak float64
+	v := make([]float64, 2)
+	for i := 0; i < 30*500; i++ {
+		if !src.Sample(float64(i)/500, v) {
+			break
+		}
+		peak = max(peak, v[1])
+	}
+	// Wren's stall current at 2.7 V through 18.4 Ω is 147 mA: a little under 2.94 V.
+	if peak < 2.8 || peak > 2.94 {
+		t.Errorf("highest current-input voltage %.3f V; want 2.8 to 2.94 V (up to 147 mA at 20 V/A)", peak)
+	}
+}
