@@ -347,7 +347,17 @@ func (b *builder) load() {
 		}
 		return
 	}
-	m, se := combine(taus, sds)
+	m, se := combineScale(taus, sds)
+	// The joint fit of all the pulses gives the value; its standard error is the larger
+	// of its own and that of the pulses' scatter (a motor's pulses differ from light to
+	// light, which no shared time constant describes).
+	swings := make(map[int]bool, n)
+	for _, c := range b.full() {
+		swings[c.Swing] = true
+	}
+	if jt, jse, ok := jointTau(&b.a.col.pool, swings, m); ok {
+		m, se = jt, math.Max(jse, se)
+	}
 	lf.TauS = est(m, se, "fitted")
 	lf.RMSResidV = ptr(median(rms))
 	// Not a resistor when the residuals of the exponential are systematic: far fewer
@@ -940,6 +950,24 @@ func (b *builder) note(s string) { b.res.Notes = append(b.res.Notes, s) }
 // combine is the inverse-variance weighted mean of xs (SDs sds), its SE widened by the
 // Birge ratio sqrt(chi2/(n-1)) when the values scatter more than their SEs say. Values
 // without a usable SD are averaged plainly, with the SE from their spread.
+// combineScale combines positive estimates of a scale (a time constant) whose standard
+// errors grow in proportion to them, as a fit's do: in logarithms, each weighted by its
+// relative error. Weighting the values themselves by 1/sd² would favour the pulses whose
+// noise happened to make the estimate small (their sd is small with it) and so bias the
+// mean low.
+func combineScale(xs, sds []float64) (mean, se float64) {
+	ls, lsds := make([]float64, len(xs)), make([]float64, len(xs))
+	for k, x := range xs {
+		if !(x > 0) {
+			return combine(xs, sds)
+		}
+		ls[k], lsds[k] = math.Log(x), sds[k]/x
+	}
+	m, s := combine(ls, lsds)
+	mean = math.Exp(m)
+	return mean, mean * s
+}
+
 func combine(xs, sds []float64) (mean, se float64) {
 	var sw, swx float64
 	ok := true

@@ -19,6 +19,7 @@ type collector struct {
 	vs    []float64
 	falls int
 
+	pool      pulsePool  // the samples of fitted pulses, for the joint fit of the load
 	chg       *chargeLog // the load current, when the capture has one
 	riseSlope float64    // the end slope of the last rise, and its swing index
 	riseIdx   int
@@ -114,6 +115,9 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 			c.ts, c.vs = c.ts[lo:hi], c.vs[lo:hi]
 		}
 		inf.exp = fitExp(c.ts, c.vs, noise)
+		if inf.exp.ok && pts[s.ResetIndex].T-pts[s.OnsetIndex].T < slowFallS {
+			c.pool.add(i, c.ts, c.vs, &inf.exp, noise)
+		}
 		inf.fallV = s.AmplitudeV()
 		inf.earlyV, inf.earlySlope, inf.lateV, inf.lateSlope = localSlopes(c.ts, c.vs)
 		c.keepDecay(i, s, pts)
