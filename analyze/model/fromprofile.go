@@ -39,7 +39,8 @@ const (
 // (zero, infinite), and the photocurrent and saturation current are solved from the rated
 // Isc and Voc so that the model reproduces both exactly (or, with saturation_a given, from
 // Isc alone). The storage leakage is leak_v/leak_a when measured, otherwise none; the
-// probe is the divider on the vcap channel. A voltage trigger with hold release becomes
+// probe is the divider on the vcap channel, and a current-sense shunt (an iload channel)
+// adds to the switch's on-resistance. A voltage trigger with hold release becomes
 // TriggerHold with the supervisor's threshold at on_v - diode_v on the hold capacitor and
 // its release hysteresis_v below that. A motor whose back-EMF constant or inertia is not
 // known is simulated as its armature resistance. ESR is not modelled.
@@ -74,10 +75,15 @@ func FromProfile(p *profile.Profile) (*Circuit, Light, error) {
 		}
 	}
 	for _, ch := range p.Channels {
-		if ch.Node == profile.NodeVcap {
+		switch ch.Node {
+		case profile.NodeVcap:
 			if r := ch.LoadOhm(); !math.IsInf(r, 0) && r > 0 {
 				c.ProbeOhm = r
 			}
+		case profile.NodeIload:
+			// The current-sense shunt is in the load's return: in series with the
+			// switch, so it counts with its on-resistance.
+			c.Switch.OnOhm += ch.ShuntOhm
 		}
 	}
 	c.Trigger = triggerFromProfile(&p.Trigger, &p.Cell)

@@ -87,3 +87,26 @@ func TestScenarioStories(t *testing.T) {
 	}
 	t.Logf("fern: peak %.3f V", peak)
 }
+
+// A current-sense shunt in the load's return (an iload channel) is in series with the
+// switch: the model adds it to the on-resistance, and the probe stays the vcap divider.
+func TestFromProfileShunt(t *testing.T) {
+	base, err := profile.Load("../../testdata/profiles/wren.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	plain, _, err := FromProfile(base)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p := *base
+	p.Channels = append(append([]profile.Channel(nil), base.Channels...), profile.Channel{Node: profile.NodeIload, ADC: 3, ShuntOhm: 1.5, AmpGain: 10})
+	c, _, err := FromProfile(&p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if d := c.Switch.OnOhm - plain.Switch.OnOhm; d != 1.5 || c.ProbeOhm != plain.ProbeOhm {
+		t.Errorf("on-resistance %g Ω (was %g Ω), probe %g Ω (was %g Ω); want the 1.5 Ω shunt added to the switch only",
+			c.Switch.OnOhm, plain.Switch.OnOhm, c.ProbeOhm, plain.ProbeOhm)
+	}
+}
