@@ -20,24 +20,7 @@ import (
 // capture file: the storage node's voltage at ngspice's own (non-uniform) time points.
 func ngspiceTrace(t *testing.T, netlist string) string {
 	t.Helper()
-	bin, err := exec.LookPath("ngspice")
-	if err != nil {
-		t.Skip("ngspice not installed: the cross-check against it is skipped")
-	}
-	dir := t.TempDir()
-	out := filepath.Join(dir, "out.txt")
-	cir := filepath.Join(dir, "c.cir")
-	netlist = strings.ReplaceAll(netlist, "OUT", out)
-	if err := os.WriteFile(cir, []byte(netlist), 0o644); err != nil {
-		t.Fatal(err)
-	}
-	if b, err := exec.Command(bin, "-b", cir).CombinedOutput(); err != nil {
-		t.Fatalf("ngspice: %v\n%s", err, b)
-	}
-	in, err := os.Open(out)
-	if err != nil {
-		t.Fatal(err)
-	}
+	dir, in := runNgspice(t, netlist)
 	defer in.Close()
 	csvPath := filepath.Join(dir, "trace.csv")
 	f, err := os.Create(csvPath)
@@ -57,6 +40,31 @@ func ngspiceTrace(t *testing.T, netlist string) string {
 	w.Flush()
 	f.Close()
 	return csvPath
+}
+
+// runNgspice runs the netlist in ngspice's batch mode, its "OUT" replaced by the output
+// file's path, and returns the run's temporary directory and that file, open. It skips the
+// test when ngspice is not installed.
+func runNgspice(t *testing.T, netlist string) (dir string, out *os.File) {
+	t.Helper()
+	bin, err := exec.LookPath("ngspice")
+	if err != nil {
+		t.Skip("ngspice not installed: the cross-check against it is skipped")
+	}
+	dir = t.TempDir()
+	outPath := filepath.Join(dir, "out.txt")
+	cir := filepath.Join(dir, "c.cir")
+	if err := os.WriteFile(cir, []byte(strings.ReplaceAll(netlist, "OUT", outPath)), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if b, err := exec.Command(bin, "-b", cir).CombinedOutput(); err != nil {
+		t.Fatalf("ngspice: %v\n%s", err, b)
+	}
+	out, err = os.Open(outPath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return dir, out
 }
 
 func analyseFile(t *testing.T, path string, opts *Options) *Result {
@@ -171,23 +179,7 @@ quit
 `
 
 func TestNgspiceCapacitanceFromCurrent(t *testing.T) {
-	bin, err := exec.LookPath("ngspice")
-	if err != nil {
-		t.Skip("ngspice not installed: the cross-check against it is skipped")
-	}
-	dir := t.TempDir()
-	out := filepath.Join(dir, "out.txt")
-	cir := filepath.Join(dir, "c.cir")
-	if err := os.WriteFile(cir, []byte(strings.ReplaceAll(ngspiceCurrent, "OUT", out)), 0o644); err != nil {
-		t.Fatal(err)
-	}
-	if b, err := exec.Command(bin, "-b", cir).CombinedOutput(); err != nil {
-		t.Fatalf("ngspice: %v\n%s", err, b)
-	}
-	in, err := os.Open(out)
-	if err != nil {
-		t.Fatal(err)
-	}
+	dir, in := runNgspice(t, ngspiceCurrent)
 	ts, cols, err := spicetest.ReadColumns(in, 2)
 	in.Close()
 	if err != nil || len(ts) < 1000 {

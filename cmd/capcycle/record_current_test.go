@@ -6,8 +6,6 @@ import (
 	"io"
 	"os"
 	"path/filepath"
-	"regexp"
-	"strconv"
 	"strings"
 	"testing"
 	"time"
@@ -136,15 +134,10 @@ func TestRecordVirtualCurrentThenAnalyze(t *testing.T) {
 	if code != 0 {
 		t.Fatalf("analyze: exit %d: %s", code, errs)
 	}
-	m := regexp.MustCompile(`capacitance: ([0-9.]+) mF ± [0-9.]+ [µm]?F \(measured from the load current at (\d+) fires\)`).FindStringSubmatch(sum)
-	if m == nil {
-		t.Fatalf("no capacitance measured from the load current in the summary:\n%s", sum)
-	}
-	c, _ := strconv.ParseFloat(m[1], 64)
-	n, _ := strconv.Atoi(m[2])
-	t.Logf("capacitance %s mF from %d fires", m[1], n)
+	c, n := measuredCapacitance(t, sum)
+	t.Logf("capacitance %g mF from %d fires", c, n)
 	if n < 5 || c < 4.7*0.97 || c > 4.7*1.03 {
-		t.Errorf("capacitance %s mF from %d fires; want 4.7 mF within 3 %% from at least 5 fires\n%s", m[1], n, sum)
+		t.Errorf("capacitance %g mF from %d fires; want 4.7 mF within 3 %% from at least 5 fires\n%s", c, n, sum)
 	}
 }
 
