@@ -8,33 +8,16 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
-	"sync"
 	"testing"
 	"time"
+
+	"capcycle/logger/loggertest"
 )
-
-// syncBuffer is a bytes.Buffer safe for the recorder's goroutine and the test's.
-type syncBuffer struct {
-	mu sync.Mutex
-	b  bytes.Buffer
-}
-
-func (s *syncBuffer) Write(p []byte) (int, error) {
-	s.mu.Lock()
-	defer s.mu.Unlock()
-	return s.b.Write(p)
-}
-
-func (s *syncBuffer) String() string {
-	s.mu.Lock()
-	defer s.mu.Unlock()
-	return s.b.String()
-}
 
 // recording runs Record in the background; wait for conditions on its status line.
 type recording struct {
 	t      *testing.T
-	status *syncBuffer
+	status *loggertest.Buffer
 	cancel context.CancelFunc
 	done   chan struct{}
 	sum    *Summary
@@ -45,7 +28,7 @@ type recording struct {
 func startRecording(t *testing.T, cfg *Config) *recording {
 	t.Helper()
 	ctx, cancel := context.WithCancel(context.Background())
-	r := &recording{t: t, status: &syncBuffer{}, cancel: cancel, done: make(chan struct{}), cfg: cfg}
+	r := &recording{t: t, status: &loggertest.Buffer{}, cancel: cancel, done: make(chan struct{}), cfg: cfg}
 	cfg.Status, cfg.Terminal = r.status, true
 	if cfg.Out == "" {
 		cfg.Out = filepath.Join(t.TempDir(), "out.csv")

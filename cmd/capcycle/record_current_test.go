@@ -12,6 +12,7 @@ import (
 
 	"capcycle/analyze/profile"
 	"capcycle/logger"
+	"capcycle/logger/loggertest"
 )
 
 // wrenCurrentProfile is wren.toml under a steady lamp (300 W/m²) with its vcell input
@@ -79,7 +80,7 @@ func TestRecordVirtualCurrentThenAnalyze(t *testing.T) {
 	ctx, cancel := context.WithTimeout(context.Background(), time.Minute)
 	defer cancel()
 	stdoutR, stdoutW := io.Pipe()
-	robotErr := &syncBuffer{}
+	robotErr := &loggertest.Buffer{}
 	// 36 s of the lamp, as fast as the host reads; 500 Hz bursts at the fires (a pulse
 	// lasts about 0.1 s), 11 bits after oversampling, which the board allows at 500 Hz
 	// with two channels.
@@ -100,7 +101,7 @@ func TestRecordVirtualCurrentThenAnalyze(t *testing.T) {
 	out := filepath.Join(t.TempDir(), "wren-current.csv")
 	recCtx, stopRec := context.WithCancel(ctx)
 	defer stopRec()
-	recErr := &syncBuffer{}
+	recErr := &loggertest.Buffer{}
 	recCode := make(chan int, 1)
 	go func() {
 		recCode <- run(recCtx, []string{"record", "--port", port, "--profile", prof, "--out", out, "--quiet"},

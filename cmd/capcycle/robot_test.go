@@ -11,7 +11,6 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
-	"sync"
 	"testing"
 	"time"
 
@@ -20,25 +19,8 @@ import (
 	"capcycle/firmware-protocol/wire"
 	"capcycle/logger"
 	"capcycle/logger/capture"
+	"capcycle/logger/loggertest"
 )
-
-// syncBuffer is a bytes.Buffer safe for one writer and one reader goroutine.
-type syncBuffer struct {
-	mu sync.Mutex
-	b  bytes.Buffer
-}
-
-func (s *syncBuffer) Write(p []byte) (int, error) {
-	s.mu.Lock()
-	defer s.mu.Unlock()
-	return s.b.Write(p)
-}
-
-func (s *syncBuffer) String() string {
-	s.mu.Lock()
-	defer s.mu.Unlock()
-	return s.b.String()
-}
 
 // TestModelSourceFollowsModel: the source gives the model's own samples at the model's
 // sample instants, interpolates between them, reads vcell as the storage node and ends
@@ -133,7 +115,7 @@ func TestBoardConfigNoise(t *testing.T) {
 func TestRobotOverPTY(t *testing.T) {
 	prof := filepath.Join("..", "..", "testdata", "profiles", "wren.toml")
 	stdoutR, stdoutW := io.Pipe()
-	stderr := &syncBuffer{}
+	stderr := &loggertest.Buffer{}
 	ctx, cancel := context.WithTimeout(context.Background(), time.Minute)
 	defer cancel()
 	// Three minutes of noon, as fast as the host reads.
