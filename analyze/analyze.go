@@ -7,6 +7,7 @@ import (
 	"math"
 	"strconv"
 
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect"
 	"capcycle/logger/capture"
 )
@@ -19,7 +20,7 @@ import (
 //
 // Bad input is returned as the reader's *capture.ParseError (file, line, column), with
 // nothing analysed. opts may be nil.
-func Run(r *capture.Reader, opts *Options) (*Result, error) {
+func Run(r *capture.Reader, opts *Options) (*analysis.Result, error) {
 	if opts == nil {
 		opts = &Options{}
 	}
@@ -109,13 +110,13 @@ type batch struct {
 // RunSamples analyses samples already in memory (t increasing), as Run does for a file,
 // except that it does not call opts.Post (it has no error to return): a caller that wants
 // the later stages calls the hook on the Result itself.
-func RunSamples(t, v []float64, opts *Options) *Result {
+func RunSamples(t, v []float64, opts *Options) *analysis.Result {
 	return RunSamplesCurrent(t, v, nil, opts)
 }
 
 // RunSamplesCurrent is RunSamples with the load current iload (amperes, one per sample;
 // nil for none), from which the capacitance is measured at every fire (see pulseCap).
-func RunSamplesCurrent(t, v, iload []float64, opts *Options) *Result {
+func RunSamplesCurrent(t, v, iload []float64, opts *Options) *analysis.Result {
 	if opts == nil {
 		opts = &Options{}
 	}
@@ -124,8 +125,8 @@ func RunSamplesCurrent(t, v, iload []float64, opts *Options) *Result {
 	return a.finish(nil)
 }
 
-// analysis is the state of one run.
-type analysis struct {
+// session is the state of one run.
+type session struct {
 	opts *Options
 	det  *detect.Detector
 	env  *detect.Envelope
@@ -133,11 +134,11 @@ type analysis struct {
 	cal  calWindow
 	chg  *chargeLog // nil without a current channel
 
-	stepOrigin string
+	stepOrigin analysis.StepOrigin
 }
 
-func newAnalysis(opts *Options) *analysis {
-	a := &analysis{opts: opts, env: detect.NewEnvelope(4000)}
+func newAnalysis(opts *Options) *session {
+	a := &session{opts: opts, env: detect.NewEnvelope(4000)}
 	a.col = newCollector(opts)
 	a.det = detect.New(&detect.Config{
 		NoiseV:     opts.NoiseV,
@@ -149,7 +150,7 @@ func newAnalysis(opts *Options) *analysis {
 	a.col.det = a.det
 	if opts.StepV > 0 {
 		a.det.SetStepV(opts.StepV)
-		a.stepOrigin = "declared"
+		a.stepOrigin = analysis.StepDeclared
 	}
 	if opts.CalResistorOhm > 0 && opts.CalEndS > opts.CalStartS {
 		a.cal = newCalWindow(opts.CalStartS, opts.CalEndS)
@@ -160,7 +161,7 @@ func newAnalysis(opts *Options) *analysis {
 // push hands samples to the detector and the other accumulators; i is the load current
 // (nil without a current channel). The charge log goes first: the detector's callbacks
 // look the samples up in it.
-func (a *analysis) push(t, v, i []float64) {
+func (a *session) push(t, v, i []float64) {
 	if i != nil {
 		if a.chg == nil {
 			a.chg = newChargeLog()
@@ -179,13 +180,13 @@ func (a *analysis) push(t, v, i []float64) {
 // voltage column, unless Options.StepV gives it: v = counts / 2^bits * ref_v / divider *
 // scale, then the calibration gain, so one count is ref_v / 2^bits / divider * scale *
 // gain (logger/capture/FORMAT.md).
-func (a *analysis) useMeta(meta []capture.Field) {
+func (a *session) useMeta(meta []capture.Field) {
 	if a.opts.StepV > 0 {
 		return
 	}
 	if lsb := metaStep(meta); lsb > 0 {
 		a.det.SetStepV(lsb)
-		a.stepOrigin = "metadata"
+		a.stepOrigin = analysis.StepMetadata
 	}
 }
 

@@ -4,12 +4,13 @@ import (
 	"math"
 	"testing"
 
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect/detecttest"
 )
 
 var wrenRC = detecttest.Circuit{C: 4.7e-3, RLeakOhm: 1e6, RLoadOhm: 20, OnV: 2.8, OffV: 1.6, V0: 1.0}
 
-func within(t *testing.T, what string, e *Estimate, want, rel float64) {
+func within(t *testing.T, what string, e *analysis.Estimate, want, rel float64) {
 	t.Helper()
 	if e == nil {
 		t.Errorf("%s: null, want %.4g", what, want)

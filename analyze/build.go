@@ -5,21 +5,22 @@ import (
 	"math"
 	"sort"
 
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect"
 	"capcycle/logger/capture"
 )
 
 // finish closes the stream and assembles the Result. r may be nil (samples in memory).
-func (a *analysis) finish(r *capture.Reader) *Result {
+func (a *session) finish(r *capture.Reader) *analysis.Result {
 	sum := a.det.Finish()
-	res := &Result{
-		Schema:    Schema,
+	res := &analysis.Result{
+		Schema:    analysis.Schema,
 		Samples:   sum.Samples,
 		DurationS: sum.EndS - sum.StartS,
-		Cycles:    []Cycle{},
-		Segments:  []Segment{},
-		Findings:  []Finding{},
-		Fit:       Fit{Trigger: TriggerFit{Kind: sum.Trigger}},
+		Cycles:    []analysis.Cycle{},
+		Segments:  []analysis.Segment{},
+		Findings:  []analysis.Finding{},
+		Fit:       analysis.Fit{Trigger: analysis.TriggerFit{Kind: analysis.TriggerKind(sum.Trigger)}},
 	}
 	if sum.Samples == 0 {
 		res.DurationS = 0
@@ -45,9 +46,9 @@ func (a *analysis) finish(r *capture.Reader) *Result {
 }
 
 type builder struct {
-	a    *analysis
+	a    *session
 	sum  *detect.Summary
-	res  *Result
+	res  *analysis.Result
 	opts *Options
 	info []swingInfo
 
@@ -91,22 +92,22 @@ func (b *builder) noise() {
 	if b.sum.Samples < 3 {
 		return
 	}
-	b.res.Noise = &Noise{RMSV: b.sum.NoiseV, StepV: b.sum.StepV}
+	b.res.Noise = &analysis.Noise{RMSV: b.sum.NoiseV, StepV: b.sum.StepV}
 	switch {
 	case b.sum.StepV == 0:
 	case b.a.stepOrigin != "":
 		b.res.Noise.StepOrigin = b.a.stepOrigin
 	default:
-		b.res.Noise.StepOrigin = "estimated"
+		b.res.Noise.StepOrigin = analysis.StepEstimated
 	}
 }
 
 func (b *builder) cycles() {
 	for k, c := range b.sum.Cycles {
-		cy := Cycle{Index: k, FireS: c.FireS, FireV: c.FireV, ResetS: c.ResetS, ResetV: c.ResetV,
-			PulseS: c.PulseS(), Kind: "full"}
+		cy := analysis.Cycle{Index: k, FireS: c.FireS, FireV: c.FireV, ResetS: c.ResetS, ResetV: c.ResetV,
+			PulseS: c.PulseS(), Kind: analysis.CycleFull}
 		if c.Chatter {
-			cy.Kind = "chatter"
+			cy.Kind = analysis.CycleChatter
 		}
 		if !math.IsNaN(c.ChargeS) {
 			cy.ChargeS = ptr(c.ChargeS)
@@ -128,7 +129,7 @@ func (b *builder) segments(r *capture.Reader) {
 		segs = detect.Carve(segs, ev)
 	}
 	for _, s := range segs {
-		b.res.Segments = append(b.res.Segments, Segment{Kind: s.Kind, StartS: s.StartS, EndS: s.EndS, StartV: s.StartV, EndV: s.EndV})
+		b.res.Segments = append(b.res.Segments, analysis.Segment{Kind: analysis.SegmentKind(s.Kind), StartS: s.StartS, EndS: s.EndS, StartV: s.StartV, EndV: s.EndV})
 		if s.Kind == detect.KindGap {
 			b.res.Source.GapsS += s.EndS - s.StartS
 		}
@@ -173,15 +174,15 @@ func (b *builder) trigger() {
 			per = append(per, c.FireS-cs[k-1].FireS)
 		}
 	}
-	tf.OnV = spread(fv, "measured")
-	tf.OffV = spread(rv, "measured")
-	tf.PulseS = spread(pul, "measured")
+	tf.OnV = spread(fv, analysis.OriginMeasured)
+	tf.OffV = spread(rv, analysis.OriginMeasured)
+	tf.PulseS = spread(pul, analysis.OriginMeasured)
 	if len(per) > 0 {
-		tf.PeriodS = spread(per, "measured")
+		tf.PeriodS = spread(per, analysis.OriginMeasured)
 	}
 	if len(fv) >= 5 && (ft[len(ft)-1]-ft[0]) > 0 {
 		if l := fitLine(ft, fv); l.ok {
-			tf.OnDriftVPerH = est(l.b, l.bSD, "fitted")
+			tf.OnDriftVPerH = est(l.b, l.bSD, analysis.OriginFitted)
 		}
 	}
 }
@@ -211,8 +212,8 @@ func (b *builder) leakTau() {
 	}
 	if len(taus) > 0 {
 		m, se := combine(taus, sds)
-		lf.TauS = est(m, se, "fitted")
-		lf.Method = "dark-decay"
+		lf.TauS = est(m, se, analysis.OriginFitted)
+		lf.Method = analysis.LeakDarkDecay
 		b.tauLeak = m
 		dm, dse := combine(drifts, dsds)
 		b.drift = dm
@@ -230,8 +231,8 @@ func (b *builder) leakTau() {
 	}
 	if len(taus) > 0 {
 		m, se := combine(taus, sds)
-		lf.TauS = est(m, se, "fitted")
-		lf.Method = "plateau"
+		lf.TauS = est(m, se, analysis.OriginFitted)
+		lf.Method = analysis.LeakPlateau
 		b.tauLeak = m
 	}
 }
@@ -259,7 +260,7 @@ func (b *builder) capacitance() {
 			if g > 0 {
 				c := 1 / (g * o.CalResistorOhm)
 				b.capF = c
-				b.res.Capacitance = &Capacity{F: *est(c, c*e.tauSD/e.tau, "measured"), Method: "calibration-resistor"}
+				b.res.Capacitance = &analysis.Capacity{F: *est(c, c*e.tauSD/e.tau, analysis.OriginMeasured), Method: analysis.CapCalibrationRes}
 				return
 			}
 		}
@@ -278,7 +279,7 @@ func (b *builder) capacitance() {
 			c := median(cs)
 			sd := 1.2533 * sdOfSlice(cs) / math.Sqrt(float64(len(cs)))
 			b.capF = c
-			b.res.Capacitance = &Capacity{F: *est(c, sd, "measured"), Method: "current-channel", Pulses: len(cs)}
+			b.res.Capacitance = &analysis.Capacity{F: *est(c, sd, analysis.OriginMeasured), Method: analysis.CapCurrentChannel, Pulses: len(cs)}
 			return
 		}
 		b.note(fmt.Sprintf("the load-current column gave a capacitance on %d of %d fires, fewer than the 3 needed", len(cs), len(full)))
@@ -287,9 +288,9 @@ func (b *builder) capacitance() {
 		b.capF = o.CapF
 		origin := o.CapOrigin
 		if origin == "" {
-			origin = "declared"
+			origin = analysis.OriginDeclared
 		}
-		b.res.Capacitance = &Capacity{F: Estimate{Value: o.CapF, Origin: origin}, Tol: o.CapTol}
+		b.res.Capacitance = &analysis.Capacity{F: analysis.Estimate{Value: o.CapF, Origin: origin}, Tol: o.CapTol}
 	}
 }
 
@@ -358,7 +359,7 @@ func (b *builder) load() {
 	if jt, jse, ok := jointTau(&b.a.col.pool, swings, m); ok {
 		m, se = jt, math.Max(jse, se)
 	}
-	lf.TauS = est(m, se, "fitted")
+	lf.TauS = est(m, se, analysis.OriginFitted)
 	lf.RMSResidV = ptr(median(rms))
 	// Not a resistor when the residuals of the exponential are systematic: far fewer
 	// sign runs than chance gives, pooled over all fitted pulses (z below -4), and
@@ -374,7 +375,7 @@ func (b *builder) load() {
 		// R_pulse = tau/C is the load in parallel with the slow drains; take those out.
 		r := m / b.capF
 		rsd := se / b.capF
-		if b.tauLeak > 0 && b.res.Fit.Leak.Method == "dark-decay" {
+		if b.tauLeak > 0 && b.res.Fit.Leak.Method == analysis.LeakDarkDecay {
 			rl := b.tauLeak / b.capF
 			if rl > r {
 				r2 := 1 / (1/r - 1/rl)
@@ -382,10 +383,10 @@ func (b *builder) load() {
 				r = r2
 			}
 		}
-		lf.Ohm = est(r, rsd, "fitted")
+		lf.Ohm = est(r, rsd, analysis.OriginFitted)
 		if len(early) > 0 {
-			lf.StartOhm = spread(early, "measured")
-			lf.EndOhm = spread(late, "measured")
+			lf.StartOhm = spread(early, analysis.OriginMeasured)
+			lf.EndOhm = spread(late, analysis.OriginMeasured)
 		}
 	}
 }
@@ -398,7 +399,7 @@ func (b *builder) leak() {
 		return
 	}
 	if b.opts.ProbeOhm > 0 {
-		lf.ProbeOhm = &Estimate{Value: b.opts.ProbeOhm, Origin: "declared"}
+		lf.ProbeOhm = &analysis.Estimate{Value: b.opts.ProbeOhm, Origin: analysis.OriginDeclared}
 	}
 	b.leakPlot()
 	if b.capF <= 0 {
@@ -411,14 +412,14 @@ func (b *builder) leak() {
 			b.note("the probe divider alone explains the decay: no further leakage resistance is seen")
 		} else {
 			r := 1 / (1/rt - 1/b.opts.ProbeOhm)
-			lf.Ohm = est(r, rtsd*(r/rt)*(r/rt), "fitted")
+			lf.Ohm = est(r, rtsd*(r/rt)*(r/rt), analysis.OriginFitted)
 		}
 	} else {
-		lf.Ohm = est(rt, rtsd, "fitted")
+		lf.Ohm = est(rt, rtsd, analysis.OriginFitted)
 	}
-	if lf.Method == "dark-decay" && !math.IsNaN(b.drift) {
+	if lf.Method == analysis.LeakDarkDecay && !math.IsNaN(b.drift) {
 		if b.drift >= 0 {
-			lf.QuiescentA = est(b.drift*b.capF, b.leakDriftSD*b.capF, "fitted")
+			lf.QuiescentA = est(b.drift*b.capF, b.leakDriftSD*b.capF, analysis.OriginFitted)
 		} else {
 			b.note("the decays level off above zero: some light or charge was still arriving, so the quiescent current is not determined")
 		}
@@ -442,8 +443,8 @@ func (b *builder) leakPlot() {
 	}
 	e := b.info[best.index].exp
 	s := &b.sum.Swings[best.index]
-	tr := &Trace{Label: "decay", TS: []float64{}, V: []float64{}}
-	md := &Trace{Label: "fit", TS: []float64{}, V: []float64{}}
+	tr := &analysis.Trace{Label: "decay", TS: []float64{}, V: []float64{}}
+	md := &analysis.Trace{Label: "fit", TS: []float64{}, V: []float64{}}
 	// Only the fitted stretch (see darkPart): before it the light was still fading, after
 	// it the capacitor sat at its floor.
 	for _, p := range compact(best.pts, 400) {
@@ -478,8 +479,8 @@ func (b *builder) equilibrium() {
 	if on := b.res.Fit.Trigger.OnV; on != nil && e.vinf >= on.Value {
 		return // it is heading for the trigger, not settling
 	}
-	b.res.EquilibriumV = est(e.vinf, e.vinfSD, "fitted")
-	st := &Settling{TauS: est(e.tau, e.tauSD, "fitted")}
+	b.res.EquilibriumV = est(e.vinf, e.vinfSD, analysis.OriginFitted)
+	st := &analysis.Settling{TauS: est(e.tau, e.tauSD, analysis.OriginFitted)}
 	if d := math.Abs(e.v0 - e.vinf); d > 0 && e.vinf != 0 {
 		w := e.tau * math.Log(d/(0.01*math.Abs(e.vinf)))
 		st.Within1PctS = ptr(math.Max(w, 0))
@@ -498,7 +499,7 @@ func (b *builder) cell() {
 	drains := func(v float64) float64 {
 		d := 0.0
 		switch {
-		case b.tauLeak > 0 && b.res.Fit.Leak.Method == "dark-decay":
+		case b.tauLeak > 0 && b.res.Fit.Leak.Method == analysis.LeakDarkDecay:
 			d += v / b.tauLeak
 			if !math.IsNaN(b.drift) && b.drift > 0 {
 				d += b.drift
@@ -567,28 +568,28 @@ func (b *builder) cell() {
 		if d.ok {
 			// Isc = Iph Rsh/(Rs + Rsh) minus a diode current that is nil at 0 V for any
 			// real cell: its SE is taken as the photocurrent's.
-			cf.IscA = est(d.isc, d.sd.Iph, "fitted")
-			cf.VocV = est(d.voc, math.NaN(), "fitted")
+			cf.IscA = est(d.isc, d.sd.Iph, analysis.OriginFitted)
+			cf.VocV = est(d.voc, math.NaN(), analysis.OriginFitted)
 			cf.MppV, cf.MppW = ptr(d.vmp), ptr(d.pmp)
 			if d.partial {
 				// The solver stopped short: take Isc, Voc and the maximum power point from
 				// the traced points themselves (see ivEnds).
 				isc, voc, vmp, pmp := ivEnds(w.v, w.i)
-				cf.IscA = est(isc, math.NaN(), "measured")
-				cf.VocV = est(voc, math.NaN(), "measured")
+				cf.IscA = est(isc, math.NaN(), analysis.OriginMeasured)
+				cf.VocV = est(voc, math.NaN(), analysis.OriginMeasured)
 				cf.MppV, cf.MppW = ptr(vmp), ptr(pmp)
 				ln = lineIsc(w.v, w.i) // the light levels: the stopped solver's cell is no guide
 				b.note("the cell looks near-ideal (series resistance near 0, shunt near infinite): Isc, Voc and the maximum power point come from the traced curve; Rs, Rsh, I0 and n are not determined")
 			} else {
-				cf.I0A = est(d.p.I0, d.sd.I0, "fitted")
-				cf.N = est(d.p.N, d.sd.N, "fitted")
-				cf.RsOhm = est(d.p.Rs, d.sd.Rs, "fitted")
-				cf.RshOhm = est(d.p.Rsh, d.sd.Rsh, "fitted")
+				cf.I0A = est(d.p.I0, d.sd.I0, analysis.OriginFitted)
+				cf.N = est(d.p.N, d.sd.N, analysis.OriginFitted)
+				cf.RsOhm = est(d.p.Rs, d.sd.Rs, analysis.OriginFitted)
+				cf.RshOhm = est(d.p.Rsh, d.sd.Rsh, analysis.OriginFitted)
 			}
 		} else {
 			ln = lineIsc(w.v, w.i)
 			if ln.ok && b.capF > 0 {
-				cf.IscA = est(ln.isc, ln.iscSD, "fitted")
+				cf.IscA = est(ln.isc, ln.iscSD, analysis.OriginFitted)
 			}
 			b.note(ln.note(b.capF > 0))
 		}
@@ -646,7 +647,7 @@ func (b *builder) cell() {
 			continue
 		}
 		n := float64(j - k)
-		pt := LightPt{TS: t / n}
+		pt := analysis.LightPt{TS: t / n}
 		if top > 0 {
 			pt.Level = l / nl / top
 		}
@@ -836,7 +837,7 @@ func (b *builder) firesPerHour(t0, t1 float64) float64 {
 
 func (b *builder) envelope() {
 	for _, bin := range b.a.env.Bins() {
-		b.res.Envelope = append(b.res.Envelope, EnvelopePt{TS: (bin.StartS + bin.EndS) / 2, MinV: bin.MinV, MaxV: bin.MaxV})
+		b.res.Envelope = append(b.res.Envelope, analysis.EnvelopePt{TS: (bin.StartS + bin.EndS) / 2, MinV: bin.MinV, MaxV: bin.MaxV})
 	}
 }
 
@@ -887,7 +888,7 @@ func (b *builder) traces() {
 		if k > 1 {
 			c = pick[j*(len(pick)-1)/(k-1)]
 		}
-		tr := Trace{Label: "cycle", TS: []float64{}, V: []float64{}}
+		tr := analysis.Trace{Label: "cycle", TS: []float64{}, V: []float64{}}
 		for idx := c.Swing - 3; idx <= c.Swing+1; idx++ {
 			if idx < 0 || idx >= len(b.info) {
 				continue
@@ -910,7 +911,7 @@ func (b *builder) traces() {
 
 func (b *builder) declared() {
 	o := b.opts
-	d := &Declared{CapTol: o.CapTol}
+	d := &analysis.Declared{CapTol: o.CapTol}
 	any := false
 	set := func(dst **float64, v float64) {
 		if v != 0 {
@@ -934,10 +935,10 @@ func (b *builder) declared() {
 func (b *builder) identifiability() {
 	if b.capF <= 0 {
 		b.note("the capacitance is not known: only time constants (tau_s) and currents over C (V/s) are determined; resistances, currents and energies are null")
-	} else if b.res.Capacitance != nil && b.res.Capacitance.F.Origin != "measured" {
-		b.note("resistances, currents and energies use the " + b.res.Capacitance.F.Origin + " capacitance, not a measured one")
+	} else if b.res.Capacitance != nil && b.res.Capacitance.F.Origin != analysis.OriginMeasured {
+		b.note("resistances, currents and energies use the " + string(b.res.Capacitance.F.Origin) + " capacitance, not a measured one")
 	}
-	if b.res.Fit.Leak.Method == "plateau" {
+	if b.res.Fit.Leak.Method == analysis.LeakPlateau {
 		b.note("no dark decay: the leak time constant is that of the approach to the plateau, which includes the cell's own slope")
 	}
 	if len(b.res.Cycles) == 0 && b.sum.Samples > 0 {
@@ -1000,12 +1001,12 @@ func combine(xs, sds []float64) (mean, se float64) {
 }
 
 // spread is the mean of xs with the SD across them, and the 95 % interval of the mean.
-func spread(xs []float64, origin string) *Estimate {
+func spread(xs []float64, origin analysis.Origin) *analysis.Estimate {
 	if len(xs) == 0 {
 		return nil
 	}
 	m := meanOf(xs)
-	e := &Estimate{Value: m, Origin: origin}
+	e := &analysis.Estimate{Value: m, Origin: origin}
 	if len(xs) > 1 {
 		s := sdOfSlice(xs)
 		e.SD = ptr(s)
@@ -1017,11 +1018,11 @@ func spread(xs []float64, origin string) *Estimate {
 
 // est makes an Estimate; an SD that is NaN or negative is left null. The 95 % interval
 // is value ± 1.96 SD.
-func est(v, sd float64, origin string) *Estimate {
+func est(v, sd float64, origin analysis.Origin) *analysis.Estimate {
 	if math.IsNaN(v) || math.IsInf(v, 0) {
 		return nil
 	}
-	e := &Estimate{Value: v, Origin: origin}
+	e := &analysis.Estimate{Value: v, Origin: origin}
 	if sd >= 0 && !math.IsInf(sd, 0) {
 		e.SD = ptr(sd)
 		e.Lo95, e.Hi95 = ptr(v-1.96*sd), ptr(v+1.96*sd)
@@ -1029,7 +1030,7 @@ func est(v, sd float64, origin string) *Estimate {
 	return e
 }
 
-func sdOf(e *Estimate) float64 {
+func sdOf(e *analysis.Estimate) float64 {
 	if e == nil || e.SD == nil {
 		return math.NaN()
 	}

@@ -5,6 +5,7 @@ import (
 	"math/rand/v2"
 	"testing"
 
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect/detecttest"
 	"capcycle/analyze/model"
 )
@@ -38,7 +39,7 @@ func TestCapacitanceFromCurrent(t *testing.T) {
 			is := loadCurrent(ts, vs, tr, wrenRC.RLoadOhm, 0.4e-3, 0.3e-3, a.Seed)
 			res := RunSamplesCurrent(ts, vs, is, &Options{CapF: 1.3 * wrenRC.C})
 			c := res.Capacitance
-			if c == nil || c.Method != "current-channel" || c.F.Origin != "measured" {
+			if c == nil || c.Method != "current-channel" || c.F.Origin != analysis.OriginMeasured {
 				t.Fatalf("I=%g %+v: capacitance %+v, want measured from the current channel", ia, a, c)
 			}
 			within(t, "C", &c.F, wrenRC.C, 0.02)

@@ -4,6 +4,7 @@ import (
 	"math"
 	"testing"
 
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect/detecttest"
 )
 
@@ -65,7 +66,7 @@ func TestCapacitanceFromCalibration(t *testing.T) {
 		vs = append(vs, v2[i])
 	}
 	res := RunSamples(ts, vs, &Options{CalResistorOhm: 10e3, CalStartS: 100.2, CalEndS: 219})
-	if res.Capacitance == nil || res.Capacitance.F.Origin != "measured" {
+	if res.Capacitance == nil || res.Capacitance.F.Origin != analysis.OriginMeasured {
 		t.Fatalf("capacitance %+v, notes %v", res.Capacitance, res.Notes)
 	}
 	within(t, "measured C", &res.Capacitance.F, c.C, 0.02)

@@ -10,6 +10,7 @@ import (
 	"strings"
 	"testing"
 
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect/detecttest"
 	"capcycle/internal/spicetest"
 	"capcycle/logger/capture"
@@ -67,7 +68,7 @@ func runNgspice(t *testing.T, netlist string) (dir string, out *os.File) {
 	return dir, out
 }
 
-func analyseFile(t *testing.T, path string, opts *Options) *Result {
+func analyseFile(t *testing.T, path string, opts *Options) *analysis.Result {
 	t.Helper()
 	f, err := os.Open(path)
 	if err != nil {

@@ -1,5 +1,7 @@
 package analyze
 
+import "capcycle/analyze/analysis"
+
 // Options are what the analysis knows besides the capture: values from the bench profile,
 // overridden by command-line flags (the command line does that merge; this package takes
 // plain numbers). The zero value means "not known" throughout; nil Options are allowed.
@@ -13,7 +15,7 @@ type Options struct {
 	// constants and currents over C (in V/s) are reported. CapOrigin says where it came
 	// from ("declared" for the profile, "flag" for the command line); default "declared".
 	CapF      float64
-	CapOrigin string
+	CapOrigin analysis.Origin
 	// CapTol is the capacitance's tolerance code (IEC 60062 letter), for the report.
 	CapTol string
 	// ProbeOhm is the resistance the probe divider puts across the capacitor; its share
@@ -57,7 +59,7 @@ type Options struct {
 	// Post, when set, is called with the finished Result before Run returns: the hook
 	// for later stages (findings, prediction) that fill Result.Findings and
 	// Result.Prediction. An error from it is returned by Run.
-	Post func(*Result) error
+	Post func(*analysis.Result) error
 }
 
 func (o *Options) capKnown() bool { return o.CapF > 0 }

@@ -5,7 +5,7 @@ import (
 	"math"
 	"sort"
 
-	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/eseries"
 	"capcycle/analyze/model"
 	"capcycle/analyze/predict"
@@ -16,7 +16,7 @@ import (
 // Input is what Diagnose looks at. Only Result is required; without a profile the findings
 // that compare with declared parts, and the predicted effects of changes, are left out.
 type Input struct {
-	Result  *analyze.Result
+	Result  *analysis.Result
 	Profile *profile.Profile // the declared parts; nil when there is no profile
 	Nominal *model.Circuit   // the profile's circuit; nil without a profile
 	Fitted  *model.Circuit   // the nominal circuit with the fitted parts in place (predict.Fitted)
@@ -25,7 +25,7 @@ type Input struct {
 }
 
 // Diagnose returns the findings for an analysis, most severe first.
-func Diagnose(in *Input) []analyze.Finding {
+func Diagnose(in *Input) []analysis.Finding {
 	d := &diag{in: in, r: in.Result}
 	d.c = in.Fitted
 	if d.c == nil {
@@ -52,16 +52,16 @@ func Diagnose(in *Input) []analyze.Finding {
 	d.nominal()
 	sort.SliceStable(d.out, func(i, j int) bool { return rank(d.out[i].Severity) > rank(d.out[j].Severity) })
 	if d.out == nil {
-		d.out = []analyze.Finding{}
+		d.out = []analysis.Finding{}
 	}
 	return d.out
 }
 
-func rank(sev string) int {
+func rank(sev analysis.Severity) int {
 	switch sev {
-	case "fault":
+	case analysis.Fault:
 		return 2
-	case "warn":
+	case analysis.Warn:
 		return 1
 	}
 	return 0
@@ -69,25 +69,25 @@ func rank(sev string) int {
 
 type diag struct {
 	in  *Input
-	r   *analyze.Result
+	r   *analysis.Result
 	c   *model.Circuit // the best circuit we have: fitted, else nominal
 	g   float64        // measured light, W/m² (0: unknown)
-	out []analyze.Finding
+	out []analysis.Finding
 }
 
-func (d *diag) add(code, sev, msg, sugg string, nums map[string]float64) {
+func (d *diag) add(code string, sev analysis.Severity, msg, sugg string, nums map[string]float64) {
 	for k, v := range nums {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
 			delete(nums, k) // JSON has no NaN; a missing number is absent
 		}
 	}
-	d.out = append(d.out, analyze.Finding{Code: code, Severity: sev, Message: msg, Suggestion: sugg, Numbers: nums})
+	d.out = append(d.out, analysis.Finding{Code: code, Severity: sev, Message: msg, Suggestion: sugg, Numbers: nums})
 }
 
 func (d *diag) chatterCycles() int {
 	n := 0
 	for _, c := range d.r.Cycles {
-		if c.Kind == "chatter" {
+		if c.Kind == analysis.CycleChatter {
 			n++
 		}
 	}
@@ -97,7 +97,7 @@ func (d *diag) chatterCycles() int {
 func (d *diag) fullCycles() int {
 	n := 0
 	for _, c := range d.r.Cycles {
-		if c.Kind == "full" {
+		if c.Kind == analysis.CycleFull {
 			n++
 		}
 	}

@@ -6,6 +6,7 @@ import (
 	"sort"
 	"strings"
 
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/model"
 	"capcycle/analyze/predict"
 	"capcycle/analyze/profile"
@@ -32,14 +33,14 @@ func (d *diag) capture() {
 	if satS > 0 {
 		maxV := d.maxV()
 		msg := fmt.Sprintf("The ADC sat at full scale for %s in all; the voltage above %s was not seen.", fmtS(satS), fmtV(maxV))
-		d.add(CodeClipping, "warn", msg,
+		d.add(CodeClipping, analysis.Warn, msg,
 			"Raise the probe divider's ratio so the highest voltage (the capacitor's rated voltage) reads at about 90 % of the ADC's full scale; never let the ADC pin exceed its reference.",
 			map[string]float64{"saturated_s": satS, "max_seen_v": maxV})
 	}
 	if gapS > 0 {
-		sev := "info"
+		sev := analysis.Info
 		if r.DurationS > 0 && gapS/r.DurationS > 0.05 {
-			sev = "warn"
+			sev = analysis.Warn
 		}
 		d.add(CodeGaps, sev,
 			fmt.Sprintf("The capture has %d gap(s) with no samples, %s in all (%.1f %% of it); cycles across a gap are left out.", nGaps, fmtS(gapS), 100*gapS/math.Max(r.DurationS, 1e-9)),
@@ -48,7 +49,7 @@ func (d *diag) capture() {
 	}
 	if r.Source.Lost > 0 {
 		share := float64(r.Source.Lost) / math.Max(float64(r.Samples+r.Source.Lost), 1)
-		d.add(CodeLost, "warn",
+		d.add(CodeLost, analysis.Warn,
 			fmt.Sprintf("The recorder counted %d lost samples (%.2f %% of them): the link or the host did not keep up.", r.Source.Lost, 100*share),
 			"Lower the burst rate or the number of channels, or use a faster baud rate; close other programs that use the port.",
 			map[string]float64{"lost_samples": float64(r.Source.Lost), "share": share})
@@ -59,7 +60,7 @@ func (d *diag) capture() {
 		// as q/√12 RMS, and a little noise dithers between two codes): shorter leads and
 		// more filtering would not help, so only noise above one step counts.
 		if need > 0 && r.Noise.RMSV > need/5 && r.Noise.RMSV > r.Noise.StepV {
-			d.add(CodeNoisy, "warn",
+			d.add(CodeNoisy, analysis.Warn,
 				fmt.Sprintf("The noise (%s RMS) is large beside the smallest step the analysis needs (%s): fires, resets and slopes are uncertain.", fmtV(r.Noise.RMSV), fmtV(need)),
 				"Keep the probe leads short and twisted with their ground, add 100 nF from the ADC pin to ground, and let the board average more conversions (a lower slow rate).",
 				map[string]float64{"noise_rms_v": r.Noise.RMSV, "needed_step_v": need, "adc_step_v": r.Noise.StepV})
@@ -72,7 +73,7 @@ func (d *diag) capture() {
 func (d *diag) neededStepV() float64 {
 	var sw []float64
 	for _, c := range d.r.Cycles {
-		if c.Kind == "full" {
+		if c.Kind == analysis.CycleFull {
 			sw = append(sw, c.FireV-c.ResetV)
 		}
 	}
@@ -106,7 +107,7 @@ func (d *diag) notFiring() {
 	on, _ := d.onV()
 	maxV := d.maxV()
 	if !math.IsNaN(on) && maxV > on*1.02 {
-		d.add(CodeNoDump, "fault",
+		d.add(CodeNoDump, analysis.Fault,
 			fmt.Sprintf("The voltage rose to %s, past the %s trigger, and nothing discharged it: the switching path, not the energy, is at fault.", fmtV(maxV), fmtV(on)),
 			"Check the trigger's output, the transistor's base or gate drive and its orientation, and the motor's connection; measure the supervisor's output while the capacitor is above the trigger. Discharge the capacitor through a resistor before you touch the circuit.",
 			map[string]float64{"max_v": maxV, "on_v": on})
@@ -123,7 +124,7 @@ func (d *diag) notFiring() {
 		veq = eq.Value
 	case !math.IsNaN(on) && maxV > 0 && maxV < on:
 		if d.risingAtEnd() {
-			d.add(CodeStillCharging, "info",
+			d.add(CodeStillCharging, analysis.Info,
 				fmt.Sprintf("The voltage was still rising when the capture ended, at %s after %s, below the %s trigger: too short to tell whether it fires or settles.", fmtV(maxV), fmtS(d.r.DurationS), fmtV(on)),
 				"Record longer, until it fires or the voltage levels off.",
 				map[string]float64{"max_v": maxV, "on_v": on, "duration_s": d.r.DurationS})
@@ -231,7 +232,7 @@ func (d *diag) notFiring() {
 		}
 		sugg = "Any one of these would make it fire (model): " + strings.Join(opts, "; ") + "."
 	}
-	d.add(CodeNeverFires, "fault", msg, sugg, nums)
+	d.add(CodeNeverFires, analysis.Fault, msg, sugg, nums)
 }
 
 // risingAtEnd reports whether the highest voltage of the envelope lies in its last 5 % and
@@ -257,7 +258,7 @@ func (d *diag) cycling() {
 	var n int
 	var per, pulse, energy []float64
 	for _, c := range d.r.Cycles {
-		if c.Kind != "full" {
+		if c.Kind != analysis.CycleFull {
 			continue
 		}
 		n++
@@ -281,7 +282,7 @@ func (d *diag) cycling() {
 		nums["median_energy_j"] = median(energy)
 		msg += fmt.Sprintf(" of %s each", units.Format(median(energy), "J"))
 	}
-	d.add(CodeCycling, "info", msg+".", "", nums)
+	d.add(CodeCycling, analysis.Info, msg+".", "", nums)
 }
 
 // chatter flags cycles whose swing is tiny and works out the hold capacitance that would
@@ -332,7 +333,7 @@ func (d *diag) chatter() {
 			sugg += fmt.Sprintf(" The model predicts a %s swing every %s with it.", fmtV(f.FireV-f.ResetV), fmtS(f.PeriodS))
 		}
 	}
-	d.add(CodeChatter, "warn", msg, sugg, nums)
+	d.add(CodeChatter, analysis.Warn, msg, sugg, nums)
 }
 
 // loadTau is the pulse's time constant: fitted from the full pulses, else the circuit's
@@ -352,7 +353,7 @@ func (d *diag) loadTau() (float64, string) {
 func (d *diag) pulse() {
 	var energy, reset []float64
 	for _, c := range d.r.Cycles {
-		if c.Kind != "full" {
+		if c.Kind != analysis.CycleFull {
 			continue
 		}
 		if c.EnergyJ != nil {
@@ -381,7 +382,7 @@ func (d *diag) pulse() {
 			}
 			sugg += "; check its rated voltage is above the trigger voltage."
 		}
-		d.add(CodeWeakPulse, "warn",
+		d.add(CodeWeakPulse, analysis.Warn,
 			fmt.Sprintf("Each pulse delivers %s, less than the %s the load needs to start.", units.Format(e, "J"), units.Format(need, "J")),
 			sugg, nums)
 	}
@@ -390,7 +391,7 @@ func (d *diag) pulse() {
 		got := median(reset)
 		swing := on - off
 		if swing > 0 && got-off > 0.25*swing {
-			d.add(CodeEarlyRelease, "warn",
+			d.add(CodeEarlyRelease, analysis.Warn,
 				fmt.Sprintf("The trigger releases at %s (median), well above the declared %s: each pulse uses only %.0f %% of the intended swing.", fmtV(got), fmtV(off), 100*(on-got)/swing),
 				"For a hold-capacitor trigger, a larger hold capacitor or a supervisor with less quiescent current keeps it on longer; check the hold diode's polarity and leakage.",
 				map[string]float64{"reset_v": got, "declared_off_v": off, "swing_used": (on - got) / swing})
@@ -410,7 +411,7 @@ func (d *diag) drains() {
 		limit := der.LeakLimitA
 		atRated := p.Storage.RatedV / r.Fit.Leak.Ohm.Value
 		if limit > 0 && atRated > limit {
-			d.add(CodeLeakyCap, "warn",
+			d.add(CodeLeakyCap, analysis.Warn,
 				fmt.Sprintf("The capacitor leaks %s at its %s rating (from the fitted %s), above the datasheet limit of %s (%s).",
 					units.Format(atRated, "A"), fmtV(p.Storage.RatedV), units.Format(r.Fit.Leak.Ohm.Value, "Ω"), units.Format(limit, "A"), der.LeakLimitRule),
 				"Electrolytics leak more when new, hot or long unused; leave it charged for a day and measure again, or replace it with a low-leakage part. Never reverse an electrolytic's polarity.",
@@ -433,7 +434,7 @@ func (d *diag) drains() {
 		msg := fmt.Sprintf("The probe divider (%s) draws %s at %s, %.0f %% of the node's drain.", units.Format(c.ProbeOhm, "Ω"), units.Format(probe, "A"), fmtV(v), 100*probe/total)
 		sugg := "Use a divider of higher resistance (with 100 nF across the lower resistor so the ADC still sees a low source impedance), or switch the divider off between readings."
 		// How much it matters: the period (or the equilibrium) with ten times the resistance.
-		sev := "warn"
+		sev := analysis.Warn
 		base, ok1 := steadyWith(c, d.g, func(*model.Circuit) {})
 		f, ok2 := steadyWith(c, d.g, func(cc *model.Circuit) { cc.ProbeOhm *= 10 })
 		switch {
@@ -441,7 +442,7 @@ func (d *diag) drains() {
 			change := 1 - f.PeriodS/base.PeriodS
 			nums["period_now_s"], nums["period_probe_x10_s"], nums["period_change"] = base.PeriodS, f.PeriodS, change
 			if change < 0.05 {
-				sev = "info"
+				sev = analysis.Info
 				msg += fmt.Sprintf(" At this light it shortens the period by only %.1f %% (model), so the measurement hardly changes the circuit.", 100*change)
 			} else {
 				msg += " The measurement changes the circuit."
@@ -456,7 +457,7 @@ func (d *diag) drains() {
 			shift := f.EquilibriumV - base.EquilibriumV
 			nums["equilibrium_v"], nums["equilibrium_probe_x10_v"] = base.EquilibriumV, f.EquilibriumV
 			if shift < 0.01*base.EquilibriumV {
-				sev = "info"
+				sev = analysis.Info
 				msg += fmt.Sprintf(" It lowers the settling voltage by only %s (model), so it is not why the circuit stalls.", fmtV(shift))
 			} else {
 				msg += fmt.Sprintf(" It holds the settling voltage %s lower (model).", fmtV(shift))
@@ -481,7 +482,7 @@ func (d *diag) nominal() {
 		tol := p.Storage.Tolerance
 		lo, hi := tol.MinusPct/100, tol.PlusPct/100
 		if diff < -lo || diff > hi {
-			d.add(CodeCapOffNominal, "warn",
+			d.add(CodeCapOffNominal, analysis.Warn,
 				fmt.Sprintf("The capacitance measures %s, %+.0f %% from the declared %s: outside tolerance code %s.",
 					units.Format(got, "F"), 100*diff, units.Format(p.Storage.CapF, "F"), tol.String()),
 				"Electrolytics lose capacitance with age and heat; replace it, or declare the measured value so predictions use it.",
@@ -496,7 +497,7 @@ func (d *diag) nominal() {
 		// The true fire voltage lies between the reading less the band and the reading plus
 		// the rise and the band; it is off nominal only when all of that is outside.
 		if e.Value-band > hi || e.Value+rise+band < lo {
-			d.add(CodeTrigOffNominal, "warn",
+			d.add(CodeTrigOffNominal, analysis.Warn,
 				fmt.Sprintf("The circuit fires at %s, %+.1f %% from the declared %s: outside the part's stated ±%.1f %% (the reading is good to about %s).", fmtV(e.Value), 100*diff, fmtV(p.Trigger.OnV), p.Trigger.AccuracyPct, fmtV(rise+band)),
 				"Check the supervisor's part and the hold diode's drop (the node must rise one diode drop above the threshold); declare the measured value for predictions.",
 				map[string]float64{"measured_on_v": e.Value, "declared_on_v": p.Trigger.OnV, "diff": diff, "accuracy_pct": p.Trigger.AccuracyPct,
@@ -520,7 +521,7 @@ func (d *diag) fireReading() (band, rise float64) {
 	}
 	var slopes []float64
 	for _, c := range r.Cycles {
-		if c.Kind == "full" && c.ChargeS != nil && *c.ChargeS > 0 && c.FireV > c.ResetV {
+		if c.Kind == analysis.CycleFull && c.ChargeS != nil && *c.ChargeS > 0 && c.FireV > c.ResetV {
 			slopes = append(slopes, (c.FireV-c.ResetV) / *c.ChargeS)
 		}
 	}

@@ -5,7 +5,7 @@ import (
 	"fmt"
 	"math"
 
-	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/model"
 )
 
@@ -25,7 +25,7 @@ const defaultIdeality = 1.5
 // Without a known capacitance only time constants and currents over C are identifiable;
 // the circuit then has C = 1 F and every resistance and current scaled to it, which
 // predicts times and voltages correctly but not energies. normalised reports that case.
-func FromResult(r *analyze.Result) (c *model.Circuit, normalised bool, err error) {
+func FromResult(r *analysis.Result) (c *model.Circuit, normalised bool, err error) {
 	capF := 0.0
 	if r.Capacitance != nil && r.Capacitance.F.Value > 0 {
 		capF = r.Capacitance.F.Value
@@ -47,7 +47,7 @@ func FromResult(r *analyze.Result) (c *model.Circuit, normalised bool, err error
 	default:
 		return nil, false, fmt.Errorf("%w: no trigger voltages (fitted or declared)", ErrUnderdetermined)
 	}
-	ohm := func(e *analyze.Estimate, tau *analyze.Estimate) float64 {
+	ohm := func(e *analysis.Estimate, tau *analysis.Estimate) float64 {
 		if e != nil && e.Value > 0 && !normalised {
 			return e.Value
 		}

@@ -1,10 +1,9 @@
 package report
 
 import (
+	"capcycle/analyze/analysis"
 	"fmt"
 	"math"
-
-	"capcycle/analyze"
 )
 
 // tolerance is a capacitor tolerance code's band, in percent below and above nominal.
@@ -24,17 +23,17 @@ type paramRow struct {
 	name     string
 	unit     string
 	declared *float64
-	fitted   *analyze.Estimate
+	fitted   *analysis.Estimate
 	tolCode  string
 	needsC   bool // an absolute value that needs the capacitance
 }
 
-func paramRows(r *analyze.Result) []paramRow {
+func paramRows(r *analysis.Result) []paramRow {
 	d := r.Declared
 	if d == nil {
-		d = &analyze.Declared{}
+		d = &analysis.Declared{}
 	}
-	var capFit *analyze.Estimate
+	var capFit *analysis.Estimate
 	tol := d.CapTol
 	if r.Capacitance != nil {
 		c := r.Capacitance.F
@@ -64,7 +63,7 @@ func paramRows(r *analyze.Result) []paramRow {
 }
 
 // paramSection is the table of declared against fitted values.
-func paramSection(r *analyze.Result) *section {
+func paramSection(r *analysis.Result) *section {
 	s := &section{ID: "parameters", Title: "Parameters: declared and found"}
 	s.Intro = []string{"Declared values come from the profile; found values from this capture, with one standard error. The difference is (found − declared) / declared. Where the profile gives a tolerance, the found value is judged against it; elsewhere, against twice the standard error."}
 	t := &table{Class: "params", Head: []string{"quantity", "declared", "found ± s.e.", "source", "difference", "tolerance", "agreement"}}
@@ -99,7 +98,7 @@ func paramCells(p paramRow) []cell {
 		if p.fitted.Lo95 != nil && p.fitted.Hi95 != nil {
 			found.Title = "95 % interval " + quantity(*p.fitted.Lo95, p.unit) + " to " + quantity(*p.fitted.Hi95, p.unit)
 		}
-		origin = cell{Text: p.fitted.Origin}
+		origin = cell{Text: string(p.fitted.Origin)}
 	}
 	diff, tolC, agree := cell{Text: "—", Class: "num muted"}, cell{Text: "—", Class: "muted"}, cell{Text: "—", Class: "muted"}
 	if p.tolCode != "" {

@@ -16,6 +16,7 @@ import (
 	"golang.org/x/term"
 
 	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/profile"
 	"capcycle/analyze/units"
 	"capcycle/logger/capture"
@@ -379,20 +380,20 @@ func optNum(v *float64) string {
 	return num(*v)
 }
 
-func writeCyclesCSV(path string, res *analyze.Result) error {
+func writeCyclesCSV(path string, res *analysis.Result) error {
 	rows := make([]*cycleRow, 0, len(res.Cycles))
 	for _, c := range res.Cycles {
 		rows = append(rows, &cycleRow{Index: c.Index, FireS: num(c.FireS), FireV: num(c.FireV),
 			ResetS: num(c.ResetS), ResetV: num(c.ResetV), ChargeS: optNum(c.ChargeS), PulseS: num(c.PulseS),
-			EnergyJ: optNum(c.EnergyJ), Kind: c.Kind, Light: optNum(c.LightA)})
+			EnergyJ: optNum(c.EnergyJ), Kind: string(c.Kind), Light: optNum(c.LightA)})
 	}
 	return writeCSV(path, &rows)
 }
 
-func writeSegmentsCSV(path string, res *analyze.Result) error {
+func writeSegmentsCSV(path string, res *analysis.Result) error {
 	rows := make([]*segmentRow, 0, len(res.Segments))
 	for _, s := range res.Segments {
-		rows = append(rows, &segmentRow{Kind: s.Kind, StartS: num(s.StartS), EndS: num(s.EndS),
+		rows = append(rows, &segmentRow{Kind: string(s.Kind), StartS: num(s.StartS), EndS: num(s.EndS),
 			StartV: num(s.StartV), EndV: num(s.EndV)})
 	}
 	return writeCSV(path, &rows)
@@ -411,10 +412,10 @@ func writeCSV(path string, rows any) error {
 }
 
 // printSummary writes a few lines for a person.
-func printSummary(w io.Writer, res *analyze.Result) {
+func printSummary(w io.Writer, res *analysis.Result) {
 	full, chatter := 0, 0
 	for _, c := range res.Cycles {
-		if c.Kind == "chatter" {
+		if c.Kind == analysis.CycleChatter {
 			chatter++
 		} else {
 			full++
@@ -427,7 +428,7 @@ func printSummary(w io.Writer, res *analyze.Result) {
 	fmt.Fprintln(w)
 	fmt.Fprintf(w, "cycles: %d full, %d chatter\n", full, chatter)
 	if c := res.Capacitance; c != nil {
-		how := c.F.Origin
+		how := string(c.F.Origin)
 		switch c.Method {
 		case "current-channel":
 			how = fmt.Sprintf("measured from the load current at %d fires", c.Pulses)
@@ -483,7 +484,7 @@ func printSummary(w io.Writer, res *analyze.Result) {
 	}
 }
 
-func estStr(e *analyze.Estimate, unit string) string {
+func estStr(e *analysis.Estimate, unit string) string {
 	s := units.Format(e.Value, unit)
 	if e.SD != nil {
 		s += " ± " + units.Format(*e.SD, unit)

@@ -13,6 +13,7 @@ import (
 	"time"
 
 	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/profile"
 	htmlreport "capcycle/analyze/report"
 	"capcycle/cmd/capcycle/demodata"
@@ -77,7 +78,7 @@ type demoOutcome struct {
 	name     string
 	capture  string
 	bundle   htmlreport.Bundle
-	result   *analyze.Result
+	result   *analysis.Result
 	summary  *logger.Summary
 	verdict  string
 	finding  string // the first finding's message, or ""
@@ -184,7 +185,7 @@ func printOutcome(w io.Writer, out *demoOutcome, keep bool) {
 	r := out.result
 	full := 0
 	for _, c := range r.Cycles {
-		if c.Kind == "full" {
+		if c.Kind == analysis.CycleFull {
 			full++
 		}
 	}
@@ -259,7 +260,7 @@ func demoScenario(ctx context.Context, name string, o *demoOptions, capDir strin
 // analyseDemo runs the analysis and the later stages on a capture with the profile. (The
 // ADC step comes from the capture's channel line, so the night's hours at 0 V need no
 // help.)
-func analyseDemo(p *profile.Profile, rig *robotRig, ebits int, path string) (*analyze.Result, error) {
+func analyseDemo(p *profile.Profile, rig *robotRig, ebits int, path string) (*analysis.Result, error) {
 	opts := &analyze.Options{Path: path, Profile: p.Name}
 	fromProfile(opts, p)
 	opts.Post = laterStages(p, opts, path, nil)

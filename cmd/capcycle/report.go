@@ -12,6 +12,7 @@ import (
 	"strings"
 
 	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/profile"
 	htmlreport "capcycle/analyze/report"
 	"capcycle/logger/capture"
@@ -30,7 +31,7 @@ func reportCommand() *command {
 // analyseCapture runs the analysis on a capture file, with the circuit's declared values
 // from the profile when one is given (the same merge as "capcycle analyze"). It is the
 // one place the report command reaches into the analysis pipeline.
-func analyseCapture(ctx context.Context, path, profilePath string) (*analyze.Result, error) {
+func analyseCapture(ctx context.Context, path, profilePath string) (*analysis.Result, error) {
 	opts := &analyze.Options{Path: path}
 	var p *profile.Profile
 	if profilePath != "" {
@@ -88,7 +89,7 @@ func runReport(ctx context.Context, args []string, e *env) error {
 	default:
 		return usageErrorf("give one input for a report or two for a comparison, not %d", len(inputs))
 	}
-	results := make([]*analyze.Result, len(inputs))
+	results := make([]*analysis.Result, len(inputs))
 	for i, in := range inputs {
 		if *fromJSON {
 			results[i], err = readSavedAnalysis(in)
@@ -127,12 +128,12 @@ func parseInterleaved(fs *flag.FlagSet, args []string) ([]string, error) {
 }
 
 // readSavedAnalysis reads a saved analysis JSON and checks its schema.
-func readSavedAnalysis(path string) (*analyze.Result, error) {
+func readSavedAnalysis(path string) (*analysis.Result, error) {
 	raw, err := os.ReadFile(path)
 	if err != nil {
 		return nil, inputError(fmt.Errorf("report: %w", err))
 	}
-	var r analyze.Result
+	var r analysis.Result
 	dec := json.NewDecoder(bytes.NewReader(raw))
 	if err := dec.Decode(&r); err != nil {
 		var se *json.SyntaxError
@@ -142,14 +143,14 @@ func readSavedAnalysis(path string) (*analyze.Result, error) {
 		}
 		return nil, inputError(fmt.Errorf("report: %s: not an analysis JSON: %w", path, err))
 	}
-	if r.Schema != analyze.Schema {
-		return nil, inputError(fmt.Errorf("report: %s: schema is %q, want %q (is it a capcycle analysis?)", path, r.Schema, analyze.Schema))
+	if r.Schema != analysis.Schema {
+		return nil, inputError(fmt.Errorf("report: %s: schema is %q, want %q (is it a capcycle analysis?)", path, r.Schema, analysis.Schema))
 	}
 	return &r, nil
 }
 
 // writeOne writes the report bundle of one input.
-func writeOne(e *env, input string, r *analyze.Result, out string, fromJSON bool, opts *htmlreport.Options) error {
+func writeOne(e *env, input string, r *analysis.Result, out string, fromJSON bool, opts *htmlreport.Options) error {
 	dir, base, err := bundleName(input, out, fromJSON)
 	if err != nil {
 		return err
@@ -192,7 +193,7 @@ func bundleName(input, out string, fromJSON bool) (dir, base string, err error) 
 }
 
 // writeComparison writes the comparison page of two inputs.
-func writeComparison(e *env, inputs []string, rs []*analyze.Result, out string, opts *htmlreport.Options) error {
+func writeComparison(e *env, inputs []string, rs []*analysis.Result, out string, opts *htmlreport.Options) error {
 	if out == "" {
 		a := strings.TrimSuffix(filepath.Base(inputs[0]), filepath.Ext(inputs[0]))
 		b := strings.TrimSuffix(filepath.Base(inputs[1]), filepath.Ext(inputs[1]))

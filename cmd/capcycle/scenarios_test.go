@@ -15,6 +15,7 @@ import (
 	"time"
 
 	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/model"
 	"capcycle/analyze/profile"
 	"capcycle/logger/capture"
@@ -136,7 +137,7 @@ func optionsFor(p *profile.Profile) *analyze.Options {
 }
 
 // analyse runs the analysis and the later stages on the samples.
-func analyse(t *testing.T, p *profile.Profile, r *genRun) *analyze.Result {
+func analyse(t *testing.T, p *profile.Profile, r *genRun) *analysis.Result {
 	t.Helper()
 	o := optionsFor(p)
 	res := analyze.RunSamples(r.t, r.v, o)
@@ -208,7 +209,7 @@ func writeCapture(t *testing.T, p *profile.Profile, b board, r *genRun, gaps []c
 
 // analyseFile runs "capcycle analyze"'s own path: analyze.Run on the capture file, with the
 // later stages (the held-out check included, as the command does).
-func analyseFile(t *testing.T, p *profile.Profile, path string) *analyze.Result {
+func analyseFile(t *testing.T, p *profile.Profile, path string) *analysis.Result {
 	t.Helper()
 	f, err := os.Open(path)
 	if err != nil {
@@ -226,8 +227,8 @@ func analyseFile(t *testing.T, p *profile.Profile, path string) *analyze.Result 
 }
 
 // findingsOf indexes the findings by code.
-func findingsOf(res *analyze.Result) map[string]analyze.Finding {
-	m := map[string]analyze.Finding{}
+func findingsOf(res *analysis.Result) map[string]analysis.Finding {
+	m := map[string]analysis.Finding{}
 	for _, f := range res.Findings {
 		m[f.Code] = f
 	}
@@ -269,7 +270,7 @@ func variant(t *testing.T, name, text string, pairs []string, extra string) *pro
 }
 
 // logFindings writes the findings to the test log (seen with -v or on failure).
-func logFindings(t *testing.T, res *analyze.Result) {
+func logFindings(t *testing.T, res *analysis.Result) {
 	t.Helper()
 	full := 0
 	for _, c := range res.Cycles {

@@ -7,6 +7,7 @@ import (
 	"os"
 
 	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/diagnose"
 	"capcycle/analyze/model"
 	"capcycle/analyze/predict"
@@ -21,8 +22,8 @@ import (
 // Without a profile there is no declared circuit: the findings that need none are made and
 // Prediction stays null. file and setup (the column-mapping flags) let the held-out check
 // read the first half of the capture again; file "" skips it.
-func laterStages(p *profile.Profile, opts *analyze.Options, file string, setup func(*capture.Reader) error) func(*analyze.Result) error {
-	return func(res *analyze.Result) error {
+func laterStages(p *profile.Profile, opts *analyze.Options, file string, setup func(*capture.Reader) error) func(*analysis.Result) error {
+	return func(res *analysis.Result) error {
 		in := &diagnose.Input{Result: res, Profile: p}
 		if p != nil {
 			nominal, _, err := model.FromProfile(p)
@@ -53,10 +54,10 @@ func laterStages(p *profile.Profile, opts *analyze.Options, file string, setup f
 
 // heldOut fits the circuit on the first half of the capture (by size) and predicts the
 // cycles after it. It needs at least eight full cycles in each half.
-func heldOut(res *analyze.Result, nominal *model.Circuit, opts *analyze.Options, file string, setup func(*capture.Reader) error) (*analyze.ErrorSummary, error) {
+func heldOut(res *analysis.Result, nominal *model.Circuit, opts *analyze.Options, file string, setup func(*capture.Reader) error) (*analysis.ErrorSummary, error) {
 	full := 0
 	for _, c := range res.Cycles {
-		if c.Kind == "full" {
+		if c.Kind == analysis.CycleFull {
 			full++
 		}
 	}
@@ -90,7 +91,7 @@ func heldOut(res *analyze.Result, nominal *model.Circuit, opts *analyze.Options,
 	split := 0.0
 	n := 0
 	for _, c := range first.Cycles {
-		if c.Kind == "full" {
+		if c.Kind == analysis.CycleFull {
 			split = max(split, c.ResetS)
 			n++
 		}
@@ -122,7 +123,7 @@ func halfAtLine(f *os.File) (int64, error) {
 
 // traceBefore and traceAfter span the measured overlay traces, so the model's cycle is
 // drawn over the same stretch; without traces, a second before and three after the fire.
-func traceBefore(res *analyze.Result) float64 {
+func traceBefore(res *analysis.Result) float64 {
 	b := 1.0
 	for _, tr := range res.Traces {
 		if len(tr.TS) > 0 && -tr.TS[0] > 0 {
@@ -132,7 +133,7 @@ func traceBefore(res *analyze.Result) float64 {
 	return b
 }
 
-func traceAfter(res *analyze.Result) float64 {
+func traceAfter(res *analysis.Result) float64 {
 	a := 3.0
 	for _, tr := range res.Traces {
 		if n := len(tr.TS); n > 0 && tr.TS[n-1] > 0 {

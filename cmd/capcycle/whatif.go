@@ -10,7 +10,7 @@ import (
 	"strings"
 	"text/tabwriter"
 
-	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/model"
 	"capcycle/analyze/predict"
 	"capcycle/analyze/profile"
@@ -64,7 +64,7 @@ func runWhatif(ctx context.Context, args []string, e *env) error {
 	var (
 		circuit *model.Circuit
 		plight  model.Light
-		res     *analyze.Result
+		res     *analysis.Result
 		name    string
 		note    string
 	)
@@ -167,17 +167,17 @@ func runWhatif(ctx context.Context, args []string, e *env) error {
 	return nil
 }
 
-func readAnalysis(path string) (*analyze.Result, error) {
+func readAnalysis(path string) (*analysis.Result, error) {
 	data, err := os.ReadFile(path)
 	if err != nil {
 		return nil, err
 	}
-	var r analyze.Result
+	var r analysis.Result
 	if err := json.Unmarshal(data, &r); err != nil {
 		return nil, fmt.Errorf("%s: not an analysis JSON: %w", path, err)
 	}
-	if r.Schema != analyze.Schema {
-		return nil, fmt.Errorf("%s: schema %q, want %q", path, r.Schema, analyze.Schema)
+	if r.Schema != analysis.Schema {
+		return nil, fmt.Errorf("%s: schema %q, want %q", path, r.Schema, analysis.Schema)
 	}
 	return &r, nil
 }
@@ -185,7 +185,7 @@ func readAnalysis(path string) (*analyze.Result, error) {
 // pickLight chooses the irradiance and the sun hours: the flags, else what the analysis
 // measured, else the profile's light (a constant level, or the mean over the daylight hours
 // of its windowsill day).
-func pickLight(flagG, flagH float64, res *analyze.Result, c *model.Circuit, l model.Light) (g, hours float64, how string) {
+func pickLight(flagG, flagH float64, res *analysis.Result, c *model.Circuit, l model.Light) (g, hours float64, how string) {
 	g, hours = flagG, flagH
 	how = "--light"
 	if g <= 0 && res != nil {
@@ -227,7 +227,7 @@ func dayLight(l model.Light) (mean, hours float64) {
 }
 
 // litHours is the share of a day-long capture with measurable light, in hours per day.
-func litHours(res *analyze.Result) float64 {
+func litHours(res *analysis.Result) float64 {
 	if len(res.Light) < 2 {
 		return 0
 	}

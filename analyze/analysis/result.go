@@ -1,4 +1,4 @@
-package analyze
+package analysis
 
 // Schema is the value of Result.Schema for this version of the analysis JSON.
 const Schema = "capcycle.analysis/1"
@@ -72,20 +72,20 @@ type Estimate struct {
 	Lo95 *float64 `json:"lo95,omitempty"`
 	Hi95 *float64 `json:"hi95,omitempty"`
 	// Origin says where the value comes from: "fitted", "measured", "declared" or "flag".
-	Origin string `json:"origin,omitempty"`
+	Origin Origin `json:"origin,omitempty"`
 }
 
 // Cycle is one fire and the reset that follows it.
 type Cycle struct {
-	Index   int      `json:"index"`
-	FireS   float64  `json:"fire_s"`   // onset of the fast fall, seconds from capture start
-	FireV   float64  `json:"fire_v"`   // the peak before the fall, volts
-	ResetS  float64  `json:"reset_s"`  // end of the fall, charging resumes
-	ResetV  float64  `json:"reset_v"`  // the trough, volts
-	ChargeS *float64 `json:"charge_s"` // from the previous reset to this fire; null for the first cycle
-	PulseS  float64  `json:"pulse_s"`  // reset_s - fire_s
-	EnergyJ *float64 `json:"energy_j"` // ½C(fire_v² − reset_v²), null when C is unknown
-	Kind    string   `json:"kind"`     // "full" or "chatter"
+	Index   int       `json:"index"`
+	FireS   float64   `json:"fire_s"`   // onset of the fast fall, seconds from capture start
+	FireV   float64   `json:"fire_v"`   // the peak before the fall, volts
+	ResetS  float64   `json:"reset_s"`  // end of the fall, charging resumes
+	ResetV  float64   `json:"reset_v"`  // the trough, volts
+	ChargeS *float64  `json:"charge_s"` // from the previous reset to this fire; null for the first cycle
+	PulseS  float64   `json:"pulse_s"`  // reset_s - fire_s
+	EnergyJ *float64  `json:"energy_j"` // ½C(fire_v² − reset_v²), null when C is unknown
+	Kind    CycleKind `json:"kind"`     // "full" or "chatter"
 	// Isc is the cell's short-circuit current (or, without C, Isc/C in V/s) fitted from this
 	// cycle's charging segment: a light-level trace.
 	LightA *float64 `json:"light_a,omitempty"`
@@ -93,11 +93,11 @@ type Cycle struct {
 
 // Segment is a stretch of the capture of one kind.
 type Segment struct {
-	Kind   string  `json:"kind"` // "charging", "firing", "dark-decay", "plateau", "saturated", "gap"
-	StartS float64 `json:"start_s"`
-	EndS   float64 `json:"end_s"`
-	StartV float64 `json:"start_v"`
-	EndV   float64 `json:"end_v"`
+	Kind   SegmentKind `json:"kind"` // "charging", "firing", "dark-decay", "plateau", "saturated", "gap"
+	StartS float64     `json:"start_s"`
+	EndS   float64     `json:"end_s"`
+	StartV float64     `json:"start_v"`
+	EndV   float64     `json:"end_v"`
 }
 
 // Fit holds the fitted circuit.
@@ -110,9 +110,9 @@ type Fit struct {
 
 // TriggerFit is what the fires and resets say about the trigger.
 type TriggerFit struct {
-	Kind string    `json:"kind"` // "voltage", "timer", "plateau" or "unknown"
-	OnV  *Estimate `json:"on_v"`
-	OffV *Estimate `json:"off_v"`
+	Kind TriggerKind `json:"kind"` // "voltage", "timer", "plateau" or "unknown"
+	OnV  *Estimate   `json:"on_v"`
+	OffV *Estimate   `json:"off_v"`
 	// DriftVPerH is the slope of on_v over the day (volts per hour), with its SD.
 	OnDriftVPerH *Estimate `json:"on_drift_v_per_h,omitempty"`
 	PeriodS      *Estimate `json:"period_s,omitempty"` // mean interval between fires
@@ -136,8 +136,8 @@ type LeakFit struct {
 	Ohm        *Estimate `json:"ohm"`
 	QuiescentA *Estimate `json:"quiescent_a"`
 	// ProbeOhm is the probe divider's known share, subtracted from Ohm and reported apart.
-	ProbeOhm *Estimate `json:"probe_ohm,omitempty"`
-	Method   string    `json:"method,omitempty"` // "dark-decay", "plateau" or ""
+	ProbeOhm *Estimate  `json:"probe_ohm,omitempty"`
+	Method   LeakMethod `json:"method,omitempty"` // "dark-decay", "plateau" or ""
 }
 
 // CellFit holds the single-diode parameters recovered by capacitive-load I-V tracing.
@@ -167,8 +167,8 @@ type Capacity struct {
 	// Method says how a measured capacitance was found: "calibration-resistor" (a decay
 	// through a known resistor) or "current-channel" (the load's charge over the
 	// voltage it cost, at every fire); empty when declared.
-	Method string `json:"method,omitempty"`
-	Pulses int    `json:"pulses,omitempty"` // current-channel: the fires it rests on
+	Method CapMethod `json:"method,omitempty"`
+	Pulses int       `json:"pulses,omitempty"` // current-channel: the fires it rests on
 }
 
 // Noise is the sample noise and resolution seen in the capture.
@@ -178,7 +178,7 @@ type Noise struct {
 	// StepOrigin says where StepV comes from: "metadata" (the capture's channel line:
 	// reference / 2^bits / divider), "declared" (Options.StepV), "estimated" (from the
 	// samples), or "" when no step shows.
-	StepOrigin string `json:"step_origin,omitempty"`
+	StepOrigin StepOrigin `json:"step_origin,omitempty"`
 }
 
 // LightPt is one point of the light-level trace.
@@ -199,7 +199,7 @@ type EnvelopePt struct {
 // DEVELOPERS.md); Numbers carries the figures behind Message, with units in their keys.
 type Finding struct {
 	Code       string             `json:"code"`
-	Severity   string             `json:"severity"` // "info", "warn" or "fault"
+	Severity   Severity           `json:"severity"` // "info", "warn" or "fault"
 	Message    string             `json:"message"`
 	Suggestion string             `json:"suggestion,omitempty"`
 	Numbers    map[string]float64 `json:"numbers"`
