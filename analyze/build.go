@@ -72,7 +72,9 @@ func (b *builder) swing(i int) (*detect.Swing, *swingInfo) {
 func (b *builder) source(r *capture.Reader) {
 	s := &b.res.Source
 	s.Path = b.opts.Path
-	s.Profile = b.opts.Profile
+	if p := b.opts.Profile; p != nil {
+		s.Profile = p.Name
+	}
 	if r == nil {
 		return
 	}
@@ -241,7 +243,7 @@ func (b *builder) leakTau() {
 // runs through the known resistor and is no leak.
 func (b *builder) inCalibration(s *detect.Swing) bool {
 	o := b.opts
-	return b.a.cal.on && s.EndS > o.CalStartS && s.StartS < o.CalEndS
+	return b.a.cal.on && s.EndS > o.Declared.Calibration.StartS && s.StartS < o.Declared.Calibration.EndS
 }
 
 // capacitance: measured from the calibration stretch when there is one, else from the
@@ -258,7 +260,7 @@ func (b *builder) capacitance() {
 				g -= 1 / b.tauLeak
 			}
 			if g > 0 {
-				c := 1 / (g * o.CalResistorOhm)
+				c := 1 / (g * o.Declared.Calibration.ResistorOhm)
 				b.capF = c
 				b.res.Capacitance = &analysis.Capacity{F: *est(c, c*e.tauSD/e.tau, analysis.OriginMeasured), Method: analysis.CapCalibrationRes}
 				return
@@ -285,12 +287,12 @@ func (b *builder) capacitance() {
 		b.note(fmt.Sprintf("the load-current column gave a capacitance on %d of %d fires, fewer than the 3 needed", len(cs), len(full)))
 	}
 	if o.capKnown() {
-		b.capF = o.CapF
-		origin := o.CapOrigin
+		b.capF = o.Declared.CapF
+		origin := o.Declared.CapOrigin
 		if origin == "" {
 			origin = analysis.OriginDeclared
 		}
-		b.res.Capacitance = &analysis.Capacity{F: analysis.Estimate{Value: o.CapF, Origin: origin}, Tol: o.CapTol}
+		b.res.Capacitance = &analysis.Capacity{F: analysis.Estimate{Value: o.Declared.CapF, Origin: origin}, Tol: o.Declared.CapTol}
 	}
 }
 
@@ -398,8 +400,8 @@ func (b *builder) leak() {
 	if lf.TauS == nil {
 		return
 	}
-	if b.opts.ProbeOhm > 0 {
-		lf.ProbeOhm = &analysis.Estimate{Value: b.opts.ProbeOhm, Origin: analysis.OriginDeclared}
+	if b.opts.Declared.ProbeOhm > 0 {
+		lf.ProbeOhm = &analysis.Estimate{Value: b.opts.Declared.ProbeOhm, Origin: analysis.OriginDeclared}
 	}
 	b.leakPlot()
 	if b.capF <= 0 {
@@ -407,11 +409,11 @@ func (b *builder) leak() {
 	}
 	rt := lf.TauS.Value / b.capF
 	rtsd := sdOf(lf.TauS) / b.capF
-	if b.opts.ProbeOhm > 0 {
-		if rt >= b.opts.ProbeOhm*0.999 {
+	if b.opts.Declared.ProbeOhm > 0 {
+		if rt >= b.opts.Declared.ProbeOhm*0.999 {
 			b.note("the probe divider alone explains the decay: no further leakage resistance is seen")
 		} else {
-			r := 1 / (1/rt - 1/b.opts.ProbeOhm)
+			r := 1 / (1/rt - 1/b.opts.Declared.ProbeOhm)
 			lf.Ohm = est(r, rtsd*(r/rt)*(r/rt), analysis.OriginFitted)
 		}
 	} else {
@@ -504,8 +506,8 @@ func (b *builder) cell() {
 			if !math.IsNaN(b.drift) && b.drift > 0 {
 				d += b.drift
 			}
-		case b.capF > 0 && b.opts.ProbeOhm > 0:
-			d += v / (b.opts.ProbeOhm * b.capF)
+		case b.capF > 0 && b.opts.Declared.ProbeOhm > 0:
+			d += v / (b.opts.Declared.ProbeOhm * b.capF)
 		}
 		return d
 	}
@@ -558,8 +560,8 @@ func (b *builder) cell() {
 			for k := range w.v {
 				cf.IV = append(cf.IV, [2]float64{w.v[k], w.i[k]})
 			}
-			ns := max(1, b.opts.CellSeries)
-			tk := b.opts.CellTempK
+			ns := max(1, b.opts.Declared.CellSeries)
+			tk := b.opts.Declared.CellTempK
 			if tk <= 0 {
 				tk = 298.15
 			}
@@ -909,26 +911,10 @@ func (b *builder) traces() {
 	}
 }
 
+// declared keeps the declared circuit for the parameter table, when anything is declared.
 func (b *builder) declared() {
-	o := b.opts
-	d := &analysis.Declared{CapTol: o.CapTol}
-	any := false
-	set := func(dst **float64, v float64) {
-		if v != 0 {
-			*dst = ptr(v)
-			any = true
-		}
-	}
-	set(&d.CapF, o.CapF)
-	set(&d.OnV, o.OnV)
-	set(&d.OffV, o.OffV)
-	set(&d.LoadOhm, o.LoadOhm)
-	set(&d.ProbeOhm, o.ProbeOhm)
-	set(&d.QuiescentA, o.QuiescentA)
-	set(&d.VocV, o.VocV)
-	set(&d.IscA, o.IscA)
-	if any {
-		b.res.Declared = d
+	if d := b.opts.Declared; !d.IsZero() {
+		b.res.Declared = &d
 	}
 }
 

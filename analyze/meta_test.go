@@ -1,6 +1,7 @@
 package analyze
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"math/rand/v2"
@@ -57,7 +58,7 @@ func TestStepFromMetadata(t *testing.T) {
 				tc.want, tc.origin = 5.0/1024/0.5, "metadata"
 			}
 			o := tc.opts
-			res, err := Run(capture.NewReader(strings.NewReader(text), tc.name), &o)
+			res, err := Run(context.Background(), capture.NewReader(strings.NewReader(text), tc.name), &o)
 			if err != nil {
 				t.Fatal(err)
 			}

@@ -4,6 +4,7 @@ import (
 	"math"
 	"testing"
 
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect/detecttest"
 )
 
@@ -15,7 +16,7 @@ func TestTracesTypical(t *testing.T) {
 	c.V0 = 0
 	light := []detecttest.Light{{FromS: 0, IA: 0.6e-3}, {FromS: 200, IA: 0}, {FromS: 500, IA: 0.6e-3}}
 	ts, vs, _ := detecttest.Generate(c, light, 800, detecttest.Sampling{DtS: 0.02}, detecttest.ADC{NoiseV: 1e-3, Bits: 12, FullV: 5, Seed: 3})
-	res := RunSamples(ts, vs, &Options{CapF: c.C})
+	res := RunSamples(ts, vs, &Options{Declared: analysis.Declared{CapF: c.C}})
 	var charges, pulses []float64
 	for _, cy := range res.Cycles {
 		pulses = append(pulses, cy.PulseS)

@@ -222,18 +222,46 @@ type Attribution struct {
 	Within      bool    `json:"within"`
 }
 
-// Declared is the profile's view of the circuit, kept for the parameter table.
+// Declared is the circuit as declared: the bench profile's values, overridden by the
+// command line's flags. It is the one description of the declared circuit from the profile
+// through the flags to the analysis JSON (where it feeds the parameter table). A zero value
+// means "not declared" and is left out of the JSON.
 type Declared struct {
-	CapF       *float64 `json:"cap_f,omitempty"`
-	CapTol     string   `json:"cap_tolerance_code,omitempty"`
-	OnV        *float64 `json:"on_v,omitempty"`
-	OffV       *float64 `json:"off_v,omitempty"`
-	LoadOhm    *float64 `json:"load_ohm,omitempty"`
-	ProbeOhm   *float64 `json:"probe_ohm,omitempty"`
-	QuiescentA *float64 `json:"quiescent_a,omitempty"`
-	VocV       *float64 `json:"voc_v,omitempty"`
-	IscA       *float64 `json:"isc_a,omitempty"`
+	CapF   float64 `json:"cap_f,omitempty"`              // storage capacitance, F
+	CapTol string  `json:"cap_tolerance_code,omitempty"` // its tolerance letter (IEC 60062)
+	// CapOrigin says where CapF comes from: OriginDeclared (the profile, the default)
+	// or OriginFlag (the command line).
+	CapOrigin  Origin  `json:"cap_origin,omitempty"`
+	OnV        float64 `json:"on_v,omitempty"`        // trigger threshold, V
+	OffV       float64 `json:"off_v,omitempty"`       // trigger release, V
+	LoadOhm    float64 `json:"load_ohm,omitempty"`    // load resistance (a motor's armature), Ω
+	ProbeOhm   float64 `json:"probe_ohm,omitempty"`   // what the probe divider puts across the capacitor, Ω
+	QuiescentA float64 `json:"quiescent_a,omitempty"` // the trigger's quiescent current, A
+	VocV       float64 `json:"voc_v,omitempty"`       // cell open-circuit voltage at its rating, V
+	IscA       float64 `json:"isc_a,omitempty"`       // cell short-circuit current at its rating, A
+	CellSeries int     `json:"cell_series,omitempty"` // cells in series in the panel (0: 1)
+	CellTempK  float64 `json:"cell_temp_k,omitempty"` // cell temperature, K (0: 298.15 K)
+	// FullScaleV is the ADC's full scale referred to the storage node: samples there are
+	// saturated.
+	FullScaleV float64 `json:"full_scale_v,omitempty"`
+	// Calibration is a stretch during which a known resistor was across the capacitor
+	// (in the dark), which measures the capacitance; nil for none.
+	Calibration *Calibration `json:"calibration,omitempty"`
 }
+
+// Calibration describes a calibration stretch: ResistorOhm across the capacitor from
+// StartS to EndS (seconds from the capture's start).
+type Calibration struct {
+	ResistorOhm float64 `json:"resistor_ohm"`
+	StartS      float64 `json:"start_s"`
+	EndS        float64 `json:"end_s"`
+}
+
+// CapKnown reports whether the capacitance is declared.
+func (d *Declared) CapKnown() bool { return d != nil && d.CapF > 0 }
+
+// IsZero reports whether nothing is declared.
+func (d *Declared) IsZero() bool { return d == nil || *d == Declared{} }
 
 // Prediction compares measured cycles with the model's, nominal and fitted.
 type Prediction struct {

@@ -118,8 +118,8 @@ func (d *diag) onV() (float64, string) {
 	if d.in.Profile != nil && d.in.Profile.Trigger.OnV > 0 {
 		return d.in.Profile.Trigger.OnV, "declared"
 	}
-	if d.r.Declared != nil && d.r.Declared.OnV != nil {
-		return *d.r.Declared.OnV, "declared"
+	if d.r.Declared != nil && d.r.Declared.OnV != 0 {
+		return d.r.Declared.OnV, "declared"
 	}
 	return math.NaN(), ""
 }

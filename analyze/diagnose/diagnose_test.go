@@ -243,7 +243,7 @@ func TestCaptureFindings(t *testing.T) {
 		Noise:  &analysis.Noise{RMSV: 0.05, StepV: 0.005},
 	}
 	on := 3.0
-	r.Declared = &analysis.Declared{OnV: &on}
+	r.Declared = &analysis.Declared{OnV: on}
 	fs := Diagnose(&Input{Result: r})
 	for _, code := range []string{CodeClipping, CodeGaps, CodeLost, CodeNoisy} {
 		if f := find(fs, code); f == nil {

@@ -38,7 +38,7 @@ func TestFromResultPredictsTimes(t *testing.T) {
 	r.Fit.Load.TauS = e(0.1)      // R C
 	r.Fit.Leak.TauS = e(500)      // R_leak C
 	voc, isc := 4.0, 5e-3/1000e-6 // without C the analysis reports I/C in V/s
-	r.Declared = &analysis.Declared{VocV: &voc, IscA: &isc}
+	r.Declared = &analysis.Declared{VocV: voc, IscA: isc}
 	c, norm, err := FromResult(r)
 	if err != nil {
 		t.Fatal(err)

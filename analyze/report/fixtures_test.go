@@ -181,8 +181,8 @@ func wrenResult() *analysis.Result {
 	r.Segments = append(r.Segments, analysis.Segment{Kind: "dark-decay", StartS: 20.5 * 3600, EndS: 24 * 3600, StartV: 2.3, EndV: 1.9})
 	r.Noise = &analysis.Noise{RMSV: 0.0031, StepV: 0.00488}
 	r.Capacitance = &analysis.Capacity{F: analysis.Estimate{Value: 0.0298, SD: f64(0.0006), Origin: "measured"}, Tol: "M"}
-	r.Declared = &analysis.Declared{CapF: f64(0.033), CapTol: "M", OnV: f64(2.70), OffV: f64(1.55), LoadOhm: f64(15),
-		ProbeOhm: f64(1.0e6), QuiescentA: f64(1e-6), VocV: f64(5.0), IscA: f64(5e-3)}
+	r.Declared = &analysis.Declared{CapF: 0.033, CapTol: "M", OnV: 2.70, OffV: 1.55, LoadOhm: 15,
+		ProbeOhm: 1.0e6, QuiescentA: 1e-6, VocV: 5.0, IscA: 5e-3}
 	var charge, pulse []float64
 	for _, cy := range r.Cycles {
 		if cy.ChargeS != nil && *cy.ChargeS < 600 {
@@ -308,7 +308,7 @@ func fernResult() *analysis.Result {
 	r.Segments = append(r.Segments, analysis.Segment{Kind: "charging", StartS: 0, EndS: 3 * 3600, StartV: 0.4, EndV: 2.29},
 		analysis.Segment{Kind: "plateau", StartS: 3 * 3600, EndS: 12 * 3600, StartV: 2.29, EndV: 2.31})
 	r.Noise = &analysis.Noise{RMSV: 0.0028, StepV: 0.00488}
-	r.Declared = &analysis.Declared{CapF: f64(0.1), CapTol: "Z", OnV: f64(2.70), OffV: f64(1.6), VocV: f64(4.4), IscA: f64(1e-3)}
+	r.Declared = &analysis.Declared{CapF: 0.1, CapTol: "Z", OnV: 2.70, OffV: 1.6, VocV: 4.4, IscA: 1e-3}
 	r.Capacitance = &analysis.Capacity{F: analysis.Estimate{Value: 0.1, Origin: "declared"}, Tol: "Z"}
 	r.EquilibriumV = est(2.314, 0.006, "fitted")
 	r.Equilibrium = &analysis.Settling{Within1PctS: f64(2.6 * 3600), TauS: est(2050, 80, "fitted")}

@@ -44,20 +44,20 @@ func paramRows(r *analysis.Result) []paramRow {
 	}
 	f := r.Fit
 	return []paramRow{
-		{name: "storage capacitance", unit: "F", declared: d.CapF, fitted: capFit, tolCode: tol},
-		{name: "trigger on voltage", unit: "V", declared: d.OnV, fitted: f.Trigger.OnV},
-		{name: "trigger release voltage", unit: "V", declared: d.OffV, fitted: f.Trigger.OffV},
+		{name: "storage capacitance", unit: "F", declared: nonZero(d.CapF), fitted: capFit, tolCode: tol},
+		{name: "trigger on voltage", unit: "V", declared: nonZero(d.OnV), fitted: f.Trigger.OnV},
+		{name: "trigger release voltage", unit: "V", declared: nonZero(d.OffV), fitted: f.Trigger.OffV},
 		{name: "drift of the on voltage", unit: "V/h", fitted: f.Trigger.OnDriftVPerH},
 		{name: "mean period between fires", unit: "s", fitted: f.Trigger.PeriodS},
 		{name: "mean pulse width", unit: "s", fitted: f.Trigger.PulseS},
-		{name: "load resistance", unit: "Ω", declared: d.LoadOhm, fitted: f.Load.Ohm, needsC: true},
+		{name: "load resistance", unit: "Ω", declared: nonZero(d.LoadOhm), fitted: f.Load.Ohm, needsC: true},
 		{name: "load time constant", unit: "s", fitted: f.Load.TauS},
 		{name: "leakage resistance", unit: "Ω", fitted: f.Leak.Ohm, needsC: true},
 		{name: "leakage time constant", unit: "s", fitted: f.Leak.TauS},
-		{name: "quiescent current", unit: "A", declared: d.QuiescentA, fitted: f.Leak.QuiescentA, needsC: true},
-		{name: "probe divider resistance", unit: "Ω", declared: d.ProbeOhm, fitted: f.Leak.ProbeOhm},
-		{name: "cell open-circuit voltage", unit: "V", declared: d.VocV, fitted: f.Cell.VocV},
-		{name: "cell short-circuit current", unit: "A", declared: d.IscA, fitted: f.Cell.IscA, needsC: true},
+		{name: "quiescent current", unit: "A", declared: nonZero(d.QuiescentA), fitted: f.Leak.QuiescentA, needsC: true},
+		{name: "probe divider resistance", unit: "Ω", declared: nonZero(d.ProbeOhm), fitted: f.Leak.ProbeOhm},
+		{name: "cell open-circuit voltage", unit: "V", declared: nonZero(d.VocV), fitted: f.Cell.VocV},
+		{name: "cell short-circuit current", unit: "A", declared: nonZero(d.IscA), fitted: f.Cell.IscA, needsC: true},
 		{name: "settling voltage", unit: "V", fitted: r.EquilibriumV},
 	}
 }
@@ -177,4 +177,12 @@ func joinList(s []string) string {
 		}
 	}
 	return out
+}
+
+// nonZero is a pointer to v, or nil for 0 (not declared).
+func nonZero(v float64) *float64 {
+	if v == 0 {
+		return nil
+	}
+	return &v
 }

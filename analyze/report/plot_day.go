@@ -299,8 +299,8 @@ func triggerOn(r *analysis.Result) (v float64, origin string, ok bool) {
 	if e := r.Fit.Trigger.OnV; e != nil {
 		return e.Value, "fitted", true
 	}
-	if r.Declared != nil && r.Declared.OnV != nil {
-		return *r.Declared.OnV, "declared", true
+	if r.Declared != nil && r.Declared.OnV != 0 {
+		return r.Declared.OnV, "declared", true
 	}
 	return 0, "", false
 }
@@ -310,8 +310,8 @@ func triggerOff(r *analysis.Result) (v float64, origin string, ok bool) {
 	if e := r.Fit.Trigger.OffV; e != nil {
 		return e.Value, "fitted", true
 	}
-	if r.Declared != nil && r.Declared.OffV != nil {
-		return *r.Declared.OffV, "declared", true
+	if r.Declared != nil && r.Declared.OffV != 0 {
+		return r.Declared.OffV, "declared", true
 	}
 	return 0, "", false
 }

@@ -129,7 +129,7 @@ func TestVerdictNumbersMatchJSON(t *testing.T) {
 	cases["empty"] = none
 	near := *fernOnce()
 	near.EquilibriumV = est(3.9986, 0.0004, "fitted")
-	near.Declared = &analysis.Declared{OnV: f64(4.0)}
+	near.Declared = &analysis.Declared{OnV: 4.0}
 	cases["near-trigger"] = &near
 	digit := regexp.MustCompile(`[0-9]`)
 	for name, r := range cases {

@@ -128,7 +128,7 @@ func TestAnalyzeProfileAndFlagOverride(t *testing.T) {
 	if res.Capacitance == nil || res.Capacitance.F.Value != 0.1 || res.Capacitance.F.Origin != "flag" {
 		t.Errorf("capacitance %+v, want the flag's 0.1 F", res.Capacitance)
 	}
-	if res.Declared == nil || res.Declared.OnV == nil || res.Declared.ProbeOhm == nil || res.Source.Profile == "" {
+	if res.Declared == nil || res.Declared.OnV == 0 || res.Declared.ProbeOhm == 0 || res.Source.Profile == "" {
 		t.Errorf("declared %+v, profile %q: the profile's values are missing", res.Declared, res.Source.Profile)
 	}
 }

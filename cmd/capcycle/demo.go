@@ -19,7 +19,6 @@ import (
 	"capcycle/cmd/capcycle/demodata"
 	"capcycle/firmware-protocol/virtualboard"
 	"capcycle/logger"
-	"capcycle/logger/capture"
 )
 
 // demoCommand is "capcycle demo".
@@ -232,11 +231,7 @@ func demoScenario(ctx context.Context, name string, o *demoOptions, capDir strin
 	out.recordS = time.Since(t0).Seconds()
 
 	t1 := time.Now()
-	ebits := min(16, rig.Bits+demoExtraBits)
-	if emu != nil {
-		ebits = emulatedEBits
-	}
-	res, err := analyseDemo(p, rig, ebits, out.capture)
+	res, err := analyseDemo(ctx, p, out.capture)
 	if err != nil {
 		return nil, err
 	}
@@ -257,19 +252,10 @@ func demoScenario(ctx context.Context, name string, o *demoOptions, capDir strin
 	return out, nil
 }
 
-// analyseDemo runs the analysis and the later stages on a capture with the profile. (The
-// ADC step comes from the capture's channel line, so the night's hours at 0 V need no
-// help.)
-func analyseDemo(p *profile.Profile, rig *robotRig, ebits int, path string) (*analysis.Result, error) {
-	opts := &analyze.Options{Path: path, Profile: p.Name}
-	fromProfile(opts, p)
-	opts.Post = laterStages(p, opts, path, nil)
-	f, err := os.Open(path)
-	if err != nil {
-		return nil, workErrorf("%w", err)
-	}
-	defer f.Close()
-	res, err := analyze.Run(capture.NewReader(f, path), opts)
+// analyseDemo analyses a demo capture with its profile. (The ADC step comes from the
+// capture's channel line, so the night's hours at 0 V need no help.)
+func analyseDemo(ctx context.Context, p *profile.Profile, path string) (*analysis.Result, error) {
+	res, err := analyze.File(ctx, path, &analyze.Options{Profile: p, Declared: analyze.Declare(p)})
 	if err != nil {
 		return nil, workErrorf("%s: analysis: %w", p.Name, err)
 	}

@@ -13,9 +13,7 @@ import (
 
 	"capcycle/analyze"
 	"capcycle/analyze/analysis"
-	"capcycle/analyze/profile"
 	htmlreport "capcycle/analyze/report"
-	"capcycle/logger/capture"
 )
 
 // reportCommand is "capcycle report".
@@ -28,39 +26,16 @@ func reportCommand() *command {
 	}
 }
 
-// analyseCapture runs the analysis on a capture file, with the circuit's declared values
-// from the profile when one is given (the same merge as "capcycle analyze"). It is the
-// one place the report command reaches into the analysis pipeline.
+// analyseCapture analyses a capture file, with the circuit's declared values from the
+// profile when one is given (as "capcycle analyze" does).
 func analyseCapture(ctx context.Context, path, profilePath string) (*analysis.Result, error) {
-	opts := &analyze.Options{Path: path}
-	var p *profile.Profile
-	if profilePath != "" {
-		var err error
-		if p, err = profile.Load(profilePath); err != nil {
-			return nil, inputError(err)
-		}
-		fromProfile(opts, p)
-		opts.Profile = p.Name
-	}
-	// The later stages (prediction, held-out check, the model's cycle, findings): the
-	// same hook the other commands use. Without a profile it makes the findings that
-	// need no declared circuit, and the prediction stays null.
-	opts.Post = laterStages(p, opts, path, nil)
-	in, err := os.Open(path)
+	opts, err := analysisOptions(profilePath)
 	if err != nil {
-		return nil, inputError(fmt.Errorf("report: %w", err))
+		return nil, err
 	}
-	defer in.Close()
-	res, err := analyze.Run(capture.NewReader(in, path), opts)
+	res, err := analyze.File(ctx, path, opts)
 	if err != nil {
-		var pe *capture.ParseError
-		if errors.As(err, &pe) {
-			return nil, inputError(err)
-		}
-		return nil, workErrorf("report: %w", err)
-	}
-	if err := ctx.Err(); err != nil {
-		return nil, workErrorf("report: %w", err)
+		return nil, analysisError(err)
 	}
 	return res, nil
 }
