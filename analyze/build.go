@@ -7,6 +7,7 @@ import (
 
 	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect"
+	"capcycle/analyze/stats"
 	"capcycle/logger/capture"
 )
 
@@ -213,11 +214,11 @@ func (b *builder) leakTau() {
 		b.note(fmt.Sprintf("%d of %d decays sped up before they slowed (the light still fading): the leak is fitted from where the fall stopped speeding up", dusk, len(taus)))
 	}
 	if len(taus) > 0 {
-		m, se := combine(taus, sds)
+		m, se := stats.Combine(taus, sds)
 		lf.TauS = est(m, se, analysis.OriginFitted)
 		lf.Method = analysis.LeakDarkDecay
 		b.tauLeak = m
-		dm, dse := combine(drifts, dsds)
+		dm, dse := stats.Combine(drifts, dsds)
 		b.drift = dm
 		b.leakDriftSD = dse
 		return
@@ -232,7 +233,7 @@ func (b *builder) leakTau() {
 		sds = append(sds, inf.exp.tauSD)
 	}
 	if len(taus) > 0 {
-		m, se := combine(taus, sds)
+		m, se := stats.Combine(taus, sds)
 		lf.TauS = est(m, se, analysis.OriginFitted)
 		lf.Method = analysis.LeakPlateau
 		b.tauLeak = m
@@ -278,8 +279,8 @@ func (b *builder) capacitance() {
 		if len(cs) >= 3 {
 			// The median of the pulses, its SE that of a median of normal scatter
 			// (1.2533 sd/√n).
-			c := median(cs)
-			sd := 1.2533 * sdOfSlice(cs) / math.Sqrt(float64(len(cs)))
+			c := stats.Median(cs)
+			sd := 1.2533 * stats.SD(cs) / math.Sqrt(float64(len(cs)))
 			b.capF = c
 			b.res.Capacitance = &analysis.Capacity{F: *est(c, sd, analysis.OriginMeasured), Method: analysis.CapCurrentChannel, Pulses: len(cs)}
 			return
@@ -350,7 +351,7 @@ func (b *builder) load() {
 		}
 		return
 	}
-	m, se := combineScale(taus, sds)
+	m, se := stats.CombineScale(taus, sds)
 	// The joint fit of all the pulses gives the value; its standard error is the larger
 	// of its own and that of the pulses' scatter (a motor's pulses differ from light to
 	// light, which no shared time constant describes).
@@ -362,7 +363,7 @@ func (b *builder) load() {
 		m, se = jt, math.Max(jse, se)
 	}
 	lf.TauS = est(m, se, analysis.OriginFitted)
-	lf.RMSResidV = ptr(median(rms))
+	lf.RMSResidV = ptr(stats.Median(rms))
 	// Not a resistor when the residuals of the exponential are systematic: far fewer
 	// sign runs than chance gives, pooled over all fitted pulses (z below -4), and
 	// large enough to matter in most pulses (over 0.03 % of the fall; a noise-free
@@ -717,7 +718,7 @@ func lineIsc(v, i []float64) ivLine {
 	out.ok, out.isc, out.iscSD, out.slope, out.used = true, l.a, l.aSD, l.b, m
 	out.vLo, out.vHi = xs[0], xs[m-1]
 	out.iHi = i[idx[n-1]] // the traced current at the highest voltage
-	out.meanI = meanOf(i)
+	out.meanI = stats.Mean(i)
 	return out
 }
 
@@ -777,7 +778,7 @@ func ivEnds(v, i []float64) (isc, voc, vmp, pmp float64) {
 	}
 	line := func(a, b int) (slope, at0 float64) {
 		x, y := v[a:b], i[a:b]
-		mx, my := meanOf(x), meanOf(y)
+		mx, my := stats.Mean(x), stats.Mean(y)
 		var sxy, sxx float64
 		for k := range x {
 			sxy += (x[k] - mx) * (y[k] - my)
@@ -800,7 +801,7 @@ func ivEnds(v, i []float64) (isc, voc, vmp, pmp float64) {
 		}
 	}
 	if len(xs) >= 3 {
-		mx, my := meanOf(xs), meanOf(ys)
+		mx, my := stats.Mean(xs), stats.Mean(ys)
 		var sxy, sxx float64
 		for k := range xs {
 			sxy += (xs[k] - mx) * (ys[k] - my)
@@ -861,11 +862,11 @@ func (b *builder) traces() {
 			charges = append(charges, c.ChargeS)
 		}
 	}
-	medPulse := median(pulses)
+	medPulse := stats.Median(pulses)
 	pick := cs
 	before := math.Inf(1)
 	if len(charges) > 0 {
-		med := median(charges)
+		med := stats.Median(charges)
 		before = 1.5 * med
 		for _, f := range []float64{1.25, 2, math.Inf(1)} {
 			var near []detect.Cycle
@@ -934,67 +935,15 @@ func (b *builder) identifiability() {
 
 func (b *builder) note(s string) { b.res.Notes = append(b.res.Notes, s) }
 
-// combine is the inverse-variance weighted mean of xs (SDs sds), its SE widened by the
-// Birge ratio sqrt(chi2/(n-1)) when the values scatter more than their SEs say. Values
-// without a usable SD are averaged plainly, with the SE from their spread.
-// combineScale combines positive estimates of a scale (a time constant) whose standard
-// errors grow in proportion to them, as a fit's do: in logarithms, each weighted by its
-// relative error. Weighting the values themselves by 1/sd² would favour the pulses whose
-// noise happened to make the estimate small (their sd is small with it) and so bias the
-// mean low.
-func combineScale(xs, sds []float64) (mean, se float64) {
-	ls, lsds := make([]float64, len(xs)), make([]float64, len(xs))
-	for k, x := range xs {
-		if !(x > 0) {
-			return combine(xs, sds)
-		}
-		ls[k], lsds[k] = math.Log(x), sds[k]/x
-	}
-	m, s := combine(ls, lsds)
-	mean = math.Exp(m)
-	return mean, mean * s
-}
-
-func combine(xs, sds []float64) (mean, se float64) {
-	var sw, swx float64
-	ok := true
-	for k, x := range xs {
-		s := sds[k]
-		if !(s > 0) || math.IsInf(s, 0) {
-			ok = false
-			break
-		}
-		w := 1 / (s * s)
-		sw += w
-		swx += w * x
-	}
-	if !ok || sw == 0 {
-		m := meanOf(xs)
-		return m, sdOfSlice(xs) / math.Sqrt(float64(len(xs)))
-	}
-	mean = swx / sw
-	se = math.Sqrt(1 / sw)
-	if len(xs) > 1 {
-		var chi float64
-		for k, x := range xs {
-			chi += (x - mean) * (x - mean) / (sds[k] * sds[k])
-		}
-		if r := chi / float64(len(xs)-1); r > 1 {
-			se *= math.Sqrt(r)
-		}
-	}
-	return mean, se
-}
-
 // spread is the mean of xs with the SD across them, and the 95 % interval of the mean.
 func spread(xs []float64, origin analysis.Origin) *analysis.Estimate {
 	if len(xs) == 0 {
 		return nil
 	}
-	m := meanOf(xs)
+	m := stats.Mean(xs)
 	e := &analysis.Estimate{Value: m, Origin: origin}
 	if len(xs) > 1 {
-		s := sdOfSlice(xs)
+		s := stats.SD(xs)
 		e.SD = ptr(s)
 		h := 1.96 * s / math.Sqrt(float64(len(xs)))
 		e.Lo95, e.Hi95 = ptr(m-h), ptr(m+h)
@@ -1021,26 +970,6 @@ func sdOf(e *analysis.Estimate) float64 {
 		return math.NaN()
 	}
 	return *e.SD
-}
-
-func meanOf(x []float64) float64 {
-	var s float64
-	for _, v := range x {
-		s += v
-	}
-	return s / float64(len(x))
-}
-
-func sdOfSlice(x []float64) float64 {
-	if len(x) < 2 {
-		return math.NaN()
-	}
-	m := meanOf(x)
-	var s float64
-	for _, v := range x {
-		s += (v - m) * (v - m)
-	}
-	return math.Sqrt(s / float64(len(x)-1))
 }
 
 func scale(x []float64, k float64) []float64 {

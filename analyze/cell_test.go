@@ -8,6 +8,7 @@ import (
 	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect/detecttest"
 	"capcycle/analyze/model"
+	"capcycle/analyze/stats"
 )
 
 // The built-in Wren circuit (model.Scenario) starting empty in faint light (20 W/m²: a
@@ -87,7 +88,7 @@ func TestCellChatterLight(t *testing.T) {
 		t.Fatalf("%d cycles with a light level, want the chatter's hundreds", len(l))
 	}
 	isc := c.Cell.Current(0, g)
-	if m := median(l); math.Abs(m-isc) > 0.2*isc {
+	if m := stats.Median(l); math.Abs(m-isc) > 0.2*isc {
 		t.Errorf("median light_a %.4g A, the cell's Isc %.4g A", m, isc)
 	}
 	if n := res.Fit.Cell.N; n != nil && !(n.Value >= 0.5 && n.Value <= 10) {

@@ -6,6 +6,7 @@ import (
 
 	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect/detecttest"
+	"capcycle/analyze/stats"
 )
 
 // The overlay traces are typical cycles in a window that suits them: not the first charge
@@ -27,7 +28,7 @@ func TestTracesTypical(t *testing.T) {
 	if len(res.Cycles) < 10 || len(res.Traces) != 5 {
 		t.Fatalf("%d cycles, %d traces; want at least 10 and 5", len(res.Cycles), len(res.Traces))
 	}
-	before, after := 1.5*median(charges), 4*median(pulses)
+	before, after := 1.5*stats.Median(charges), 4*stats.Median(pulses)
 	for k, tr := range res.Traces {
 		first, last := tr.TS[0], tr.TS[len(tr.TS)-1]
 		if first < -before-0.02 || last > after+0.02 {

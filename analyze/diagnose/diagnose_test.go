@@ -8,6 +8,7 @@ import (
 	"capcycle/analyze/model"
 	"capcycle/analyze/predict"
 	"capcycle/analyze/profile"
+	"capcycle/analyze/stats"
 )
 
 func find(fs []analysis.Finding, code string) *analysis.Finding {
@@ -145,8 +146,8 @@ func healthy(t *testing.T, c *model.Circuit, g float64) *analysis.Result {
 		on, off = append(on, cy.FireV), append(off, cy.ResetV)
 		r.Envelope = append(r.Envelope, analysis.EnvelopePt{TS: cy.FireS, MinV: cy.ResetV, MaxV: cy.FireV})
 	}
-	r.Fit.Trigger.OnV = &analysis.Estimate{Value: median(on)}
-	r.Fit.Trigger.OffV = &analysis.Estimate{Value: median(off)}
+	r.Fit.Trigger.OnV = &analysis.Estimate{Value: stats.Median(on)}
+	r.Fit.Trigger.OffV = &analysis.Estimate{Value: stats.Median(off)}
 	r.Fit.Leak.Ohm = &analysis.Estimate{Value: c.Storage.LeakOhm}
 	return r
 }

@@ -10,6 +10,7 @@ import (
 	"capcycle/analyze/model"
 	"capcycle/analyze/predict"
 	"capcycle/analyze/profile"
+	"capcycle/analyze/stats"
 	"capcycle/analyze/units"
 )
 
@@ -273,14 +274,14 @@ func (d *diag) cycling() {
 	nums := map[string]float64{"cycles": float64(n)}
 	msg := fmt.Sprintf("The circuit fired %d times", n)
 	if len(per) > 0 {
-		nums["median_period_s"] = median(per)
-		msg += fmt.Sprintf(", every %s (median)", fmtS(median(per)))
+		nums["median_period_s"] = stats.Median(per)
+		msg += fmt.Sprintf(", every %s (median)", fmtS(stats.Median(per)))
 	}
-	nums["median_pulse_s"] = median(pulse)
-	msg += fmt.Sprintf(", with %s pulses", fmtS(median(pulse)))
+	nums["median_pulse_s"] = stats.Median(pulse)
+	msg += fmt.Sprintf(", with %s pulses", fmtS(stats.Median(pulse)))
 	if len(energy) > 0 {
-		nums["median_energy_j"] = median(energy)
-		msg += fmt.Sprintf(" of %s each", units.Format(median(energy), "J"))
+		nums["median_energy_j"] = stats.Median(energy)
+		msg += fmt.Sprintf(" of %s each", units.Format(stats.Median(energy), "J"))
 	}
 	d.add(CodeCycling, analysis.Info, msg+".", "", nums)
 }
@@ -302,7 +303,7 @@ func (d *diag) chatter() {
 	if nch == 0 || float64(nch) < 0.1*float64(nch+nfull) {
 		return
 	}
-	seen := median(sw)
+	seen := stats.Median(sw)
 	nums := map[string]float64{"chatter_cycles": float64(nch), "full_cycles": float64(nfull), "swing_v": seen}
 	msg := fmt.Sprintf("%d of %d fires were chatter: the voltage fell only %s before the trigger let go.", nch, nch+nfull, fmtV(seen))
 	sugg := "Stretch the trigger's hysteresis with a larger hold capacitor."
@@ -365,12 +366,12 @@ func (d *diag) pulse() {
 	if p == nil {
 		return
 	}
-	if need := p.Load.StartJ; need > 0 && len(energy) > 0 && median(energy) < need {
-		e := median(energy)
+	if need := p.Load.StartJ; need > 0 && len(energy) > 0 && stats.Median(energy) < need {
+		e := stats.Median(energy)
 		nums := map[string]float64{"energy_j": e, "start_j": need}
 		sugg := "A larger storage capacitor gives more energy per pulse (E = ½C(Von² − Voff²))."
 		on, _ := d.onV()
-		off := median(reset)
+		off := stats.Median(reset)
 		if on > off && d.c != nil {
 			capNeed := 2 * need * 1.2 / (on*on - off*off) // 20 % margin
 			std := nearestStandard("E6", capNeed)
@@ -388,7 +389,7 @@ func (d *diag) pulse() {
 	}
 	if off := p.Trigger.OffV; off > 0 && len(reset) > 0 {
 		on, _ := d.onV()
-		got := median(reset)
+		got := stats.Median(reset)
 		swing := on - off
 		if swing > 0 && got-off > 0.25*swing {
 			d.add(CodeEarlyRelease, analysis.Warn,
@@ -527,20 +528,7 @@ func (d *diag) fireReading() (band, rise float64) {
 	}
 	if len(slopes) > 0 && r.Samples > 1 {
 		dt := math.Max(r.DurationS-r.Source.GapsS, 0) / float64(r.Samples-1)
-		rise = median(slopes) * dt
+		rise = stats.Median(slopes) * dt
 	}
 	return band, rise
-}
-
-func median(x []float64) float64 {
-	if len(x) == 0 {
-		return math.NaN()
-	}
-	s := append([]float64(nil), x...)
-	sort.Float64s(s)
-	n := len(s)
-	if n%2 == 1 {
-		return s[n/2]
-	}
-	return 0.5 * (s[n/2-1] + s[n/2])
 }

@@ -2,10 +2,10 @@ package predict
 
 import (
 	"math"
-	"sort"
 
 	"capcycle/analyze/analysis"
 	"capcycle/analyze/model"
+	"capcycle/analyze/stats"
 )
 
 // Fitted returns a copy of the nominal circuit with every part the analysis measured put
@@ -120,7 +120,7 @@ func plausibleCell(cell *model.Cell, nominal *model.Circuit, r *analysis.Result)
 		return true
 	}
 	g := IrradianceFor(nominal, r.Fit.Cell.IscA.Value)
-	return g > 0 && cell.OpenCircuitV(g) >= median(fires)
+	return g > 0 && cell.OpenCircuitV(g) >= stats.Median(fires)
 }
 
 // fittedLeak turns the analysis's dark drain into the capacitor's own leakage resistance.
@@ -176,7 +176,7 @@ func fitHold(c *model.Circuit, r *analysis.Result) bool {
 	if len(pulses) < 3 || !(g > 0) {
 		return false
 	}
-	want := median(pulses)
+	want := stats.Median(pulses)
 	for range 4 { // the pulse is nearly proportional to C_hold; a few rounds converge
 		f, err := Steady(c, g, nil)
 		if err != nil || !f.Fires || !(f.PulseS > 0) {
@@ -203,7 +203,7 @@ func MeasuredLight(r *analysis.Result, c *model.Circuit) float64 {
 		}
 	}
 	if len(iscs) > 0 {
-		return IrradianceFor(c, median(iscs))
+		return IrradianceFor(c, stats.Median(iscs))
 	}
 	if g := chatterLight(r, c); g > 0 {
 		return g
@@ -253,7 +253,7 @@ func chatterLight(r *analysis.Result, c *model.Circuit) float64 {
 	if len(gs) == 0 {
 		return 0
 	}
-	return median(gs)
+	return stats.Median(gs)
 }
 
 // LightForEquilibrium finds the irradiance at which c settles at veq (bisection on a log
@@ -272,16 +272,6 @@ func LightForEquilibrium(c *model.Circuit, veq float64) float64 {
 		}
 	}
 	return math.Exp(0.5 * (lo + hi))
-}
-
-func median(x []float64) float64 {
-	s := append([]float64(nil), x...)
-	sort.Float64s(s)
-	n := len(s)
-	if n%2 == 1 {
-		return s[n/2]
-	}
-	return 0.5 * (s[n/2-1] + s[n/2])
 }
 
 // cache memoises Steady by light level: measured cycles at nearly the same light share one

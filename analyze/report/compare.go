@@ -2,6 +2,7 @@ package report
 
 import (
 	"capcycle/analyze/analysis"
+	"capcycle/analyze/stats"
 	"fmt"
 	"html/template"
 	"io"
@@ -141,19 +142,14 @@ func statsOf(r *analysis.Result) cycleStats {
 	return s
 }
 
+// meanSD is the mean and sample SD of v (SD 0 for one value); ok is false for none.
 func meanSD(v []float64) (m, sd float64, ok bool) {
 	if len(v) == 0 {
 		return 0, 0, false
 	}
-	for _, x := range v {
-		m += x
-	}
-	m /= float64(len(v))
-	if len(v) > 1 {
-		for _, x := range v {
-			sd += (x - m) * (x - m)
-		}
-		sd = math.Sqrt(sd / float64(len(v)-1))
+	m, sd = stats.MeanSD(v)
+	if len(v) < 2 {
+		sd = 0
 	}
 	return m, sd, true
 }
