@@ -5,6 +5,7 @@ import (
 	"compress/gzip"
 	"context"
 	"encoding/json"
+	"flag"
 	"fmt"
 	"io"
 	"math"
@@ -35,6 +36,10 @@ var goldenCases = []struct {
 	{"captures/wren-rc-10min.csv", "wren"},
 }
 
+// updateGolden rewrites the golden files from this version's output: only for a change
+// that is meant to change values (say which in the commit), never to make a test pass.
+var updateGolden = flag.Bool("update-golden", false, "rewrite testdata/golden/*.json.gz from this version's analysis")
+
 // goldenIgnore lists paths whose values legitimately depend on where the test runs.
 var goldenIgnore = map[string]bool{"source.path": true}
 
@@ -59,11 +64,15 @@ func TestAnalysisJSONMatchesGolden(t *testing.T) {
 				if code != 0 {
 					t.Fatalf("exit %d: %s", code, errb.String())
 				}
+				goldenPath := "../../testdata/golden/" + name + ".json.gz"
+				if *updateGolden {
+					writeGzip(t, goldenPath, out.Bytes())
+				}
 				var got, want any
 				if err := json.Unmarshal(out.Bytes(), &got); err != nil {
 					t.Fatalf("analysis JSON: %v", err)
 				}
-				if err := json.Unmarshal(readMaybeGzip(t, "../../testdata/golden/"+name+".json.gz"), &want); err != nil {
+				if err := json.Unmarshal(readMaybeGzip(t, goldenPath), &want); err != nil {
 					t.Fatalf("golden JSON: %v", err)
 				}
 				var diffs []string
@@ -77,6 +86,21 @@ func TestAnalysisJSONMatchesGolden(t *testing.T) {
 				}
 			})
 		}
+	}
+}
+
+func writeGzip(t *testing.T, path string, b []byte) {
+	t.Helper()
+	var buf bytes.Buffer
+	z, _ := gzip.NewWriterLevel(&buf, gzip.BestCompression)
+	if _, err := z.Write(b); err != nil {
+		t.Fatal(err)
+	}
+	if err := z.Close(); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(path, buf.Bytes(), 0o644); err != nil {
+		t.Fatal(err)
 	}
 }
 
