@@ -1,6 +1,7 @@
 package whatif
 
 import (
+	"context"
 	"errors"
 	"math"
 	"testing"
@@ -76,7 +77,7 @@ func TestEvaluateDoubleCap(t *testing.T) {
 // table that bracket it.
 func TestSearchPeriod(t *testing.T) {
 	c := rc()
-	props, err := Search(c, 1000, 8, Target{"period", 30}, "cap")
+	props, err := Search(context.Background(), c, 1000, 8, Target{"period", 30}, "cap")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -116,7 +117,7 @@ func TestSearchHoldForPulse(t *testing.T) {
 	if part != "hold" {
 		t.Fatalf("default part for a hold trigger's pulse is %q", part)
 	}
-	props, err := Search(sc.Circuit, 600, 8, tg, part)
+	props, err := Search(context.Background(), sc.Circuit, 600, 8, tg, part)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -129,7 +130,7 @@ func TestSearchUnreachable(t *testing.T) {
 	c := rc()
 	// The pulse of this circuit is set by the load; no capacitance makes it a day long
 	// within four decades.
-	_, err := Search(c, 1000, 8, Target{"pulse", 86400}, "cap")
+	_, err := Search(context.Background(), c, 1000, 8, Target{"pulse", 86400}, "cap")
 	if !errors.Is(err, ErrUnreachable) {
 		t.Fatalf("err = %v, want ErrUnreachable", err)
 	}
