@@ -32,11 +32,17 @@ func Run(ctx context.Context, r *capture.Reader, opts *Options) (*analysis.Resul
 	if err := s.read(ctx, r); err != nil {
 		return nil, err
 	}
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
 	res := s.finish(r)
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
 	if err := laterStages(res, opts); err != nil {
 		return res, err
 	}
-	return res, nil
+	return res, ctx.Err()
 }
 
 // read hands the capture to the session batch by batch.
