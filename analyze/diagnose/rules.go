@@ -114,28 +114,8 @@ func (d *diag) notFiring() {
 			map[string]float64{"max_v": maxV, "on_v": on})
 		return
 	}
-	// Where it settles: the extrapolated equilibrium, or, when the light kept changing and
-	// the voltage never levelled off (a day behind a window), the highest voltage reached,
-	// which is a lower bound on the equilibrium at the brightest light of the capture.
-	eq := d.r.EquilibriumV
-	var veq float64
-	peak := eq == nil
-	switch {
-	case eq != nil:
-		veq = eq.Value
-	case !math.IsNaN(on) && maxV > 0 && maxV < on:
-		if d.risingAtEnd() {
-			d.add(CodeStillCharging, analysis.Info,
-				fmt.Sprintf("The voltage was still rising when the capture ended, at %s after %s, below the %s trigger: too short to tell whether it fires or settles.", fmtV(maxV), fmtS(d.r.DurationS), fmtV(on)),
-				"Record longer, until it fires or the voltage levels off.",
-				map[string]float64{"max_v": maxV, "on_v": on, "duration_s": d.r.DurationS})
-			return
-		}
-		veq = maxV
-	default:
-		return
-	}
-	if math.IsNaN(on) || veq >= on {
+	veq, peak, ok := d.settlingPoint(on, maxV)
+	if !ok || math.IsNaN(on) || veq >= on {
 		return
 	}
 	if peak && d.c != nil && d.in.LightWm2 <= 0 {
@@ -147,93 +127,146 @@ func (d *diag) notFiring() {
 		delete(nums, "equilibrium_v")
 		nums["peak_v"] = veq
 		msg = fmt.Sprintf("The voltage never reached the %s trigger: it peaked at %s, %s short, in the brightest light of the capture, where the cell's current fell to the drains.", fmtV(on), fmtV(veq), fmtV(on-veq))
-	} else if eq.SD != nil {
+	} else if eq := d.r.EquilibriumV; eq.SD != nil {
 		nums["equilibrium_sd_v"] = *eq.SD
 	}
 	sugg := "Give it more light, less drain or a lower trigger."
-	c := d.c
-	if c != nil && d.g > 0 {
-		thr := on * 1.03 // 3 % margin above the node voltage the trigger needs
-		nums["light_wm2"] = d.g
-		// Which drain is largest at the equilibrium.
-		leak, probe, iq := 0.0, 0.0, predict.QuiescentA(c, veq)
-		if c.Storage.LeakOhm > 0 {
-			leak = veq / c.Storage.LeakOhm
-		}
-		if c.ProbeOhm > 0 {
-			probe = veq / c.ProbeOhm
-		}
-		total := leak + probe + iq
-		nums["leak_a"], nums["probe_a"], nums["quiescent_a"] = leak, probe, iq
-		largest, share := "leakage", leak/total
-		if probe > leak && probe >= iq {
-			largest, share = "the probe divider", probe/total
-		} else if iq > leak && iq > probe {
-			largest, share = "the supervisor's quiescent current", iq/total
-		}
-		nums["largest_share"] = share
-		msg += fmt.Sprintf(" Of the %s drain there, %s takes %.0f %%.", units.Format(total, "A"), largest, 100*share)
-		// Each remedy on its own, with the model's prediction of the cycle it gives.
-		var opts []string
-		if gNeed := predict.LightForEquilibrium(c, thr); gNeed > 0 {
-			nums["light_factor"] = gNeed / d.g
-			if f, ok := steadyWith(c, gNeed, func(*model.Circuit) {}); ok && f.Fires {
-				nums["period_with_light_s"] = f.PeriodS
-				opts = append(opts, fmt.Sprintf("%.2g× the light (a brighter sill or a larger cell), firing once every %s", gNeed/d.g, fmtS(f.PeriodS)))
-			} else {
-				opts = append(opts, fmt.Sprintf("%.2g× the light, which brings it to the trigger", gNeed/d.g))
-			}
-		}
-		// Less drain: the cell's current at the threshold against the drains there.
-		icell := c.Cell.Current(thr, d.g)
-		drainThr := predict.DrainA(c, thr)
-		nums["cell_at_trigger_a"], nums["drain_at_trigger_a"] = icell, drainThr
-		switch {
-		case icell > 0 && drainThr > icell:
-			cut := 1 - icell/drainThr
-			nums["drain_cut"] = cut
-			o := fmt.Sprintf("%.0f %% less drain at the trigger (the cell gives %s there, the drains take %s)", 100*cut, units.Format(icell, "A"), units.Format(drainThr, "A"))
-			if largest == "the probe divider" {
-				if f, ok := steadyWith(c, d.g, func(cc *model.Circuit) { cc.ProbeOhm *= 10 }); ok && f.Fires {
-					nums["period_probe_x10_s"] = f.PeriodS
-					o += fmt.Sprintf(", e.g. a probe divider of ten times the resistance, firing every %s", fmtS(f.PeriodS))
-				}
-			}
-			opts = append(opts, o)
-		case icell <= 0:
-			msg += fmt.Sprintf(" At this light the cell cannot reach %s at all, whatever the drain.", fmtV(thr))
-		}
-		// Lower trigger: 5 % below where it settles.
-		newOn := 0.95 * veq
-		f, ok := steadyWith(c, d.g, func(cc *model.Circuit) {
-			switch cc.Trigger.Kind {
-			case model.TriggerHold:
-				delta := cc.Trigger.OnV - cc.Trigger.OffV
-				cc.Trigger.OnV = newOn - cc.Trigger.DiodeV
-				cc.Trigger.OffV = cc.Trigger.OnV - delta
-			default:
-				delta := cc.Trigger.OnV - cc.Trigger.OffV
-				cc.Trigger.OnV = newOn
-				if cc.Trigger.OffV >= newOn || cc.Trigger.OffV <= 0 {
-					cc.Trigger.OffV = newOn - math.Min(delta, 0.5*newOn)
-				}
-			}
-		})
-		nums["lower_on_v"] = newOn
-		where := "the equilibrium"
-		if peak {
-			where = "the peak"
-		}
-		if ok && f.Fires {
-			nums["period_lower_on_s"] = f.PeriodS
-			nums["energy_lower_on_j"] = f.EnergyJ
-			opts = append(opts, fmt.Sprintf("a trigger at %s (5 %% below %s), firing every %s with %s per pulse", fmtV(newOn), where, fmtS(f.PeriodS), units.Format(f.EnergyJ, "J")))
-		} else {
-			opts = append(opts, fmt.Sprintf("a trigger at %s (5 %% below %s)", fmtV(newOn), where))
-		}
+	if d.c != nil && d.g > 0 {
+		extra, opts := d.stallRemedies(veq, on, peak, nums)
+		msg += extra
 		sugg = "Any one of these would make it fire (model): " + strings.Join(opts, "; ") + "."
 	}
 	d.add(CodeNeverFires, analysis.Fault, msg, sugg, nums)
+}
+
+// settlingPoint is where the voltage settles: the extrapolated equilibrium, or, when the
+// light kept changing and the voltage never levelled off (a day behind a window), the
+// highest voltage reached (peak), which is a lower bound on the equilibrium at the
+// brightest light of the capture. ok is false when there is nothing to say, or when the
+// capture ended while the voltage still climbed (a still-charging finding is made).
+func (d *diag) settlingPoint(on, maxV float64) (veq float64, peak, ok bool) {
+	if eq := d.r.EquilibriumV; eq != nil {
+		return eq.Value, false, true
+	}
+	if math.IsNaN(on) || !(maxV > 0) || maxV >= on {
+		return 0, true, false
+	}
+	if d.risingAtEnd() {
+		d.add(CodeStillCharging, analysis.Info,
+			fmt.Sprintf("The voltage was still rising when the capture ended, at %s after %s, below the %s trigger: too short to tell whether it fires or settles.", fmtV(maxV), fmtS(d.r.DurationS), fmtV(on)),
+			"Record longer, until it fires or the voltage levels off.",
+			map[string]float64{"max_v": maxV, "on_v": on, "duration_s": d.r.DurationS})
+		return 0, true, false
+	}
+	return maxV, true, true
+}
+
+// stallRemedies says which drain is largest where the voltage settles (a sentence for
+// the message) and the remedies that would each make it fire, with the model's cycle.
+func (d *diag) stallRemedies(veq, on float64, peak bool, nums map[string]float64) (extra string, opts []string) {
+	thr := on * 1.03 // 3 % margin above the node voltage the trigger needs
+	nums["light_wm2"] = d.g
+	extra, largest := d.largestDrain(veq, nums)
+	if o := d.moreLight(thr, nums); o != "" {
+		opts = append(opts, o)
+	}
+	o, cannot := d.lessDrain(thr, largest, nums)
+	if o != "" {
+		opts = append(opts, o)
+	}
+	extra += cannot
+	opts = append(opts, d.lowerTrigger(veq, peak, nums))
+	return extra, opts
+}
+
+// largestDrain names the largest drain at v and its share.
+func (d *diag) largestDrain(v float64, nums map[string]float64) (sentence, largest string) {
+	c := d.c
+	leak, probe, iq := 0.0, 0.0, predict.QuiescentA(c, v)
+	if c.Storage.LeakOhm > 0 {
+		leak = v / c.Storage.LeakOhm
+	}
+	if c.ProbeOhm > 0 {
+		probe = v / c.ProbeOhm
+	}
+	total := leak + probe + iq
+	nums["leak_a"], nums["probe_a"], nums["quiescent_a"] = leak, probe, iq
+	largest, share := "leakage", leak/total
+	if probe > leak && probe >= iq {
+		largest, share = "the probe divider", probe/total
+	} else if iq > leak && iq > probe {
+		largest, share = "the supervisor's quiescent current", iq/total
+	}
+	nums["largest_share"] = share
+	return fmt.Sprintf(" Of the %s drain there, %s takes %.0f %%.", units.Format(total, "A"), largest, 100*share), largest
+}
+
+// moreLight is the light that brings the node to thr, and the cycle it gives.
+func (d *diag) moreLight(thr float64, nums map[string]float64) string {
+	gNeed := predict.LightForEquilibrium(d.c, thr)
+	if !(gNeed > 0) {
+		return ""
+	}
+	nums["light_factor"] = gNeed / d.g
+	if f, ok := steadyWith(d.c, gNeed, func(*model.Circuit) {}); ok && f.Fires {
+		nums["period_with_light_s"] = f.PeriodS
+		return fmt.Sprintf("%.2g× the light (a brighter sill or a larger cell), firing once every %s", gNeed/d.g, fmtS(f.PeriodS))
+	}
+	return fmt.Sprintf("%.2g× the light, which brings it to the trigger", gNeed/d.g)
+}
+
+// lessDrain compares the cell's current at thr with the drains there: the cut that
+// would let it fire, or a sentence saying no cut can (the cell cannot reach thr at all).
+func (d *diag) lessDrain(thr float64, largest string, nums map[string]float64) (opt, cannot string) {
+	c := d.c
+	icell := c.Cell.Current(thr, d.g)
+	drainThr := predict.DrainA(c, thr)
+	nums["cell_at_trigger_a"], nums["drain_at_trigger_a"] = icell, drainThr
+	switch {
+	case icell > 0 && drainThr > icell:
+		cut := 1 - icell/drainThr
+		nums["drain_cut"] = cut
+		o := fmt.Sprintf("%.0f %% less drain at the trigger (the cell gives %s there, the drains take %s)", 100*cut, units.Format(icell, "A"), units.Format(drainThr, "A"))
+		if largest == "the probe divider" {
+			if f, ok := steadyWith(c, d.g, func(cc *model.Circuit) { cc.ProbeOhm *= 10 }); ok && f.Fires {
+				nums["period_probe_x10_s"] = f.PeriodS
+				o += fmt.Sprintf(", e.g. a probe divider of ten times the resistance, firing every %s", fmtS(f.PeriodS))
+			}
+		}
+		return o, ""
+	case icell <= 0:
+		return "", fmt.Sprintf(" At this light the cell cannot reach %s at all, whatever the drain.", fmtV(thr))
+	}
+	return "", ""
+}
+
+// lowerTrigger is a trigger 5 % below where the node settles, and the cycle it gives.
+func (d *diag) lowerTrigger(veq float64, peak bool, nums map[string]float64) string {
+	newOn := 0.95 * veq
+	f, ok := steadyWith(d.c, d.g, func(cc *model.Circuit) {
+		delta := cc.Trigger.OnV - cc.Trigger.OffV
+		switch cc.Trigger.Kind {
+		case model.TriggerHold:
+			cc.Trigger.OnV = newOn - cc.Trigger.DiodeV
+			cc.Trigger.OffV = cc.Trigger.OnV - delta
+		default:
+			cc.Trigger.OnV = newOn
+			if cc.Trigger.OffV >= newOn || cc.Trigger.OffV <= 0 {
+				cc.Trigger.OffV = newOn - math.Min(delta, 0.5*newOn)
+			}
+		}
+	})
+	nums["lower_on_v"] = newOn
+	where := "the equilibrium"
+	if peak {
+		where = "the peak"
+	}
+	if ok && f.Fires {
+		nums["period_lower_on_s"] = f.PeriodS
+		nums["energy_lower_on_j"] = f.EnergyJ
+		return fmt.Sprintf("a trigger at %s (5 %% below %s), firing every %s with %s per pulse", fmtV(newOn), where, fmtS(f.PeriodS), units.Format(f.EnergyJ, "J"))
+	}
+	return fmt.Sprintf("a trigger at %s (5 %% below %s)", fmtV(newOn), where)
 }
 
 // risingAtEnd reports whether the highest voltage of the envelope lies in its last 5 % and
