@@ -30,7 +30,7 @@ type Question struct {
 	LightWm2 float64 // the irradiance, W/m²; 0: choose (see above)
 	// LightFrom says where a given LightWm2 comes from, for the answer (default "given").
 	LightFrom string
-	SunHours float64 // hours a day at that light; 0: choose, else 8
+	SunHours  float64 // hours a day at that light; 0: choose, else 8
 
 	Changes []Change // the changes to make (none: only the circuit as it is)
 	Target  *Target  // a figure to reach (nil: no search)
