@@ -182,7 +182,9 @@ func printUsage(w io.Writer, fs *flag.FlagSet, usage string, examples []string) 
 		}
 		_, text := flag.UnquoteUsage(fl)
 		fmt.Fprintf(w, "\n        %s", strings.ReplaceAll(text, "\n", "\n        "))
-		if showDefault(fl) {
+		if typ, _ := flag.UnquoteUsage(fl); showDefault(fl) && typ == "string" {
+			fmt.Fprintf(w, " (default %q)", fl.DefValue)
+		} else if showDefault(fl) {
 			fmt.Fprintf(w, " (default %s)", fl.DefValue)
 		}
 		fmt.Fprintln(w)
@@ -292,4 +294,42 @@ func editDistance(a, b string) int {
 		prev2, prev, cur = prev, cur, prev2
 	}
 	return prev[len(rb)]
+}
+
+// perInputFlag is a repeatable flag that gives one value for every input, or one per
+// input in the order of the inputs ("report a.csv b.csv --profile a.toml --profile
+// b.toml").
+type perInputFlag struct {
+	name string
+	vals []string
+}
+
+func (p *perInputFlag) String() string {
+	if p == nil {
+		return ""
+	}
+	return strings.Join(p.vals, " ")
+}
+
+func (p *perInputFlag) Set(s string) error { p.vals = append(p.vals, s); return nil }
+
+// check reports a usage error unless the flag was given never, once, or once per input.
+func (p *perInputFlag) check(inputs int) error {
+	if n := len(p.vals); n > 1 && n != inputs {
+		return usageErrorf("--%s given %d times for %d inputs: give it once for all of them, or once for each, in order", p.name, n, inputs)
+	}
+	return nil
+}
+
+// forInput is the value for input i: its own, the one for all, or "" when none was given.
+func (p *perInputFlag) forInput(i int) string {
+	switch {
+	case len(p.vals) == 0:
+		return ""
+	case len(p.vals) == 1:
+		return p.vals[0]
+	case i < len(p.vals):
+		return p.vals[i]
+	}
+	return ""
 }
