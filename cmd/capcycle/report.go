@@ -67,7 +67,7 @@ func analyseCapture(ctx context.Context, path, profilePath string) (*analyze.Res
 func runReport(ctx context.Context, args []string, e *env) error {
 	fs := newFlags("report", "CAPTURE [B] [flags]  |  --from-json A.json [B.json] [flags]", e.stderr,
 		"capcycle report wren.csv --profile wren.toml",
-		"capcycle report wren.csv --out out/wren.html --force",
+		"capcycle report wren.csv --out wren-report.html --force",
 		"capcycle report --from-json wren.analysis.json",
 		"capcycle report before.csv after.csv --out compare.html",
 		"capcycle report wren.csv fern.csv --profile wren.toml --profile fern.toml --label-a Wren --label-b Fern",
