@@ -89,7 +89,7 @@ func runDemo(ctx context.Context, args []string, e *env) error {
 	fs := newFlags("demo", "[--out DIR] [--hours H] [--start HH:MM] [--board virtual|emulated] [--keep] [--speed X] [--seed N] [--scenario wren,fern]", e.stderr,
 		"capcycle demo",
 		"capcycle demo --out /tmp/demo --keep",
-		"capcycle demo --board emulated --hours 1 --start 10:00")
+		"capcycle demo --board emulated --hours 0.25 --start 10:00")
 	o := demoOptions{}
 	outVar(fs, &o.out, "capcycle-demo", "directory for the reports (an earlier demo's files there are replaced)")
 	fs.Float64Var(&o.hours, "hours", 24, "model time to record per scenario, hours")

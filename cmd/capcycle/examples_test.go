@@ -29,7 +29,12 @@ func TestEveryExampleRuns(t *testing.T) {
 	}
 	fx := newExampleFixtures(t)
 	t.Chdir(t.TempDir())
+	seen := map[string]bool{}
 	for _, ex := range examples {
+		if seen[ex.line] {
+			continue // the same command line in the help and the README runs once
+		}
+		seen[ex.line] = true
 		t.Run(ex.from+": "+ex.line, func(t *testing.T) {
 			if strings.HasPrefix(ex.line, "capcycle demo") && !strings.HasSuffix(ex.line, " -h") && testing.Short() {
 				t.Skip("the demo records in real time at its speed; skipped in -short mode")
@@ -353,22 +358,22 @@ func newExampleFixtures(t *testing.T) *exampleFixtures {
 // exampleFiles maps the names of the inputs the examples use to demo data: a file under
 // the repository root, or "analysis:CAPTURE:PROFILE" for the analysis JSON of a capture.
 var exampleFiles = map[string]string{
-	"wren.toml":                  "testdata/profiles/wren.toml",
-	"before.toml":                "testdata/profiles/wren.toml",
+	"wren.toml":                   "testdata/profiles/wren.toml",
+	"before.toml":                 "testdata/profiles/wren.toml",
 	"testdata/profiles/wren.toml": "testdata/profiles/wren.toml",
-	"fern.toml":                  "testdata/profiles/fern.toml",
-	"after.toml":                 "testdata/profiles/fern.toml",
+	"fern.toml":                   "testdata/profiles/fern.toml",
+	"after.toml":                  "testdata/profiles/fern.toml",
 	"testdata/profiles/fern.toml": "testdata/profiles/fern.toml",
-	"wren.csv":                   "testdata/captures/wren-rc-10min.csv",
-	"wren-day.csv":               "testdata/captures/wren-rc-10min.csv",
-	"before.csv":                 "testdata/captures/wren-rc-10min.csv",
-	"fern.csv":                   "testdata/captures/fern-rc-stall-3h.csv",
-	"after.csv":                  "testdata/captures/fern-rc-stall-3h.csv",
-	"logger.csv":                 "logger:testdata/captures/wren-rc-10min.csv",
-	"wren.json":                  "analysis:wren.csv:wren.toml",
-	"wren.analysis.json":         "analysis:wren.csv:wren.toml",
-	"before.analysis.json":       "analysis:before.csv:wren.toml",
-	"after.analysis.json":        "analysis:after.csv:fern.toml",
+	"wren.csv":                    "testdata/captures/wren-rc-10min.csv",
+	"wren-day.csv":                "testdata/captures/wren-rc-10min.csv",
+	"before.csv":                  "testdata/captures/wren-rc-10min.csv",
+	"fern.csv":                    "testdata/captures/fern-rc-stall-3h.csv",
+	"after.csv":                   "testdata/captures/fern-rc-stall-3h.csv",
+	"logger.csv":                  "logger:testdata/captures/wren-rc-10min.csv",
+	"wren.json":                   "analysis:wren.csv:wren.toml",
+	"wren.analysis.json":          "analysis:wren.csv:wren.toml",
+	"before.analysis.json":        "analysis:before.csv:wren.toml",
+	"after.analysis.json":         "analysis:after.csv:fern.toml",
 }
 
 // outputFlags take the name of a file the command writes; it is not provided.
