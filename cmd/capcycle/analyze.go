@@ -136,8 +136,7 @@ func runAnalyze(ctx context.Context, args []string, e *env) error {
 		}
 	}
 	if file == "" {
-		fs.Usage()
-		return usageErrorf("no capture file given")
+		return usageErrorf("no capture file given (run \"capcycle analyze -h\" for the usage)")
 	}
 	set := map[string]bool{}
 	fs.Visit(func(fl *flag.Flag) { set[fl.Name] = true })
