@@ -112,7 +112,7 @@ func runReport(ctx context.Context, args []string, e *env) error {
 }
 
 // parseInterleaved parses flags that may come before, between or after the inputs
-// ("capcycle report A B -o compare.html") and returns the inputs in order.
+// ("capcycle report A B --out compare.html") and returns the inputs in order.
 func parseInterleaved(fs *flag.FlagSet, args []string) ([]string, error) {
 	if err := parseFlags(fs, args); err != nil {
 		return nil, err
