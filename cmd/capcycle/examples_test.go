@@ -36,8 +36,8 @@ func TestEveryExampleRuns(t *testing.T) {
 		}
 		seen[ex.line] = true
 		t.Run(ex.from+": "+ex.line, func(t *testing.T) {
-			if strings.HasPrefix(ex.line, "capcycle demo") && !strings.HasSuffix(ex.line, " -h") && testing.Short() {
-				t.Skip("the demo records in real time at its speed; skipped in -short mode")
+			if strings.HasPrefix(ex.line, "capcycle demo") && !strings.HasSuffix(ex.line, " -h") && (testing.Short() || raceEnabled) {
+				t.Skip("the demo records a day at its speed, for minutes on a busy machine; skipped in -short mode and under the race detector (TestDemo runs an hour of it)")
 			}
 			if strings.Contains(ex.line, "--board emulated") {
 				if err := emulator.Available(); err != nil {
