@@ -137,18 +137,8 @@ func (f unitFlag) Set(s string) error { return f.v.Set(s) }
 
 func runAnalyze(ctx context.Context, args []string, e *env) error {
 	fs, f := newAnalyzeFlags(e.stderr)
-	// Let flags come after the file name too.
 	var file string
-	var rest []string
-	for i := 0; i < len(args); i++ {
-		a := args[i]
-		if file == "" && !strings.HasPrefix(a, "-") {
-			file = a
-			continue
-		}
-		rest = append(rest, a)
-	}
-	if err := parseFlags(fs, rest); err != nil {
+	if err := parseFlags(fs, args); err != nil {
 		return err
 	}
 	if fs.NArg() > 0 {
@@ -161,8 +151,7 @@ func runAnalyze(ctx context.Context, args []string, e *env) error {
 		}
 	}
 	if file == "" {
-		fs.Usage()
-		return usageErrorf("no capture file given")
+		return usageErrorf("no capture file given (run \"capcycle analyze -h\" for the usage)")
 	}
 	set := map[string]bool{}
 	fs.Visit(func(fl *flag.Flag) { set[fl.Name] = true })

@@ -86,12 +86,12 @@ type demoOutcome struct {
 }
 
 func runDemo(ctx context.Context, args []string, e *env) error {
-	fs := newFlags("demo", "[--out DIR] [--hours 24] [--board virtual|emulated] [--keep]", e.stderr,
+	fs := newFlags("demo", "[--out DIR] [--hours H] [--start HH:MM] [--board virtual|emulated] [--keep] [--speed X] [--seed N] [--scenario wren,fern]", e.stderr,
 		"capcycle demo",
 		"capcycle demo --out /tmp/demo --keep",
-		"capcycle demo --board emulated --hours 1 --start 10:00")
+		"capcycle demo --board emulated --hours 0.25 --start 10:00")
 	o := demoOptions{}
-	fs.StringVar(&o.out, "out", "capcycle-demo", "directory for the reports (an earlier demo's files there are replaced)")
+	outVar(fs, &o.out, "capcycle-demo", "directory for the reports (an earlier demo's files there are replaced)")
 	fs.Float64Var(&o.hours, "hours", 24, "model time to record per scenario, hours")
 	fs.StringVar(&o.start, "start", "00:00", "time of day (solar time, HH:MM) at which the robot is put on the sill, its storage empty")
 	fs.StringVar(&o.board, "board", "virtual", "the board that measures the model: virtual (in-process) or emulated (the firmware in simavr)")

@@ -25,7 +25,7 @@ func profileCommand() *command {
 	}
 }
 
-const profileUsage = `usage: capcycle profile init [--kind voltage|timer|plateau] [-o FILE] [--force]
+const profileUsage = `usage: capcycle profile init [--kind voltage|timer|plateau] [--out FILE] [--force]
        capcycle profile check FILE
 
 A bench profile (TOML) describes one robot and its probe: the storage capacitor, the
@@ -41,7 +41,7 @@ take numbers or engineering notation ("4700u", "1meg", "2.7V").
 Run "capcycle profile init -h" or "capcycle profile check -h" for their flags.
 
 examples:
-  capcycle profile init --kind voltage -o wren.toml
+  capcycle profile init --kind voltage --out wren.toml
   capcycle profile check wren.toml
 `
 
@@ -64,17 +64,17 @@ func runProfile(ctx context.Context, args []string, e *env) error {
 }
 
 func profileInit(args []string, e *env) error {
-	fs := newFlags("profile init", "[--kind voltage|timer|plateau] [-o FILE] [--force]", e.stderr,
+	fs := newFlags("profile init", "[--kind voltage|timer|plateau] [--out FILE] [--force]", e.stderr,
 		"capcycle profile init > wren.toml",
-		"capcycle profile init --kind timer -o timer-rover.toml")
+		"capcycle profile init --kind timer --out timer-rover.toml")
 	kind := fs.String("kind", "voltage", "trigger kind of the template: "+strings.Join(profile.TemplateKinds, ", "))
-	out := fs.String("o", "-", "file to write; - is standard output")
+	out := outFlag(fs, "-", "file to write; - is standard output")
 	force := fs.Bool("force", false, "overwrite FILE if it exists")
 	if err := parseFlags(fs, args); err != nil {
 		return err
 	}
 	if fs.NArg() > 0 {
-		return usageErrorf("init takes no arguments, got %q (use -o FILE)", fs.Arg(0))
+		return usageErrorf("init takes no arguments, got %q (use --out FILE)", fs.Arg(0))
 	}
 	text := profile.Template(*kind)
 	if text == "" {

@@ -38,7 +38,7 @@ func runWhatif(ctx context.Context, args []string, e *env) error {
 	var asJSON bool
 	light := units.NewValue(0, "W/m²", units.NonNegative)
 	sun := units.NewValue(0, "h", units.NonNegative)
-	fs := newFlags("whatif", "[--profile P] [--analysis A.json] [--set part=value ...] [--target figure=value [--vary part]]", e.stderr,
+	fs := newFlags("whatif", "[--profile P] [--analysis A.json] [--set part=value ...] [--target figure=value [--vary part]] [--light W/m²] [--sun-hours H] [--json]", e.stderr,
 		"capcycle whatif --profile wren.toml --analysis wren.json --set cap=10000u --set hold=4.7u",
 		"capcycle whatif --profile wren.toml --analysis wren.json --target pulse=0.5s",
 		"capcycle whatif --profile fern.toml --light 80 --set on=2.4 --json")
