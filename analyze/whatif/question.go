@@ -79,9 +79,8 @@ type Proposed struct {
 // ErrNoLight is returned when nothing gives a light to predict at.
 var ErrNoLight = errors.New("whatif: no light to predict at: give the irradiance, an analysis, or a [light] table in the profile")
 
-// ErrBadChange is returned (wrapped) when the changes leave a circuit that cannot be
-// built, or name a part the search cannot vary.
-var ErrBadChange = errors.New("whatif: bad change")
+// ErrBadVary is returned (wrapped) when the search is to vary a part there is not.
+var ErrBadVary = errors.New("whatif: no such part to vary")
 
 // Ask answers q: the circuit's figures at the light, the changed circuit's, and the
 // values of the varied part that reach the target. It stops when ctx is done.
@@ -101,7 +100,7 @@ func Ask(ctx context.Context, q *Question) (*Report, error) {
 		var g2 float64
 		changed, g2, err = Apply(q.Circuit, g, q.Changes)
 		if err != nil {
-			return nil, fmt.Errorf("%w: %w", ErrBadChange, err)
+			return nil, err
 		}
 		a, err := Evaluate(changed, g2, hours)
 		if err != nil {
@@ -129,7 +128,7 @@ func searchInto(ctx context.Context, rep *Report, q *Question, c *model.Circuit,
 	}
 	pp, err := LookupPart(part)
 	if err != nil {
-		return fmt.Errorf("%w: %w", ErrBadChange, err)
+		return fmt.Errorf("%w: %w", ErrBadVary, err)
 	}
 	props, err := Search(ctx, c, g, hours, *q.Target, pp.Name)
 	if err != nil {

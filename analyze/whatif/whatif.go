@@ -117,6 +117,11 @@ type Proposal struct {
 // present one reaches the target.
 var ErrUnreachable = errors.New("whatif: target not reachable")
 
+// ErrNeverFires is returned (wrapped) when the circuit fires for no value of the part
+// the search tried: the target is out of reach because of the light or the drains, not
+// because of the part.
+var ErrNeverFires = errors.New("whatif: the circuit never fires")
+
 // Search finds the value of part that makes the figure reach the target for c at
 // irradiance g, by bisection on a logarithmic scale within four decades of the present
 // value (the figure must change monotonically with the part there). It returns the exact
@@ -150,6 +155,7 @@ func Search(ctx context.Context, c *model.Circuit, g, sunHours float64, t Target
 		return nil, err
 	}
 	lo, hi, flo, found := 0.0, 0.0, 0.0, false
+	fired := !math.IsNaN(f0)
 	for _, dir := range []float64{+1, -1} {
 		px, pf := math.Log(x0), f0
 		for k := 1; k <= 14 && !found; k++ { // 2^14 ≈ 1.6e4: four decades
@@ -161,11 +167,20 @@ func Search(ctx context.Context, c *model.Circuit, g, sunHours float64, t Target
 			if err != nil || math.IsNaN(fx) {
 				continue
 			}
+			fired = true
 			if !math.IsNaN(pf) && fx*pf <= 0 {
 				lo, hi, flo, found = px, x, pf, true
 			}
 			px, pf = x, fx
 		}
+	}
+	if !found && !fired {
+		why := ""
+		if f, err := predict.Steady(c, g, nil); err == nil && !math.IsNaN(f.EquilibriumV) {
+			why = fmt.Sprintf(": it settles at %s, below the trigger; more light, less drain or a lower trigger first", units.Format(f.EquilibriumV, units.Volt))
+		}
+		return nil, fmt.Errorf("%w at %.3g W/m² with any %s from %s to %s%s", ErrNeverFires, g, p.Name,
+			units.Format(x0/16384, p.Unit), units.Format(x0*16384, p.Unit), why)
 	}
 	if !found {
 		return nil, fmt.Errorf("%w by %s within ×1/16000…×16000 of %s", ErrUnreachable, p.Name, units.Format(x0, p.Unit))

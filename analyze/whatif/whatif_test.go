@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"math"
+	"strings"
 	"testing"
 
 	"capcycle/analyze/eseries"
@@ -133,5 +134,35 @@ func TestSearchUnreachable(t *testing.T) {
 	_, err := Search(context.Background(), c, 1000, 8, Target{"pulse", 86400}, "cap")
 	if !errors.Is(err, ErrUnreachable) {
 		t.Fatalf("err = %v, want ErrUnreachable", err)
+	}
+}
+
+// A circuit that fires for no value of the part says so, instead of calling the target
+// unreachable by that part.
+func TestSearchNeverFires(t *testing.T) {
+	c := rc()
+	c.Storage.LeakOhm = 1e6 // at 0.001 W/m² the cell gives 5 nA: it settles near 5 mV
+	_, err := Search(context.Background(), c, 0.001, 8, Target{Figure: "period", Value: 30}, "cap")
+	if !errors.Is(err, ErrNeverFires) {
+		t.Fatalf("error %v, want ErrNeverFires", err)
+	}
+}
+
+// Lowering the trigger below its release moves the release with it, keeping the
+// hysteresis; a change that leaves no valid circuit is refused in the parts' names.
+func TestApplyKeepsHysteresis(t *testing.T) {
+	c := rc()
+	on, off := c.Trigger.OnV, c.Trigger.OffV
+	cc, _, err := Apply(c, 100, []Change{{Part: "on", Value: off - 0.1}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got, want := cc.Trigger.OnV-cc.Trigger.OffV, math.Min(on-off, 0.5*(off-0.1)); math.Abs(got-want) > 1e-12 {
+		t.Errorf("hysteresis %v, want %v", got, want)
+	}
+	_, _, err = Apply(c, 100, []Change{{Part: "off", Value: on + 1}})
+	var ce *ChangeError
+	if !errors.As(err, &ce) || !strings.Contains(ce.Reason, "off (") || !strings.Contains(ce.Reason, "on (") {
+		t.Errorf("error %v: want the parts named", err)
 	}
 }

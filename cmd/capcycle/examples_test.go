@@ -145,11 +145,7 @@ var exampleNeeds = map[string]exampleNeed{
 // exampleKnownFaults are examples that fail today for a fault tracked elsewhere, with the
 // exit code and message they give. When the fault is fixed the example exits 0, this test
 // fails, and the entry goes.
-var exampleKnownFaults = map[string]exampleNeed{
-	"capcycle whatif --profile fern.toml --light 80 --set on=2.4 --json": {
-		"the fix of issue 15 item 2 (whatif keeps the release below a lowered trigger)", 2,
-		regexp.MustCompile(`must be below`)},
-}
+var exampleKnownFaults = map[string]exampleNeed{}
 
 // runExample runs one example line: "A & B" runs A until it is ready (a robot prints
 // its port) and then B; "> FILE" sends standard output to FILE; "| ..." drops the

@@ -79,11 +79,14 @@ func runWhatif(ctx context.Context, args []string, e *env) error {
 		q.Target, q.Vary = &tg, vary
 	}
 	rep, err := whatif.Ask(ctx, q)
+	var ce *whatif.ChangeError
 	switch {
+	case errors.As(err, &ce):
+		return usageErrorf("--set: %s", strings.TrimPrefix(ce.Error(), "whatif: "))
+	case errors.Is(err, whatif.ErrBadVary):
+		return usageErrorf("--vary %q: not a part; the parts are %s", vary, strings.Join(whatif.PartNames(), ", "))
 	case errors.Is(err, whatif.ErrNoLight):
 		return usageErrorf("no light to predict at: give --light W/m², an --analysis, or a [light] table in the profile")
-	case errors.Is(err, whatif.ErrBadChange):
-		return usageErrorf("%w", err)
 	case err != nil:
 		return workErrorf("%w", err)
 	}
