@@ -125,6 +125,10 @@ func sourceOf(o *Options, r *capture.Reader) analysis.Source {
 		s.StartRFC = st.UTC().Format(capture.TimeLayout)
 	}
 	s.Lost = int(r.Lost())
+	if p := r.Picked(); p.Volt != "" && !p.Standard() {
+		s.Columns = &analysis.Columns{Time: p.Time, Volt: p.Volt, Current: p.Current,
+			TimeScale: p.TimeScale, VoltScale: p.VoltScale, CurrentScale: p.CurrentScale}
+	}
 	return s
 }
 

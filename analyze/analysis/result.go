@@ -61,6 +61,20 @@ type Source struct {
 	Meta     map[string]string `json:"meta,omitempty"`  // the capture's "# key: value" lines
 	GapsS    float64           `json:"gaps_s"`          // total time inside gaps
 	Lost     int               `json:"lost_samples"`    // samples the recorder counted as lost
+	// Columns names the columns read, when they are not the capture format's own
+	// (time_s, vcap_v, iload_a): a foreign CSV whose columns were picked by name.
+	Columns *Columns `json:"columns,omitempty"`
+}
+
+// Columns are the columns of a foreign CSV the analysis read, by their header names, and
+// the factor that took each to seconds, volts or amperes.
+type Columns struct {
+	Time         string  `json:"time"`
+	Volt         string  `json:"volt"`
+	Current      string  `json:"current,omitempty"`
+	TimeScale    float64 `json:"time_scale"`
+	VoltScale    float64 `json:"volt_scale"`
+	CurrentScale float64 `json:"current_scale,omitempty"`
 }
 
 // Estimate is a fitted or measured value with its standard error. SD is nil when the

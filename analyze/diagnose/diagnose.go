@@ -1,7 +1,6 @@
 package diagnose
 
 import (
-	"fmt"
 	"math"
 	"sort"
 
@@ -126,15 +125,10 @@ func (d *diag) onV() (float64, string) {
 
 func fmtV(v float64) string { return units.Format(v, "V") }
 func fmtS(v float64) string {
-	switch {
-	case math.IsInf(v, 1):
+	if math.IsInf(v, 1) {
 		return "never"
-	case v >= 7200:
-		return fmt.Sprintf("%.3g h", v/3600)
-	case v >= 120:
-		return fmt.Sprintf("%.3g min", v/60)
 	}
-	return units.Format(v, "s")
+	return units.Duration(v)
 }
 
 // nearestStandard rounds a part value to its E-series neighbour (log-nearest).
