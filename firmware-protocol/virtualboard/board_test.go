@@ -318,22 +318,29 @@ func TestResetAndFaults(t *testing.T) {
 }
 
 func TestRealTimePace(t *testing.T) {
-	if testing.Short() {
-		t.Skip("real-time run")
-	}
-	// At Speed 20, 4 world seconds take 0.2 s of wall time: 40 A frames.
-	b := startBoard(t, &Config{Source: constant(1, 1e6), Speed: 20})
-	h := openHost(t, b.Path())
-	start := time.Now()
+	// At Speed 20, 4 world seconds take 0.2 s of the board's wall clock: no frame
+	// reaches the host before its time, and the run ends when the clock has moved
+	// 0.2 s (within a round's sleep). The clock moves only when the board sleeps on
+	// it, so the test measures the pace, not the machine.
+	clk := newStallClock(0, 0)
+	t0 := clk.Now()
+	b, h, done := runBoard(t, &Config{Source: constant(1, 4), Speed: 20, Clock: clk})
 	n := 0
-	for n < 40 {
-		if _, ok := h.next().(wire.Average); ok {
-			n++
+	readAll(t, b, h, done, func(f wire.Frame) {
+		a, ok := f.(wire.Average)
+		if !ok {
+			return
 		}
-	}
-	// The host opened the port after boot, so some frames were lost; only the pace matters.
-	if el := time.Since(start); el < 150*time.Millisecond || el > 2*time.Second {
-		t.Errorf("40 A frames at Speed 20 took %v, want about 0.2 s", el)
+		n++
+		// The host reads after the board made the frame, so the clock must already
+		// be past the frame's last fast sample.
+		last := float64(a.TimeUS)/1e6 + float64(a.N-1)/500
+		if el := clk.Now().Sub(t0).Seconds(); el < last/20 {
+			t.Errorf("A seq %d (to %.3f s of world time) read at %.3f s of wall time: ahead of its pace", a.Seq, last, el)
+		}
+	})
+	if el := clk.Now().Sub(t0); n != 40 || el < 200*time.Millisecond || el > 200*time.Millisecond+2*tick {
+		t.Errorf("%d A frames, the clock moved %v; want 40 in 0.2 s", n, el)
 	}
 }
 
