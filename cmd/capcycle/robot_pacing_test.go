@@ -75,7 +75,7 @@ func (s *stallingWriter) Write(p []byte) (int, error) {
 	return s.w.Write(p)
 }
 
-// demoVerdicts runs the demo (half an hour of model time from 10:00) with the extra
+// demoVerdicts runs the demo (a quarter of an hour of model time from 10:00) with the extra
 // flags and the board hook, and returns for each scenario its verdict's first word(s)
 // (before the colon) and its findings' codes and severities, and the printed output.
 func demoVerdicts(t *testing.T, hook func(*virtualboard.Config), extra ...string) (map[string]string, string) {
@@ -87,7 +87,7 @@ func demoVerdicts(t *testing.T, hook func(*virtualboard.Config), extra ...string
 	// A guard against a hang only; the run waits on its own events.
 	ctx, cancel := context.WithTimeout(context.Background(), 5*time.Minute)
 	defer cancel()
-	args := append([]string{"demo", "--out", dir, "--hours", "0.5", "--start", "10:00"}, extra...)
+	args := append([]string{"demo", "--out", dir, "--hours", "0.25", "--start", "10:00"}, extra...)
 	if code := run(ctx, args, &env{stdin: strings.NewReader(""), stdout: &stdout, stderr: &stderr}); code != 0 {
 		t.Fatalf("demo %v: exit %d\nstdout:\n%s\nstderr:\n%s", extra, code, stdout.String(), stderr.String())
 	}
