@@ -180,7 +180,9 @@ func autoSpeed(maxSpeed float64) float64 {
 		return 1
 	}
 	p := math.Pow(10, math.Floor(math.Log10(maxSpeed))-1)
-	return math.Floor(maxSpeed/p) * p
+	// Two digits, without the binary fraction's tail (2.3, not 2.3000000000000003).
+	v, _ := strconv.ParseFloat(strconv.FormatFloat(math.Floor(maxSpeed/p)*p, 'g', 2, 64), 64)
+	return v
 }
 
 // speedValue is the --speed flag: "auto" or a factor of real time, 0 or more.
