@@ -100,7 +100,7 @@ type Config struct {
 type Stats struct {
 	Frames    int64 // frames written to the pseudo-terminal (garbage excluded)
 	Samples   int64 // S and A frames made (sequence numbers used)
-	Dropped   int64 // frames not sent because the transmit queue was full
+	Dropped   int64 // frames not sent because the emulated link's transmit queue was full (Config.Baud)
 	Discarded int64 // frames lost because no host had the port open, or from before a reset
 	Corrupted int64 // frames sent with flipped bits
 	Bursts    int64
