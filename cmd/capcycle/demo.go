@@ -284,6 +284,9 @@ func recordVirtual(ctx context.Context, rig *robotRig, p *profile.Profile, o *de
 	bcfg.TxQueue = 4096
 	var written counter
 	bcfg.Tap = &written
+	if demoBoardHook != nil {
+		demoBoardHook(bcfg)
+	}
 	b, err := virtualboard.Open(bcfg)
 	if err != nil {
 		return nil, workErrorf("%s: %w", rig.Name, err)

@@ -323,6 +323,11 @@ func robotStatus(src *modelSource, b *virtualboard.Board) string {
 	if st.Dropped > 0 || st.Discarded > 0 {
 		fmt.Fprintf(&sb, " (%d dropped, %d with no host)", st.Dropped, st.Discarded)
 	}
+	if st.SlipS >= 1 {
+		// The board fell behind its pace (a slow host, a busy machine) and let the
+		// model wait rather than lose frames.
+		fmt.Fprintf(&sb, ", model held back %.3g s for a slow host", st.SlipS)
+	}
 	return sb.String()
 }
 
