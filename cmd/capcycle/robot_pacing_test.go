@@ -16,7 +16,7 @@ import (
 	"testing"
 	"time"
 
-	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/firmware-protocol/virtualboard"
 )
 
@@ -97,7 +97,7 @@ func demoVerdicts(t *testing.T, hook func(*virtualboard.Config), extra ...string
 		if err != nil {
 			t.Fatal(err)
 		}
-		var r analyze.Result
+		var r analysis.Result
 		if err := json.Unmarshal(raw, &r); err != nil {
 			t.Fatal(err)
 		}
