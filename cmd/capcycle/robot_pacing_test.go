@@ -103,7 +103,7 @@ func demoVerdicts(t *testing.T, hook func(*virtualboard.Config), extra ...string
 		}
 		var findings []string
 		for _, f := range r.Findings {
-			findings = append(findings, f.Severity+" "+f.Code)
+			findings = append(findings, string(f.Severity)+" "+f.Code)
 		}
 		slices.Sort(findings)
 		for _, line := range strings.Split(stdout.String(), "\n") {
