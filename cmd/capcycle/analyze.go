@@ -19,6 +19,7 @@ import (
 	"capcycle/analyze"
 	"capcycle/analyze/analysis"
 	"capcycle/analyze/profile"
+	htmlreport "capcycle/analyze/report"
 	"capcycle/analyze/units"
 	"capcycle/logger/capture"
 )
@@ -184,23 +185,25 @@ func runAnalyze(ctx context.Context, args []string, e *env) error {
 	}
 	if f.cyclesCSV != "" {
 		if err := writeCyclesCSV(f.cyclesCSV, res); err != nil {
-			return workErrorf("analyze: %v", err)
+			return workErrorf("%w", err)
 		}
 	}
 	if f.segmentsCSV != "" {
 		if err := writeSegmentsCSV(f.segmentsCSV, res); err != nil {
-			return workErrorf("analyze: %v", err)
+			return workErrorf("%w", err)
 		}
 	}
 	if f.json {
 		enc := json.NewEncoder(e.stdout)
 		enc.SetIndent("", "  ")
 		if err := enc.Encode(res); err != nil {
-			return workErrorf("analyze: %v", err)
+			return workErrorf("%w", err)
 		}
 		return nil
 	}
-	printSummary(e.stdout, res)
+	if err := htmlreport.WriteText(e.stdout, res); err != nil {
+		return workErrorf("%w", err)
+	}
 	return nil
 }
 
@@ -386,85 +389,4 @@ func writeCSV(path string, rows any) error {
 		return err
 	}
 	return f.Close()
-}
-
-// printSummary writes a few lines for a person.
-func printSummary(w io.Writer, res *analysis.Result) {
-	full, chatter := 0, 0
-	for _, c := range res.Cycles {
-		if c.Kind == analysis.CycleChatter {
-			chatter++
-		} else {
-			full++
-		}
-	}
-	fmt.Fprintf(w, "%s: %d samples over %s", res.Source.Path, res.Samples, units.Format(res.DurationS, units.Second))
-	if res.Noise != nil {
-		fmt.Fprintf(w, ", noise %s", units.Format(res.Noise.RMSV, units.Volt))
-	}
-	fmt.Fprintln(w)
-	fmt.Fprintf(w, "cycles: %d full, %d chatter\n", full, chatter)
-	if c := res.Capacitance; c != nil {
-		how := string(c.F.Origin)
-		switch c.Method {
-		case "current-channel":
-			how = fmt.Sprintf("measured from the load current at %d fires", c.Pulses)
-		case "calibration-resistor":
-			how = "measured through the calibration resistor"
-		}
-		fmt.Fprintf(w, "capacitance: %s (%s)\n", estStr(&c.F, units.Farad), how)
-	}
-	t := res.Fit.Trigger
-	fmt.Fprintf(w, "trigger: %s", t.Kind)
-	if t.OnV != nil {
-		fmt.Fprintf(w, ", fires at %s", estStr(t.OnV, units.Volt))
-	}
-	if t.OffV != nil {
-		fmt.Fprintf(w, ", resets at %s", estStr(t.OffV, units.Volt))
-	}
-	fmt.Fprintln(w)
-	if l := res.Fit.Load; l.TauS != nil {
-		fmt.Fprintf(w, "load: pulse time constant %s", estStr(l.TauS, units.Second))
-		if l.Ohm != nil {
-			fmt.Fprintf(w, ", %s", estStr(l.Ohm, units.Ohm))
-		}
-		if l.Resistive != nil && !*l.Resistive {
-			fmt.Fprint(w, " (not a plain resistor: a motor?)")
-		}
-		fmt.Fprintln(w)
-	}
-	if l := res.Fit.Leak; l.TauS != nil {
-		fmt.Fprintf(w, "leak (%s): time constant %s", l.Method, estStr(l.TauS, units.Second))
-		if l.Ohm != nil {
-			fmt.Fprintf(w, ", %s", estStr(l.Ohm, units.Ohm))
-			if l.ProbeOhm != nil {
-				fmt.Fprintf(w, " besides the probe's %s", units.Format(l.ProbeOhm.Value, units.Ohm))
-			}
-		}
-		if l.QuiescentA != nil {
-			fmt.Fprintf(w, ", constant drain %s", estStr(l.QuiescentA, units.Ampere))
-		}
-		fmt.Fprintln(w)
-	}
-	if c := res.Fit.Cell; c.IscA != nil && c.VocV != nil {
-		fmt.Fprintf(w, "cell: Isc %s, Voc %s\n", units.Format(c.IscA.Value, units.Ampere), units.Format(c.VocV.Value, units.Volt))
-	}
-	if res.EquilibriumV != nil {
-		fmt.Fprintf(w, "settles at %s", estStr(res.EquilibriumV, units.Volt))
-		if res.Equilibrium != nil && res.Equilibrium.Within1PctS != nil {
-			fmt.Fprintf(w, " (within 1 %% after %s)", units.Format(*res.Equilibrium.Within1PctS, units.Second))
-		}
-		fmt.Fprintln(w)
-	}
-	for _, n := range res.Notes {
-		fmt.Fprintf(w, "note: %s\n", n)
-	}
-}
-
-func estStr(e *analysis.Estimate, unit string) string {
-	s := units.Format(e.Value, unit)
-	if e.SD != nil {
-		s += " ± " + units.Format(*e.SD, unit)
-	}
-	return s
 }
