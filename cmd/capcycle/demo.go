@@ -14,10 +14,12 @@ import (
 
 	"capcycle/analyze"
 	"capcycle/analyze/analysis"
+	"capcycle/analyze/model"
 	"capcycle/analyze/profile"
 	htmlreport "capcycle/analyze/report"
 	"capcycle/cmd/capcycle/demodata"
 	"capcycle/firmware-protocol/virtualboard"
+	"capcycle/firmware-protocol/wire"
 	"capcycle/logger"
 )
 
@@ -50,7 +52,7 @@ const (
 
 // demoThr is the burst threshold in counts at the board's oversampled resolution:
 // half of on_v - off_v at the storage node, through ADC0's divider; at least 8 counts.
-func demoThr(p *profile.Profile, rig *robotRig, ebits int) int {
+func demoThr(p *profile.Profile, rig *model.Rig, ebits int) int {
 	swing := p.Trigger.OnV - p.Trigger.OffV
 	if !(swing > 0) || !(rig.RefV > 0) {
 		return 8
@@ -213,7 +215,7 @@ func demoScenario(ctx context.Context, name string, o *demoOptions, capDir strin
 	if err != nil {
 		return nil, workErrorf("built-in profile: %w", err)
 	}
-	rig, err := rigFromProfile(p)
+	rig, err := model.RigFromProfile(p, wire.MaxChannels)
 	if err != nil {
 		return nil, workErrorf("%s: %w", name, err)
 	}
@@ -271,8 +273,8 @@ func demoFlaws(seed uint64) boardFlaws {
 // recordVirtual runs the model behind a virtual board on a pseudo-terminal and records
 // it with the logger over the real serial stack until the model time is over and every
 // byte the board wrote has been read.
-func recordVirtual(ctx context.Context, rig *robotRig, p *profile.Profile, o *demoOptions, path string) (*logger.Summary, error) {
-	src, err := newModelSource(rig, o.hours*3600, demoFastHz)
+func recordVirtual(ctx context.Context, rig *model.Rig, p *profile.Profile, o *demoOptions, path string) (*logger.Summary, error) {
+	src, err := model.NewRigSource(rig, o.hours*3600, demoFastHz)
 	if err != nil {
 		return nil, workErrorf("%s: %w", rig.Name, err)
 	}

@@ -16,6 +16,7 @@ import (
 	"capcycle/analyze/units"
 	"capcycle/cmd/capcycle/demodata"
 	"capcycle/firmware-protocol/virtualboard"
+	"capcycle/firmware-protocol/wire"
 )
 
 // robotCommand is "capcycle robot": the virtual robot on a pseudo-terminal.
@@ -73,7 +74,7 @@ func newRobotFlags(w io.Writer) (*flag.FlagSet, *robotFlags) {
 }
 
 // rig picks the rig the flags ask for.
-func (f *robotFlags) rig() (*robotRig, error) {
+func (f *robotFlags) rig() (*model.Rig, error) {
 	if f.scenario != "" && f.profile != "" {
 		return nil, usageErrorf("give --scenario or --profile, not both")
 	}
@@ -82,7 +83,7 @@ func (f *robotFlags) rig() (*robotRig, error) {
 		if err != nil {
 			return nil, inputError(err)
 		}
-		rig, err := rigFromProfile(p)
+		rig, err := model.RigFromProfile(p, wire.MaxChannels)
 		if err != nil {
 			return nil, inputError(fmt.Errorf("%s: %w", f.profile, err))
 		}
@@ -96,7 +97,7 @@ func (f *robotFlags) rig() (*robotRig, error) {
 	if err != nil {
 		return nil, usageErrorf("--scenario: %v", err)
 	}
-	rig := rigFromScenario(sc)
+	rig := model.RigFromScene(sc)
 	// The board is wired as in the scenario's demo profile (Wren's vcell input, Fern's
 	// divider), when there is one.
 	if raw, err := demodata.Profile(strings.ToLower(name)); err == nil {
@@ -104,11 +105,11 @@ func (f *robotFlags) rig() (*robotRig, error) {
 		if err != nil {
 			return nil, workErrorf("built-in profile: %w", err)
 		}
-		w, err := rigFromProfile(p)
+		w, err := model.RigFromProfile(p, wire.MaxChannels)
 		if err != nil {
 			return nil, workErrorf("built-in profile: %w", err)
 		}
-		rig.Nodes, rig.Div, rig.VPerA, rig.Bits, rig.Ref, rig.RefV = w.Nodes, w.Div, w.VPerA, w.Bits, w.Ref, w.RefV
+		rig.Nodes, rig.Div, rig.VPerA, rig.Bits, rig.RefInternal, rig.RefV = w.Nodes, w.Div, w.VPerA, w.Bits, w.RefInternal, w.RefV
 	}
 	return rig, nil
 }
@@ -137,7 +138,7 @@ func (f *robotFlags) check() error {
 // open makes the model source and the virtual board for the flags; the board is
 // open (its path exists) but not running. It returns the speed the board runs at (the
 // link's budget when --speed is auto) and the link budget of its boot settings.
-func (f *robotFlags) open(rig *robotRig) (*modelSource, *virtualboard.Board, float64, virtualboard.LinkBudget, error) {
+func (f *robotFlags) open(rig *model.Rig) (*model.RigSource, *virtualboard.Board, float64, virtualboard.LinkBudget, error) {
 	if f.bits != 0 {
 		rig.Bits = f.bits
 	}
@@ -145,7 +146,7 @@ func (f *robotFlags) open(rig *robotRig) (*modelSource, *virtualboard.Board, flo
 	if rate == 0 {
 		rate = float64(f.fastHz)
 	}
-	src, err := newModelSource(rig, f.hours*3600, rate)
+	src, err := model.NewRigSource(rig, f.hours*3600, rate)
 	if err != nil {
 		return nil, nil, 0, virtualboard.LinkBudget{}, inputError(fmt.Errorf("robot %s: %w", rig.Name, err))
 	}

@@ -31,17 +31,17 @@ func TestModelSourceFollowsModel(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	rig := rigFromScenario(sc)
-	rig.Nodes = []robotNode{nodeVcap, nodeVcell, nodeNone}
+	rig := model.RigFromScene(sc)
+	rig.Nodes = []model.Node{model.NodeVcap, model.NodeVcell, model.NodeNone}
 	rig.StartS = 12 * 3600 // noon: the sun is on the window and it fires
 	const dur, rate = 120.0, 20.0
-	src, err := newModelSource(rig, dur, rate)
+	src, err := model.NewRigSource(rig, dur, rate)
 	if err != nil {
 		t.Fatal(err)
 	}
 	// The same run through the plain simulator, sampled at the same rate.
 	var want []model.Sample
-	if _, err := model.Simulate(rig.Circuit, shiftLight(rig.Light, rig.StartS),
+	if _, err := model.Simulate(rig.Circuit, model.ShiftLight(rig.Light, rig.StartS),
 		&model.Options{DurationS: dur, RateHz: rate, StartV: rig.StartV, OnSample: func(s model.Sample) { want = append(want, s) }}); err != nil {
 		t.Fatal(err)
 	}
@@ -61,7 +61,7 @@ func TestModelSourceFollowsModel(t *testing.T) {
 			t.Fatalf("at %g s: got %g V, want the mean %g V", mid, v[0], m)
 		}
 	}
-	_, _, fires := src.progress()
+	_, _, fires := src.Progress()
 	if fires == 0 {
 		t.Error("no fire counted in two minutes of noon sun")
 	}
@@ -76,22 +76,22 @@ func TestRigFromProfile(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	rig, err := rigFromProfile(p)
+	rig, err := model.RigFromProfile(p, wire.MaxChannels)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(rig.Nodes) != 2 || rig.Nodes[0] != nodeVcap || rig.Nodes[1] != nodeVcell {
+	if len(rig.Nodes) != 2 || rig.Nodes[0] != model.NodeVcap || rig.Nodes[1] != model.NodeVcell {
 		t.Errorf("nodes %v, want [vcap vcell]", rig.Nodes)
 	}
 	// 1 MΩ over 1 MΩ on both channels (wren.toml).
 	if len(rig.Div) != 2 || rig.Div[0] != 0.5 || rig.Div[1] != 0.5 {
 		t.Errorf("dividers %v, want [0.5 0.5]", rig.Div)
 	}
-	if rig.Bits != 10 || rig.RefV != 5 || rig.Ref != wire.RefAVcc {
-		t.Errorf("ADC %d bits, %g V %s; want 10 bits, 5 V avcc", rig.Bits, rig.RefV, rig.Ref)
+	if rig.Bits != 10 || rig.RefV != 5 || rig.RefInternal {
+		t.Errorf("ADC %d bits, %g V, internal reference %v; want 10 bits, 5 V AVcc", rig.Bits, rig.RefV, rig.RefInternal)
 	}
 	p.Light = nil
-	if _, err := rigFromProfile(p); err == nil || !strings.Contains(err.Error(), "[light]") {
+	if _, err := model.RigFromProfile(p, wire.MaxChannels); err == nil || !strings.Contains(err.Error(), "[light]") {
 		t.Errorf("a profile without light: %v, want an error naming the [light] table", err)
 	}
 }
@@ -100,7 +100,7 @@ func TestRigFromProfile(t *testing.T) {
 // ADC0's divider. 10 bits on 5 V through a divider of 0.5: one LSB is 5/1024/0.5 =
 // 9.765625 mV at the node, so 2 mV rms is 0.2048 LSB.
 func TestBoardConfigNoise(t *testing.T) {
-	rig := &robotRig{Nodes: []robotNode{nodeVcap}, Div: []float64{0.5}, Bits: 10, Ref: wire.RefAVcc, RefV: 5}
+	rig := &model.Rig{Nodes: []model.Node{model.NodeVcap}, Div: []float64{0.5}, Bits: 10, RefV: 5}
 	cfg := boardConfig(rig, nil, boardFlaws{NoiseV: 2e-3})
 	if math.Abs(cfg.NoiseLSB-0.2048) > 1e-12 {
 		t.Errorf("NoiseLSB = %g, want 0.2048", cfg.NoiseLSB)
@@ -223,11 +223,11 @@ func TestRobotFlags(t *testing.T) {
 func TestScenarioWiring(t *testing.T) {
 	for _, c := range []struct {
 		name  string
-		nodes []robotNode
+		nodes []model.Node
 		div0  float64
 	}{
-		{"wren", []robotNode{nodeVcap, nodeVcell}, 0.5},
-		{"fern", []robotNode{nodeVcap}, 1.0 / 3.2},
+		{"wren", []model.Node{model.NodeVcap, model.NodeVcell}, 0.5},
+		{"fern", []model.Node{model.NodeVcap}, 1.0 / 3.2},
 	} {
 		f := &robotFlags{scenario: c.name}
 		rig, err := f.rig()
