@@ -147,25 +147,6 @@ func TestSuggest(t *testing.T) {
 	}
 }
 
-func TestEditDistance(t *testing.T) {
-	for _, tc := range []struct {
-		a, b string
-		d    int
-	}{
-		{"", "", 0}, {"a", "", 1}, {"", "abc", 3},
-		{"kitten", "sitting", 3}, // the textbook Levenshtein example
-		{"profle", "profile", 1}, {"jsno", "json", 1}, {"ca", "abc", 3},
-		{"wärme", "warme", 1},
-	} {
-		if got := editDistance(tc.a, tc.b); got != tc.d {
-			t.Errorf("editDistance(%q, %q) = %d; want %d", tc.a, tc.b, got, tc.d)
-		}
-		if got := editDistance(tc.b, tc.a); got != tc.d {
-			t.Errorf("editDistance(%q, %q) = %d; want %d", tc.b, tc.a, got, tc.d)
-		}
-	}
-}
-
 func TestCommandSuggestionsAndAliases(t *testing.T) {
 	code, _, errs := runCmd(t, "anlyze", "x.csv")
 	if code != exitUsage || !strings.Contains(errs, `did you mean "analyze"?`) {

@@ -49,7 +49,7 @@ func runReport(ctx context.Context, args []string, e *env) error {
 		"capcycle report wren.csv fern.csv --profile wren.toml --profile fern.toml --label-a Wren --label-b Fern",
 		"capcycle report --from-json before.analysis.json after.analysis.json --out compare.html")
 	out := outFlag(fs, "", "the HTML file to write (default: beside the first input, named after it); for one input the analysis JSON and the cycle CSV are written beside it")
-	profiles := &perInputFlag{name: "profile"}
+	profiles := &perInputFlag{Name: "profile"}
 	fs.Var(profiles, "profile", "the bench profile (TOML) describing the circuit, for a capture; for two captures give one for both or one each, in order")
 	force := fs.Bool("force", false, "replace report files that exist already (the capture is never written)")
 	fromJSON := fs.Bool("from-json", false, "the inputs are saved analysis JSON files (capcycle analyze --json), not captures")
@@ -66,7 +66,7 @@ func runReport(ctx context.Context, args []string, e *env) error {
 	default:
 		return usageErrorf("give one input for a report or two for a comparison, not %d", len(inputs))
 	}
-	if err := profiles.check(len(inputs)); err != nil {
+	if err := profiles.Check(len(inputs)); err != nil {
 		return err
 	}
 	results := make([]*analysis.Result, len(inputs))
@@ -74,7 +74,7 @@ func runReport(ctx context.Context, args []string, e *env) error {
 		if *fromJSON {
 			results[i], err = readSavedAnalysis(in)
 		} else {
-			results[i], err = analyseCapture(ctx, in, profiles.forInput(i))
+			results[i], err = analyseCapture(ctx, in, profiles.ForInput(i))
 		}
 		if err != nil {
 			return err
