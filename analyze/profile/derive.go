@@ -39,6 +39,12 @@ type Derived struct {
 	RechargeMinS    float64 // CapF·(OnV−OffV)/IscA: from release to the next fire, s; needs OnV and OffV
 	DrainAtOnA      float64 // steady drain at OnV besides the load: probe + quiescent + leakage (measured, scaled to OnV), A
 
+	// The light of a [light] table of kind "constant" (a windowsill day needs the
+	// circuit model's sun: run the simulation). NaN without one.
+	LightWm2   float64 // the irradiance, W/m²
+	LightCellA float64 // at most what the cell gives at on_v in that light: IscA·G/RefWm2 less on_v/ShuntOhm, A; needs OnV
+	LightVocV  float64 // the cell's open-circuit voltage in that light, VocV + n·Ns·kT/q·ln(G/RefWm2) (n AssumedIdeality when not given), V
+
 	Warnings []string // things in the profile that deserve a second look
 }
 
@@ -60,6 +66,13 @@ type ChannelFigures struct {
 	FullScaleA float64 // load current at the top of the ADC range, (Gain·reference + OffsetV)/(ShuntOhm·AmpGain), A
 	LSBA       float64 // load current per ADC count, A
 	ExpectedA  float64 // highest load current expected: (V − switch drop)/(load + switch on + shunt resistance) at on_v (else rated_v), A; the motor's stall current
+
+	// With a pin capacitor (PinF): the time constant SourceOhm·PinF with which the pin
+	// follows the node, s, and the least pin capacitance that keeps the charge the
+	// converter's sampling capacitor takes from the pin below half a count,
+	// adcSampleF·2^(bits+1), F. PinTauS is 0 without a pin capacitor.
+	PinTauS float64
+	PinMinF float64
 }
 
 // adcSourceOhmMax is the source impedance the ATmega328P-class ADC is designed for
@@ -67,12 +80,24 @@ type ChannelFigures struct {
 // ATmega328P datasheet, ADC section). Above it, a capacitor at the pin is needed.
 const adcSourceOhmMax = 10e3
 
+// adcSampleF is the converter's sample-and-hold capacitance, 14 pF on the ATmega328P
+// (from memory of its datasheet's analog input circuitry figure). A pin capacitor shares
+// its charge with it at every conversion; to move the pin by less than half a count it
+// must be at least adcSampleF·2^(bits+1) (the charge-sharing rule; common practice, no
+// source).
+const adcSampleF = 14e-12
+
+// boltzmannOverQ is k/q, the thermal voltage per kelvin, V/K (CODATA 2018, exact:
+// 1.380649e-23 J/K over 1.602176634e-19 C; testdata/physical_constants_codata2018.csv).
+const boltzmannOverQ = 1.380649e-23 / 1.602176634e-19
+
 // Derive computes the derived figures of p. p must come from Load or Parse.
 func Derive(p *Profile) Derived {
 	nan := math.NaN()
 	d := Derived{
 		StoredAtOnJ: nan, EnergyPerPulseJ: nan, EnergyMinJ: nan, EnergyMaxJ: nan,
 		HoldDrainA: nan, HoldTimeS: nan, FirstChargeMinS: nan, RechargeMinS: nan, DrainAtOnA: nan,
+		LightWm2: nan, LightCellA: nan, LightVocV: nan,
 	}
 	s, t := p.Storage, p.Trigger
 	warn := func(format string, a ...any) { d.Warnings = append(d.Warnings, fmt.Sprintf(format, a...)) }
@@ -156,12 +181,77 @@ func Derive(p *Profile) Derived {
 			warn("channel[%d] (%s): the load may draw up to %s but the current channel's full scale is %s: readings clip, and the amplifier may drive the pin to its own supply (lower shunt_ohm or amp_gain; never let the pin exceed the reference or the supply, or go below 0 V)",
 				i, f.Node, units.Format(f.ExpectedA, units.Ampere), units.Format(f.FullScaleA, units.Ampere))
 		}
-		if f.SourceOhm > adcSourceOhmMax {
-			warn("channel[%d] (%s): the ADC pin sees %s, above the ~10 kΩ the converter is designed for; fit a capacitor (e.g. 100 nF) from the pin to ground",
-				i, f.Node, units.Format(f.SourceOhm, units.Ohm))
+		switch {
+		case f.SourceOhm > adcSourceOhmMax && p.Channels[i].PinF == 0:
+			warn("channel[%d] (%s): the ADC pin sees %s, above the ~10 kΩ the converter is designed for; fit a capacitor of at least %s (e.g. 100 nF) from the pin to ground and declare it with pin_f",
+				i, f.Node, units.Format(f.SourceOhm, units.Ohm), units.Format(f.PinMinF, units.Farad))
+		case p.Channels[i].PinF > 0 && p.Channels[i].PinF < f.PinMinF:
+			warn("channel[%d] (%s): pin_f %s is small against the converter's sampling capacitor (about %s): at least %s keeps the charge it takes below half a count",
+				i, f.Node, units.Format(p.Channels[i].PinF, units.Farad), units.Format(adcSampleF, units.Farad), units.Format(f.PinMinF, units.Farad))
+		}
+		if pulse := pulseS(p, d); f.PinTauS > 0 && pulse > 0 && f.PinTauS > 0.1*pulse {
+			warn("channel[%d] (%s): the pin follows the node with τ = %s (source %s × pin_f %s), not fast against the %s pulse: the reading smooths the fire's drop",
+				i, f.Node, units.Format(f.PinTauS, units.Second), units.Format(f.SourceOhm, units.Ohm), units.Format(p.Channels[i].PinF, units.Farad), units.Format(pulse, units.Second))
 		}
 	}
+	d.light(p, warn)
 	return d
+}
+
+// pulseS is the length of a fire as far as the profile says it (a timer's or plateau's
+// pulse_s, a hold trigger's hold time), or 0.
+func pulseS(p *Profile, d Derived) float64 {
+	switch {
+	case p.Trigger.PulseS > 0:
+		return p.Trigger.PulseS
+	case d.HoldTimeS > 0:
+		return d.HoldTimeS
+	}
+	return 0
+}
+
+// light works out what the cell gives in a constant light, and warns when a voltage
+// trigger can then never fire. The cell current at on_v is bounded above by the
+// photocurrent, which scales with the irradiance (IscA·G/RefWm2), less what the shunt
+// resistance takes at on_v; the diode takes more still, so "at most". The open-circuit
+// voltage falls by n·Ns·kT/q per e-fold of less light (the single-diode model with the
+// photocurrent proportional to the light).
+func (d *Derived) light(p *Profile, warn func(string, ...any)) {
+	l, c, t := p.Light, p.Cell, p.Trigger
+	if l == nil || l.Kind != Constant {
+		return
+	}
+	g := l.IrradianceWm2
+	d.LightWm2 = g
+	n := c.Ideality
+	if n == 0 {
+		n = AssumedIdeality
+	}
+	vt := boltzmannOverQ * c.TempK
+	d.LightVocV = 0
+	if g > 0 {
+		d.LightVocV = math.Max(0, c.VocV+n*float64(c.SeriesCells)*vt*math.Log(g/c.RefWm2))
+	}
+	if t.OnV <= 0 {
+		return
+	}
+	iph := c.IscA * g / c.RefWm2
+	if c.ShuntOhm > 0 {
+		iph -= t.OnV / c.ShuntOhm
+	}
+	d.LightCellA = math.Max(0, iph)
+	if t.Kind != Voltage {
+		return
+	}
+	F := units.Format
+	switch {
+	case d.LightCellA <= d.DrainAtOnA:
+		warn("at %g W/m² (the [light] table) this never fires: the cell gives at most %s at on_v %s, the drains at on_v take %s (probe, quiescent current, leakage)",
+			g, F(d.LightCellA, units.Ampere), F(t.OnV, units.Volt), F(d.DrainAtOnA, units.Ampere))
+	case d.LightVocV <= t.OnV:
+		warn("at %g W/m² (the [light] table) this never fires: the cell's open-circuit voltage falls to about %s, not above on_v %s",
+			g, F(d.LightVocV, units.Volt), F(t.OnV, units.Volt))
+	}
 }
 
 func channelFigures(p *Profile, ch Channel) ChannelFigures {
@@ -188,6 +278,8 @@ func channelFigures(p *Profile, ch Channel) ChannelFigures {
 		f.ExpectedA = peakLoadA(p, ch.ShuntOhm)
 	}
 	f.LoadA = f.ExpectedV / f.LoadOhm
+	f.PinMinF = adcSampleF * math.Ldexp(1, p.ADC.Bits+1)
+	f.PinTauS = f.SourceOhm * ch.PinF
 	return f
 }
 
