@@ -42,8 +42,8 @@ type Derived struct {
 	// The light of a [light] table of kind "constant" (a windowsill day needs the
 	// circuit model's sun: run the simulation). NaN without one.
 	LightWm2   float64 // the irradiance, W/m²
-	LightCellA float64 // at most what the cell gives at on_v in that light: IscA·G/RefWm2 less on_v/ShuntOhm, A; needs OnV
-	LightVocV  float64 // the cell's open-circuit voltage in that light, VocV + n·Ns·kT/q·ln(G/RefWm2) (n AssumedIdeality when not given), V
+	LightCellA float64 // what the cell gives at on_v in that light, at most (see below), A; needs OnV
+	LightVocV  float64 // the cell's open-circuit voltage in that light, at most (see below), V
 
 	Warnings []string // things in the profile that deserve a second look
 }
@@ -211,11 +211,18 @@ func pulseS(p *Profile, d Derived) float64 {
 }
 
 // light works out what the cell gives in a constant light, and warns when a voltage
-// trigger can then never fire. The cell current at on_v is bounded above by the
-// photocurrent, which scales with the irradiance (IscA·G/RefWm2), less what the shunt
-// resistance takes at on_v; the diode takes more still, so "at most". The open-circuit
-// voltage falls by n·Ns·kT/q per e-fold of less light (the single-diode model with the
-// photocurrent proportional to the light).
+// trigger can then never fire. It uses the single-diode model of the whole panel without
+// its series resistance (which only lowers the current): the photocurrent scales with
+// the irradiance, Iph = IscA·G/RefWm2, and the cell gives
+//
+//	I(V) = Iph − I0·(exp(V/a) − 1) − V/ShuntOhm,   a = n·Ns·kT/q,
+//
+// with n the ideality (AssumedIdeality when not given), Ns the cells in series, and I0
+// and the photocurrent at RefWm2 solved, as the circuit model solves them, through the
+// rated points (0, IscA) and (VocV, 0) (or from saturation_a). LightCellA is I(on_v) and
+// LightVocV the V of I(V) = 0: without a series resistance they are the circuit model's
+// figures, with one they are upper bounds, so a warning that the circuit never fires is
+// safe to believe.
 func (d *Derived) light(p *Profile, warn func(string, ...any)) {
 	l, c, t := p.Light, p.Cell, p.Trigger
 	if l == nil || l.Kind != Constant {
@@ -227,27 +234,60 @@ func (d *Derived) light(p *Profile, warn func(string, ...any)) {
 	if n == 0 {
 		n = AssumedIdeality
 	}
-	vt := boltzmannOverQ * c.TempK
-	d.LightVocV = 0
-	if g > 0 {
-		d.LightVocV = math.Max(0, c.VocV+n*float64(c.SeriesCells)*vt*math.Log(g/c.RefWm2))
+	a := n * float64(c.SeriesCells) * boltzmannOverQ * c.TempK
+	// I0 and the photocurrent at RefWm2 through the rated points (0, Isc) and (Voc, 0)
+	// of the full model, series resistance Rs included (as the circuit model does).
+	gsh := 0.0
+	if c.ShuntOhm > 0 {
+		gsh = 1 / c.ShuntOhm
 	}
+	e1 := math.Expm1(c.IscA * c.SeriesOhm / a)
+	i0, iphRef := c.SaturationA, 0.0
+	if i0 > 0 {
+		iphRef = c.IscA*(1+c.SeriesOhm*gsh) + i0*e1
+	} else {
+		e2 := math.Expm1(c.VocV / a)
+		i0 = (c.IscA*(1+c.SeriesOhm*gsh) - c.VocV*gsh) / (e2 - e1)
+		iphRef = c.VocV*gsh + i0*e2
+	}
+	iph := iphRef * g / c.RefWm2
+	cur := func(v float64) float64 {
+		i := iph - i0*math.Expm1(v/a)
+		if c.ShuntOhm > 0 {
+			i -= v / c.ShuntOhm
+		}
+		if math.IsNaN(i) {
+			return math.Inf(-1)
+		}
+		return i
+	}
+	// I(V) falls with V: bisect for I = 0 between 0 and the voltage without a shunt.
+	lo, hi := 0.0, a*math.Log1p(iph/i0)
+	for k := 0; k < 100 && hi-lo > 1e-9; k++ {
+		if mid := (lo + hi) / 2; cur(mid) > 0 {
+			lo = mid
+		} else {
+			hi = mid
+		}
+	}
+	d.LightVocV = lo
 	if t.OnV <= 0 {
 		return
 	}
-	iph := c.IscA * g / c.RefWm2
-	if c.ShuntOhm > 0 {
-		iph -= t.OnV / c.ShuntOhm
-	}
-	d.LightCellA = math.Max(0, iph)
+	d.LightCellA = math.Max(0, cur(t.OnV))
 	if t.Kind != Voltage {
 		return
 	}
 	F := units.Format
 	switch {
 	case d.LightCellA <= d.DrainAtOnA:
-		warn("at %g W/m² (the [light] table) this never fires: the cell gives at most %s at on_v %s, the drains at on_v take %s (probe, quiescent current, leakage)",
-			g, F(d.LightCellA, units.Ampere), F(t.OnV, units.Volt), F(d.DrainAtOnA, units.Ampere))
+		how := fmt.Sprintf(" (of %s of photocurrent", F(iph, units.Ampere))
+		if c.ShuntOhm > 0 {
+			how += fmt.Sprintf("; its shunt resistance alone takes %s", F(t.OnV/c.ShuntOhm, units.Ampere))
+		}
+		how += ")"
+		warn("at %g W/m² (the [light] table) this never fires: the cell gives at most %s at on_v %s%s, the drains at on_v take %s (probe, quiescent current, leakage)",
+			g, F(d.LightCellA, units.Ampere), F(t.OnV, units.Volt), how, F(d.DrainAtOnA, units.Ampere))
 	case d.LightVocV <= t.OnV:
 		warn("at %g W/m² (the [light] table) this never fires: the cell's open-circuit voltage falls to about %s, not above on_v %s",
 			g, F(d.LightVocV, units.Volt), F(t.OnV, units.Volt))

@@ -146,3 +146,47 @@ func FuzzLoaderValues(f *testing.F) {
 		}
 	})
 }
+
+// Derive's figures for a constant light agree with the circuit model's cell: the same
+// open-circuit voltage and current at on_v without a series resistance, and no less with
+// one (Derive leaves it out, so its figures are upper bounds).
+func TestLightFiguresAgreeWithModel(t *testing.T) {
+	constant := func(s, g string) string {
+		i := strings.Index(s, "[light]")
+		return s[:i] + "[light]\nkind = \"constant\"\nirradiance_w_m2 = " + g + "\n"
+	}
+	wren, _ := os.ReadFile("../../testdata/profiles/wren.toml")
+	fern, _ := os.ReadFile("../../testdata/profiles/fern.toml")
+	cases := []struct{ name, text string }{
+		{"Wren at 300 W/m²", constant(string(wren), "300")},
+		{"Wren at 4 W/m²", constant(string(wren), "4")},
+		{"Fern at 40 W/m²", constant(string(fern), "40")},
+		{"Fern at 4 W/m²", constant(string(fern), "4")},
+		{"Fern without a shunt at 4 W/m²", constant(strings.Replace(string(fern), "shunt_ohm", "# shunt_ohm", 1), "4")},
+		{"Wren with a series resistance", constant(strings.Replace(string(wren), "series_cells = 5", "series_cells = 5\nseries_ohm = 20", 1), "300")},
+		{"Wren with a saturation current", constant(strings.Replace(string(wren), "series_cells = 5", "series_cells = 5\nsaturation_a = \"1n\"", 1), "300")},
+	}
+	for _, tc := range cases {
+		t.Run(tc.name, func(t *testing.T) {
+			p, err := profile.Parse("light.toml", []byte(tc.text))
+			if err != nil {
+				t.Fatal(err)
+			}
+			d := profile.Derive(p)
+			c, _, err := model.FromProfile(p)
+			if err != nil {
+				t.Fatal(err)
+			}
+			g := p.Light.IrradianceWm2
+			voc, cur := c.Cell.OpenCircuitV(g), math.Max(0, c.Cell.Current(p.Trigger.OnV, g))
+			if p.Cell.SeriesOhm == 0 {
+				if math.Abs(d.LightVocV-voc) > 1e-6 || math.Abs(d.LightCellA-cur) > 1e-9+1e-6*cur {
+					t.Errorf("Derive: Voc %.6g V, %.6g A at on_v; model: %.6g V, %.6g A", d.LightVocV, d.LightCellA, voc, cur)
+				}
+			} else if d.LightVocV < voc-1e-6 || d.LightCellA < cur-1e-9 {
+				t.Errorf("Derive: Voc %.6g V, %.6g A at on_v, below the model's %.6g V, %.6g A", d.LightVocV, d.LightCellA, voc, cur)
+			}
+			t.Logf("Voc %.4g V (model %.4g), %.4g A at on_v (model %.4g); drains %.4g A", d.LightVocV, voc, d.LightCellA, cur, d.DrainAtOnA)
+		})
+	}
+}

@@ -161,9 +161,13 @@ func printProfile(w io.Writer, file string, p *profile.Profile, d profile.Derive
 				F(ch.ShuntOhm, units.Ohm), ch.AmpGain, F(ch.VoltsPerAmp(), "V"), F(c.FullScaleA, "A"), F(c.LSBA, "A"), F(c.ExpectedA, "A"))
 			continue
 		}
-		row(fmt.Sprintf("channel %d: %s", c.ADC, c.Node), "ratio %.4g (%s / %s), full scale %s, %s per count, draws %s at %s",
+		pin := ""
+		if ch.PinF > 0 {
+			pin = fmt.Sprintf(", pin capacitor %s (the pin follows with τ %s)", F(ch.PinF, "F"), duration(c.PinTauS))
+		}
+		row(fmt.Sprintf("channel %d: %s", c.ADC, c.Node), "ratio %.4g (%s / %s), full scale %s, %s per count, draws %s at %s%s",
 			c.Ratio, F(ch.TopOhm, units.Ohm), F(ch.BottomOhm, units.Ohm), F(c.FullScaleV, "V"), F(c.LSBV, "V"),
-			F(c.LoadA, "A"), F(c.ExpectedV, "V"))
+			F(c.LoadA, "A"), F(c.ExpectedV, "V"), pin)
 	}
 	row("probe load on vcap", "%s at %s (%s across the capacitor; alone it would drain it with τ %s)",
 		F(d.ProbeLoadA, "A"), F(d.ProbeAtV, "V"), F(d.ProbeLoadOhm, units.Ohm), duration(d.ProbeTauS))
@@ -183,6 +187,7 @@ func printProfile(w io.Writer, file string, p *profile.Profile, d profile.Derive
 	row("first charge", "%s", orWhy(d.FirstChargeMinS, "s", "needs on_v", " at least, from 0 V at the rated Isc without losses"))
 	row("recharge", "%s", orWhy(d.RechargeMinS, "s", "needs on_v and off_v", " at least, from release at the rated Isc without losses"))
 	row("drain at on_v", "%s", orWhy(d.DrainAtOnA, "A", "needs on_v", " besides the load: probe, quiescent current, measured leakage"))
+	row("light", "%s", describeLight(p, d))
 	tw.Flush()
 	if len(d.Warnings) > 0 {
 		fmt.Fprintln(w, "\nworth a second look:")
@@ -223,6 +228,23 @@ func describeTrigger(t profile.Trigger) string {
 		fmt.Fprintf(&b, ", draws %s", F(t.QuiescentA, "A"))
 	}
 	return b.String()
+}
+
+// describeLight says what the [light] table gives the cell.
+func describeLight(p *profile.Profile, d profile.Derived) string {
+	F := units.Format
+	l := p.Light
+	switch {
+	case l == nil:
+		return "no [light] table (the virtual robot of robot and demo needs one)"
+	case l.Kind == profile.Windowsill:
+		return fmt.Sprintf("a windowsill day, %s at %g°, the window facing %g° (simulate and whatif work out its light)", l.Date, l.LatitudeDeg, l.AzimuthDeg)
+	}
+	s := fmt.Sprintf("constant %g W/m²: cell open-circuit voltage about %s", l.IrradianceWm2, F(d.LightVocV, "V"))
+	if !math.IsNaN(d.LightCellA) {
+		s += fmt.Sprintf(", at most %s at on_v", F(d.LightCellA, "A"))
+	}
+	return s
 }
 
 func describeLoad(l profile.LoadSpec) string {
