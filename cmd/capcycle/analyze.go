@@ -189,6 +189,7 @@ func runAnalyze(ctx context.Context, args []string, e *env) error {
 	if bar != nil {
 		bar.done()
 	}
+	printReaderNotes(e.stderr, r)
 	if err != nil {
 		var pe *capture.ParseError
 		if errors.As(err, &pe) {
