@@ -224,12 +224,27 @@ func pulseS(p *Profile, d Derived) float64 {
 // figures, with one they are upper bounds, so a warning that the circuit never fires is
 // safe to believe.
 func (d *Derived) light(p *Profile, warn func(string, ...any)) {
-	l, c, t := p.Light, p.Cell, p.Trigger
-	if l == nil || l.Kind != Constant {
+	if p.Light == nil || p.Light.Kind != Constant {
 		return
 	}
-	g := l.IrradianceWm2
+	g := p.Light.IrradianceWm2
 	d.LightWm2 = g
+	var atOn float64
+	d.LightVocV, atOn, _ = CellInLight(p, g)
+	if p.Trigger.OnV > 0 {
+		d.LightCellA = atOn
+	}
+	if w := NeverFires(p, *d, g, fmt.Sprintf("at %g W/m² (the [light] table)", g)); w != "" {
+		warn("%s", w)
+	}
+}
+
+// CellInLight returns the cell's open-circuit voltage and its current at the trigger's
+// on_v (NaN without one) at irradiance g, W/m², and its photocurrent there, as the light
+// figures of Derive (see Derived.light for the model): without a series resistance the
+// circuit model's own figures, with one upper bounds.
+func CellInLight(p *Profile, g float64) (vocV, atOnA, photoA float64) {
+	c := p.Cell
 	n := c.Ideality
 	if n == 0 {
 		n = AssumedIdeality
@@ -250,12 +265,9 @@ func (d *Derived) light(p *Profile, warn func(string, ...any)) {
 		i0 = (c.IscA*(1+c.SeriesOhm*gsh) - c.VocV*gsh) / (e2 - e1)
 		iphRef = c.VocV*gsh + i0*e2
 	}
-	iph := iphRef * g / c.RefWm2
+	iph := iphRef * math.Max(g, 0) / c.RefWm2
 	cur := func(v float64) float64 {
-		i := iph - i0*math.Expm1(v/a)
-		if c.ShuntOhm > 0 {
-			i -= v / c.ShuntOhm
-		}
+		i := iph - i0*math.Expm1(v/a) - v*gsh
 		if math.IsNaN(i) {
 			return math.Inf(-1)
 		}
@@ -270,28 +282,38 @@ func (d *Derived) light(p *Profile, warn func(string, ...any)) {
 			hi = mid
 		}
 	}
-	d.LightVocV = lo
-	if t.OnV <= 0 {
-		return
+	atOnA = math.NaN()
+	if p.Trigger.OnV > 0 {
+		atOnA = math.Max(0, cur(p.Trigger.OnV))
 	}
-	d.LightCellA = math.Max(0, cur(t.OnV))
-	if t.Kind != Voltage {
-		return
+	return lo, atOnA, iph
+}
+
+// NeverFires returns why a voltage trigger can never fire at irradiance g (W/m²), the
+// light described by where ("at 4 W/m² (the [light] table)"): the cell gives no more at
+// on_v than the drains there take (d.DrainAtOnA), or its open-circuit voltage is not
+// above on_v. It returns "" when it may fire, for other triggers, and without on_v.
+func NeverFires(p *Profile, d Derived, g float64, where string) string {
+	t, c := p.Trigger, p.Cell
+	if t.Kind != Voltage || t.OnV <= 0 || math.IsNaN(d.DrainAtOnA) {
+		return ""
 	}
+	voc, atOn, iph := CellInLight(p, g)
 	F := units.Format
 	switch {
-	case d.LightCellA <= d.DrainAtOnA:
+	case atOn <= d.DrainAtOnA:
 		how := fmt.Sprintf(" (of %s of photocurrent", F(iph, units.Ampere))
 		if c.ShuntOhm > 0 {
 			how += fmt.Sprintf("; its shunt resistance alone takes %s", F(t.OnV/c.ShuntOhm, units.Ampere))
 		}
 		how += ")"
-		warn("at %g W/m² (the [light] table) this never fires: the cell gives at most %s at on_v %s%s, the drains at on_v take %s (probe, quiescent current, leakage)",
-			g, F(d.LightCellA, units.Ampere), F(t.OnV, units.Volt), how, F(d.DrainAtOnA, units.Ampere))
-	case d.LightVocV <= t.OnV:
-		warn("at %g W/m² (the [light] table) this never fires: the cell's open-circuit voltage falls to about %s, not above on_v %s",
-			g, F(d.LightVocV, units.Volt), F(t.OnV, units.Volt))
+		return fmt.Sprintf("%s this never fires: the cell gives at most %s at on_v %s%s, the drains at on_v take %s (probe, quiescent current, leakage)",
+			where, F(atOn, units.Ampere), F(t.OnV, units.Volt), how, F(d.DrainAtOnA, units.Ampere))
+	case voc <= t.OnV:
+		return fmt.Sprintf("%s this never fires: the cell's open-circuit voltage falls to about %s, not above on_v %s",
+			where, F(voc, units.Volt), F(t.OnV, units.Volt))
 	}
+	return ""
 }
 
 func channelFigures(p *Profile, ch Channel) ChannelFigures {

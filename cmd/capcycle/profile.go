@@ -11,6 +11,7 @@ import (
 	"strings"
 	"text/tabwriter"
 
+	"capcycle/analyze/model"
 	"capcycle/analyze/profile"
 	"capcycle/analyze/units"
 )
@@ -125,8 +126,39 @@ func profileCheck(args []string, e *env) error {
 		}
 		return inputError(err)
 	}
-	printProfile(e.stdout, fs.Arg(0), p, profile.Derive(p))
+	d := profile.Derive(p)
+	if g, at, ok := dayPeak(p); ok {
+		if w := profile.NeverFires(p, d, g, fmt.Sprintf("even at the windowsill day's brightest, %.3g W/m² at %s solar time (the [light] table),", g, clock(at))); w != "" {
+			d.Warnings = append(d.Warnings, w)
+		}
+	}
+	printProfile(e.stdout, fs.Arg(0), p, d)
 	return nil
+}
+
+// dayPeak returns the brightest irradiance of a windowsill [light] day (W/m²) and its
+// time (seconds from midnight, solar time), from the circuit model's light sampled every
+// minute; ok is false for any other light.
+func dayPeak(p *profile.Profile) (g, atS float64, ok bool) {
+	if p.Light == nil || p.Light.Kind != profile.Windowsill {
+		return 0, 0, false
+	}
+	_, light, err := model.FromProfile(p)
+	if err != nil || light == nil {
+		return 0, 0, false
+	}
+	for t := 0.0; t < 86400; t += 60 {
+		if x := light.IrradianceWm2(t); x > g {
+			g, atS = x, t
+		}
+	}
+	return g, atS, true
+}
+
+// clock formats seconds from midnight as HH:MM.
+func clock(s float64) string {
+	m := int(s / 60)
+	return fmt.Sprintf("%02d:%02d", m/60, m%60)
 }
 
 // printProfile writes the checked profile and its derived figures.
@@ -238,7 +270,15 @@ func describeLight(p *profile.Profile, d profile.Derived) string {
 	case l == nil:
 		return "no [light] table (the virtual robot of robot and demo needs one)"
 	case l.Kind == profile.Windowsill:
-		return fmt.Sprintf("a windowsill day, %s at %g°, the window facing %g° (simulate and whatif work out its light)", l.Date, l.LatitudeDeg, l.AzimuthDeg)
+		s := fmt.Sprintf("a windowsill day, %s at %g°, the window facing %g°", l.Date, l.LatitudeDeg, l.AzimuthDeg)
+		if g, at, ok := dayPeak(p); ok {
+			voc, atOn, _ := profile.CellInLight(p, g)
+			s += fmt.Sprintf(": brightest %.3g W/m² at %s solar time, cell open-circuit voltage then about %s", g, clock(at), F(voc, "V"))
+			if !math.IsNaN(atOn) {
+				s += fmt.Sprintf(", at most %s at on_v", F(atOn, "A"))
+			}
+		}
+		return s
 	}
 	s := fmt.Sprintf("constant %g W/m²: cell open-circuit voltage about %s", l.IrradianceWm2, F(d.LightVocV, "V"))
 	if !math.IsNaN(d.LightCellA) {
