@@ -1,11 +1,15 @@
 package main
 
 import (
+	"math"
 	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
 	"testing"
+
+	"capcycle/analyze"
+	"capcycle/logger/capture"
 )
 
 // analyze prints the capture reader's warnings with file:line, and the time origin of a
@@ -49,5 +53,53 @@ func TestAnalyzePrintsReaderNotes(t *testing.T) {
 				}
 			}
 		})
+	}
+}
+
+// The same capture with its time stamps in epoch milliseconds gives the same analysis:
+// the reader counts them from their origin, so no resolution is lost and nothing grows
+// with the offset.
+func TestAnalyzeEpochMillisecondsSameAsFromZero(t *testing.T) {
+	src, err := os.ReadFile("../../testdata/captures/wren-rc-10min.csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var b strings.Builder
+	for _, line := range strings.Split(strings.TrimSuffix(string(src), "\n"), "\n") {
+		switch {
+		case strings.HasPrefix(line, "#"):
+			b.WriteString(line + "\n")
+		case strings.HasPrefix(line, "time_s,"):
+			b.WriteString("time_ms" + strings.TrimPrefix(line, "time_s") + "\n")
+		default:
+			ts, rest, _ := strings.Cut(line, ",")
+			whole, frac, _ := strings.Cut(ts, ".") // seconds with 6 decimals
+			frac = (frac + "000000")[:6]
+			w, _ := strconv.ParseInt(whole, 10, 64)
+			f, _ := strconv.ParseInt(frac, 10, 64)
+			us := 1796117400000000 + w*1000000 + f // epoch microseconds
+			b.WriteString(strconv.FormatInt(us/1000, 10) + "." + strconv.FormatInt(1000+us%1000, 10)[1:] + "," + rest + "\n")
+		}
+	}
+	read := func(name, text string) *analyze.Result {
+		res, err := analyze.Run(capture.NewReader(strings.NewReader(text), name), nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return res
+	}
+	zero, epoch := read("zero.csv", string(src)), read("epoch.csv", b.String())
+	if len(zero.Cycles) == 0 || len(epoch.Cycles) != len(zero.Cycles) || epoch.Samples != zero.Samples {
+		t.Fatalf("%d cycles of %d samples from zero, %d of %d in epoch milliseconds", len(zero.Cycles), zero.Samples, len(epoch.Cycles), epoch.Samples)
+	}
+	for i, c := range zero.Cycles {
+		e := epoch.Cycles[i]
+		if math.Abs(e.FireS-c.FireS) > 1e-9 || math.Abs(e.ResetS-c.ResetS) > 1e-9 || math.Abs(e.FireV-c.FireV) > 1e-9 {
+			t.Errorf("cycle %d: fire %.9f s %g V from zero, %.9f s %g V in epoch ms", i, c.FireS, c.FireV, e.FireS, e.FireV)
+		}
+	}
+	if math.Abs(epoch.DurationS-zero.DurationS) > 1e-9 || epoch.Noise == nil || zero.Noise == nil ||
+		math.Abs(epoch.Noise.RMSV-zero.Noise.RMSV) > 1e-3*zero.Noise.RMSV {
+		t.Errorf("duration %v / %v s, noise %+v / %+v", zero.DurationS, epoch.DurationS, zero.Noise, epoch.Noise)
 	}
 }
