@@ -180,6 +180,7 @@ func runAnalyze(ctx context.Context, args []string, e *env) error {
 	if bar != nil {
 		bar.done()
 	}
+	printReaderNotes(e.stderr, r)
 	if err != nil {
 		return analysisError(err)
 	}
