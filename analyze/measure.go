@@ -125,6 +125,11 @@ func sourceOf(o *Options, r *capture.Reader) analysis.Source {
 		s.StartRFC = st.UTC().Format(capture.TimeLayout)
 	}
 	s.Lost = int(r.Lost())
+	s.OriginS = r.OriginS()
+	for _, w := range r.Warnings() {
+		s.Warnings = append(s.Warnings, w.Error())
+	}
+	s.WarningCount = r.WarningCount()
 	if p := r.Picked(); p.Volt != "" && !p.Standard() {
 		s.Columns = &analysis.Columns{Time: p.Time, Volt: p.Volt, Current: p.Current,
 			TimeScale: p.TimeScale, VoltScale: p.VoltScale, CurrentScale: p.CurrentScale}

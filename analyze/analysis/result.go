@@ -64,6 +64,15 @@ type Source struct {
 	// Columns names the columns read, when they are not the capture format's own
 	// (time_s, vcap_v, iload_a): a foreign CSV whose columns were picked by name.
 	Columns *Columns `json:"columns,omitempty"`
+	// OriginS is what the reader subtracted from time stamps that start far from zero
+	// (epoch seconds or milliseconds, in seconds): time_s of the analysis plus OriginS is
+	// the capture's own time stamp. 0 when the capture starts near zero.
+	OriginS float64 `json:"origin_s,omitempty"`
+	// Warnings are the reader's complaints about lines it read past (file:line and what
+	// was expected; nothing in such a line was used as data): the first 100, of
+	// WarningCount in all.
+	Warnings     []string `json:"warnings,omitempty"`
+	WarningCount int      `json:"warning_count,omitempty"`
 }
 
 // Columns are the columns of a foreign CSV the analysis read, by their header names, and

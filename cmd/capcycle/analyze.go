@@ -180,10 +180,10 @@ func runAnalyze(ctx context.Context, args []string, e *env) error {
 	if bar != nil {
 		bar.done()
 	}
-	printReaderNotes(e.stderr, r)
 	if err != nil {
 		return analysisError(err)
 	}
+	printReaderNotes(e.stderr, &res.Source)
 	if f.cyclesCSV != "" {
 		if err := writeCyclesCSV(f.cyclesCSV, res); err != nil {
 			return workErrorf("%w", err)

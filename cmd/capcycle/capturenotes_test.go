@@ -1,6 +1,7 @@
 package main
 
 import (
+	"context"
 	"math"
 	"os"
 	"path/filepath"
@@ -9,6 +10,7 @@ import (
 	"testing"
 
 	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/logger/capture"
 )
 
@@ -81,8 +83,8 @@ func TestAnalyzeEpochMillisecondsSameAsFromZero(t *testing.T) {
 			b.WriteString(strconv.FormatInt(us/1000, 10) + "." + strconv.FormatInt(1000+us%1000, 10)[1:] + "," + rest + "\n")
 		}
 	}
-	read := func(name, text string) *analyze.Result {
-		res, err := analyze.Run(capture.NewReader(strings.NewReader(text), name), nil)
+	read := func(name, text string) *analysis.Result {
+		res, err := analyze.Run(context.Background(), capture.NewReader(strings.NewReader(text), name), nil)
 		if err != nil {
 			t.Fatal(err)
 		}

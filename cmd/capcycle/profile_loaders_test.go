@@ -81,7 +81,7 @@ func checkThenLoad(t *testing.T, dir, text string) bool {
 		t.Fatalf("check passed, record refused: %v\n%s", err, text)
 	}
 	if p.Light != nil {
-		if _, err := rigFromProfile(p); err != nil {
+		if _, err := model.RigFromProfile(p, wire.MaxChannels); err != nil {
 			t.Fatalf("check passed, the virtual robot refused: %v\n%s", err, text)
 		}
 	}

@@ -20,4 +20,3 @@ func TestEditDistance(t *testing.T) {
 		}
 	}
 }
-
