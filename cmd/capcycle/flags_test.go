@@ -247,14 +247,14 @@ func TestSimulateRate(t *testing.T) {
 	// Wren: 4.7 mF into an 18 Ω armature through a 0.4 Ω switch (testdata/profiles/wren.toml):
 	// τ = 4.7e-3 · 18.4 = 86.48 ms (hand arithmetic); 5 samples in it need 57.8 Hz, and the
 	// next step of 10, 20, 50, 100 Hz is 100 Hz.
-	pulse, _ := expectedPulse(sc.Circuit)
+	pulse, _ := model.ExpectedPulse(sc.Circuit)
 	if math.Abs(pulse-0.08648) > 1e-9 {
 		t.Errorf("Wren's load time constant %g s; want 0.08648", pulse)
 	}
-	if r := defaultRate(pulse); r != 100 {
+	if r := model.RateFor(pulse); r != 100 {
 		t.Errorf("default rate for Wren %g Hz; want 100", r)
 	}
-	if r := defaultRate(30); r != model.DefaultRateHz {
+	if r := model.RateFor(30); r != model.DefaultRateHz {
 		t.Errorf("default rate for a 30 s pulse %g Hz; want %g", r, model.DefaultRateHz)
 	}
 

@@ -51,7 +51,7 @@ func runSimulate(ctx context.Context, args []string, e *env) error {
 	light := units.NewValue(0, "W/m²", units.NonNegative)
 	fset.Var(light, "light", "a constant irradiance on the cell, W/m² (default: the profile's or the scenario's light; full sun is about 1000)")
 	hours := fset.Float64("hours", 24, "length of the simulated run, hours")
-	rate := fset.Float64("rate", 0, "sample rate of the written trajectory, Hz (default: enough for "+strconv.Itoa(minSamplesPerPulse)+" samples in the load's time constant, at least 10 Hz)")
+	rate := fset.Float64("rate", 0, "sample rate of the written trajectory, Hz (default: enough for "+strconv.Itoa(model.MinSamplesPerPulse)+" samples in the load's time constant, at least 10 Hz)")
 	out := outFlag(fset, "", "capture file to write (default: standard output)")
 	force := fset.Bool("force", false, "replace the output file if it exists")
 	current := fset.Bool("current", false, "also write the load current ("+capture.ColIload+"), as a current channel would measure it")
@@ -84,49 +84,14 @@ func runSimulate(ctx context.Context, args []string, e *env) error {
 		setup.light = model.Constant(light.V)
 		setup.source += " light=" + units.Format(light.V, "W/m²")
 	}
-	pulse, what := expectedPulse(setup.circuit)
+	pulse, what := model.ExpectedPulse(setup.circuit)
 	if !isSet(fset, "rate") {
-		*rate = defaultRate(pulse)
-	} else if pulse > 0 && *rate*pulse < minSamplesPerPulse {
+		*rate = model.RateFor(pulse)
+	} else if pulse > 0 && *rate*pulse < model.MinSamplesPerPulse {
 		fmt.Fprintf(e.stderr, "capcycle simulate: warning: --rate %g Hz gives %.1f samples per %s of %s: pulses will be missed or flattened; use --rate %g or more (or leave --rate out)\n",
-			*rate, *rate*pulse, what, units.Format(pulse, "s"), defaultRate(pulse))
+			*rate, *rate*pulse, what, units.Format(pulse, "s"), model.RateFor(pulse))
 	}
 	return simulateTo(ctx, setup, *hours*3600, *rate, *out, *force, *current, e)
-}
-
-// minSamplesPerPulse is the fewest samples per expected pulse for the pulse to keep its
-// shape in the capture (common practice, no source: a handful of points per time constant
-// for a curve to be followed).
-const minSamplesPerPulse = 5
-
-// expectedPulse is the time scale of the circuit's pulse, seconds, and what it is: a
-// timer's or a fixed on time when the trigger has one, otherwise the load's time constant
-// C·(R_load + R_on), over which the storage voltage falls to 1/e of its drop while the
-// switch is on. It is 0 when the circuit has no trigger.
-func expectedPulse(c *model.Circuit) (float64, string) {
-	t := c.Trigger
-	switch {
-	case t.Kind == model.TriggerNone:
-		return 0, ""
-	case t.Kind == model.TriggerTimer, t.Kind == model.TriggerPlateau && t.OffV == 0:
-		return t.PulseS, "the trigger's on time"
-	}
-	return c.Storage.CapF * (c.Load.Ohm + c.Switch.OnOhm), "the load's time constant"
-}
-
-// defaultRate is the lowest rate on the 1-2-5 series that gives minSamplesPerPulse samples
-// per pulse, and at least model.DefaultRateHz.
-func defaultRate(pulseS float64) float64 {
-	rate := model.DefaultRateHz
-	if !(pulseS > 0) {
-		return rate
-	}
-	for _, step := range []float64{1, 2, 5, 10, 20, 50, 100, 200, 500, 1000, 2000, 5000, 10000, 20000, 50000, 100000} {
-		if r := step * model.DefaultRateHz; r*pulseS >= minSamplesPerPulse || r >= 100e3 {
-			return max(rate, r)
-		}
-	}
-	return 100e3
 }
 
 // isSet reports whether the flag name was given on the command line.
@@ -167,10 +132,8 @@ func simulateTo(ctx context.Context, s *simulateSetup, durS, rate float64, out s
 		Notes:    []string{"simulated by the capcycle circuit model; not a measurement"},
 		Channels: []capture.Channel{{Column: capture.ColVcap}},
 	}
-	row := []float64{0}
 	if current {
 		h.Channels = append(h.Channels, capture.Channel{Column: capture.ColIload})
-		row = append(row, 0)
 	}
 	var w *capture.Writer
 	if out == "" || out == "-" {
@@ -186,35 +149,10 @@ func simulateTo(ctx context.Context, s *simulateSetup, durS, rate float64, out s
 	if err != nil {
 		return workErrorf("%w", err)
 	}
-	n := 0
-	for {
-		smp, ok := sp.Next()
-		if !ok {
-			break
-		}
-		row[0] = smp.V
-		if current {
-			row[1] = smp.LoadA
-		}
-		if err := w.Row(smp.TS, row); err != nil {
-			w.Close(nil)
-			return workErrorf("%w", err)
-		}
-		n++
-		if n%4096 == 0 {
-			if err := ctx.Err(); err != nil {
-				w.Close(nil)
-				return workErrorf("simulate: stopped at %.1f s of %.1f s (%d rows kept): %w", smp.TS, durS, n, err)
-			}
-			if err := w.Tick(time.Now()); err != nil {
-				w.Close(nil)
-				return workErrorf("%w", err)
-			}
-		}
-	}
-	if err := sp.Err(); err != nil {
+	n, err := model.WriteCapture(ctx, sp, w, current)
+	if err != nil {
 		w.Close(nil)
-		return workErrorf("%w", err)
+		return workErrorf("simulate: %w", err)
 	}
 	if err := w.Close(nil); err != nil {
 		return workErrorf("%w", err)
@@ -231,30 +169,12 @@ func summarize(w io.Writer, name string, durS float64, rows int, rate float64, r
 	}
 	fmt.Fprintf(w, "simulated %s for %.2f h: %d fires, %d resets, %d rows at %s to %s\n",
 		name, durS/3600, len(res.Fires()), len(res.Resets()), rows, units.Format(rate, "Hz"), dest)
-	if p := shortestPulse(res); p > 0 {
+	if p := res.ShortestPulseS(); p > 0 {
 		fmt.Fprintf(w, "shortest pulse %s: %.1f samples\n", units.Format(p, "s"), p*rate)
 	}
 	t := res.Totals
 	fmt.Fprintf(w, "energy: harvested %.4g J, load %.4g J, leakage %.3g J, probe %.3g J, supervisor %.3g J, stored change %.3g J\n",
 		t.HarvestedJ, t.LoadJ, t.LeakJ, t.ProbeJ, t.QuiescentJ, t.StoredDiffJ)
-}
-
-// shortestPulse is the shortest time from a fire to the next reset in res, seconds (0 when
-// there is none).
-func shortestPulse(res *model.Result) float64 {
-	shortest, fire := 0.0, math.NaN()
-	for _, ev := range res.Events {
-		switch ev.Kind {
-		case model.EventFire:
-			fire = ev.TS
-		case model.EventReset:
-			if d := ev.TS - fire; d > 0 && (shortest == 0 || d < shortest) {
-				shortest = d
-			}
-			fire = math.NaN()
-		}
-	}
-	return shortest
 }
 
 // profileSetup loads a bench profile and builds its circuit and light. A profile without a
