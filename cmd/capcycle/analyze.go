@@ -194,26 +194,26 @@ func runAnalyze(ctx context.Context, args []string, e *env) error {
 		if errors.As(err, &pe) {
 			return inputError(err)
 		}
-		return workErrorf("%v", err)
+		return workErrorf("%w", err)
 	}
 	if err := ctx.Err(); err != nil {
-		return workErrorf("analyze: %v", err)
+		return workErrorf("analyze: %w", err)
 	}
 	if f.cyclesCSV != "" {
 		if err := writeCyclesCSV(f.cyclesCSV, res); err != nil {
-			return workErrorf("analyze: %v", err)
+			return workErrorf("analyze: %w", err)
 		}
 	}
 	if f.segmentsCSV != "" {
 		if err := writeSegmentsCSV(f.segmentsCSV, res); err != nil {
-			return workErrorf("analyze: %v", err)
+			return workErrorf("analyze: %w", err)
 		}
 	}
 	if f.json {
 		enc := json.NewEncoder(e.stdout)
 		enc.SetIndent("", "  ")
 		if err := enc.Encode(res); err != nil {
-			return workErrorf("analyze: %v", err)
+			return workErrorf("analyze: %w", err)
 		}
 		return nil
 	}
@@ -226,7 +226,7 @@ func (f *analyzeFlags) reader(r *capture.Reader) error {
 	r.TimeCol, r.VoltCol, r.CurrentCol = f.timeCol, f.voltCol, f.currentCol
 	tf, err := capture.ParseTimeFormat(f.timeFormat)
 	if err != nil {
-		return usageErrorf("--time-format: %v", err)
+		return usageErrorf("--time-format: %w", err)
 	}
 	r.TimeFormat = tf
 	switch strings.ToLower(f.voltUnit) {

@@ -89,7 +89,7 @@ func (f *robotFlags) rig() (*robotRig, error) {
 	}
 	sc, err := model.Scenario(name)
 	if err != nil {
-		return nil, usageErrorf("--scenario: %v", err)
+		return nil, usageErrorf("--scenario: %w", err)
 	}
 	rig := rigFromScenario(sc)
 	// The board is wired as in the scenario's demo profile (Wren's vcell input, Fern's
@@ -155,7 +155,7 @@ func (f *robotFlags) open(rig *robotRig) (*modelSource, *virtualboard.Board, err
 	cfg.TxQueue = 1024
 	b, err := virtualboard.Open(cfg)
 	if err != nil {
-		return nil, nil, usageErrorf("robot: %v", err)
+		return nil, nil, usageErrorf("robot: %w", err)
 	}
 	return src, b, nil
 }
@@ -176,7 +176,7 @@ func runRobot(ctx context.Context, args []string, e *env) error {
 		return err
 	}
 	if rig.StartS, err = clockSeconds(f.start); err != nil {
-		return usageErrorf("--start: %v", err)
+		return usageErrorf("--start: %w", err)
 	}
 	src, b, err := f.open(rig)
 	if err != nil {

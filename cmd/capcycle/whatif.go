@@ -102,7 +102,7 @@ func runWhatif(ctx context.Context, args []string, e *env) error {
 	for _, s := range sets {
 		ch, err := whatif.ParseChange(s)
 		if err != nil {
-			return usageErrorf("--set %v", err)
+			return usageErrorf("--set %w", err)
 		}
 		changes = append(changes, ch)
 	}
@@ -113,7 +113,7 @@ func runWhatif(ctx context.Context, args []string, e *env) error {
 	ans := whatifAnswer{Profile: name, LightWm2: g, SunHours: hours, LightFrom: how, Note: note}
 	base, err := whatif.Evaluate(circuit, g, hours)
 	if err != nil {
-		return workErrorf("%v", err)
+		return workErrorf("%w", err)
 	}
 	ans.Base = figuresOf(base)
 	changed := circuit
@@ -121,11 +121,11 @@ func runWhatif(ctx context.Context, args []string, e *env) error {
 		var g2 float64
 		changed, g2, err = whatif.Apply(circuit, g, changes)
 		if err != nil {
-			return usageErrorf("--set: %v", err)
+			return usageErrorf("--set: %w", err)
 		}
 		a, err := whatif.Evaluate(changed, g2, hours)
 		if err != nil {
-			return workErrorf("%v", err)
+			return workErrorf("%w", err)
 		}
 		f := figuresOf(a)
 		ans.Changed = &f
@@ -137,7 +137,7 @@ func runWhatif(ctx context.Context, args []string, e *env) error {
 	if target != "" {
 		tg, err := whatif.ParseTarget(target)
 		if err != nil {
-			return usageErrorf("--target: %v", err)
+			return usageErrorf("--target: %w", err)
 		}
 		part := vary
 		if part == "" {
@@ -145,11 +145,11 @@ func runWhatif(ctx context.Context, args []string, e *env) error {
 		}
 		pp, err := whatif.LookupPart(part)
 		if err != nil {
-			return usageErrorf("--vary: %v", err)
+			return usageErrorf("--vary: %w", err)
 		}
 		props, err := whatif.Search(changed, g, hours, tg, pp.Name)
 		if err != nil {
-			return workErrorf("%v", err)
+			return workErrorf("%w", err)
 		}
 		ans.Target = target
 		ans.Vary = pp.Name
