@@ -13,7 +13,6 @@ import (
 	"strconv"
 	"sync"
 	"sync/atomic"
-	"syscall"
 	"testing"
 	"time"
 
@@ -126,13 +125,6 @@ func peakHeap(stop chan struct{}, peak *atomic.Uint64) {
 		case <-t.C:
 		}
 	}
-}
-
-// cpuTime is the process's user plus system CPU time so far.
-func cpuTime() time.Duration {
-	var ru syscall.Rusage
-	syscall.Getrusage(syscall.RUSAGE_SELF, &ru)
-	return time.Duration(ru.Utime.Nano() + ru.Stime.Nano())
 }
 
 // BenchmarkDayAnalysisVsCSVParse runs, in each iteration, the baseline parse and the

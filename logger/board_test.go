@@ -2,18 +2,16 @@ package logger
 
 import (
 	"bytes"
+	"errors"
 	"io"
 	"os"
 	"path/filepath"
 	"sync"
-	"syscall"
 	"testing"
-
-	"github.com/creack/pty"
-	"golang.org/x/term"
 
 	"capcycle/firmware-protocol/wire"
 	"capcycle/logger/capture"
+	"capcycle/logger/loggertest"
 )
 
 // testBoard plays a capcycle board on the device side: it answers commands as
@@ -211,22 +209,11 @@ func newPtyBoard(t *testing.T) *ptyBoard {
 
 // plug makes a new pty and points the link at it.
 func (pb *ptyBoard) plug() {
-	m0, s, err := pty.Open()
+	m, s, err := loggertest.OpenPty()
+	if errors.Is(err, loggertest.ErrNoPty) {
+		pb.t.Skip(err)
+	}
 	if err != nil {
-		pb.t.Skip("no pseudo-terminals here:", err)
-	}
-	// A non-blocking master is run by Go's poller, so that Close ends a pending Read
-	// (and the host side sees the hang-up at once, as with a pulled cable).
-	fd, err := syscall.Dup(int(m0.Fd()))
-	if err != nil {
-		pb.t.Fatal(err)
-	}
-	m0.Close()
-	if err := syscall.SetNonblock(fd, true); err != nil {
-		pb.t.Fatal(err)
-	}
-	m := os.NewFile(uintptr(fd), "ptmx")
-	if _, err := term.MakeRaw(int(s.Fd())); err != nil {
 		pb.t.Fatal(err)
 	}
 	os.Remove(pb.link)

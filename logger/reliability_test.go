@@ -285,15 +285,24 @@ func TestAppendContinues(t *testing.T) {
 }
 
 // TestSilenceReopens: a link that stays connected but sends nothing for longer than
-// Silence is reopened (a hung USB bridge), and the gap says read-error.
+// Silence is reopened (a hung USB bridge), and the gap says read-error. The host clock is
+// the test's: the silence lasts exactly as long as the test says, however slowly a busy
+// machine runs the test's writes.
 func TestSilenceReopens(t *testing.T) {
 	pb := newPtyBoard(t)
 	cfg := ptyConfig(pb)
 	cfg.Silence = 500 * time.Millisecond
+	base := time.Date(2026, 12, 1, 12, 0, 0, 0, time.UTC)
+	clk := &fakeClock{t: base}
+	cfg.Now = clk.Now
 	r := startRecording(t, cfg)
 	r.waitFor("0 samples")
 	pb.write(pb.slow(nil, 5, func(int) uint16 { return 1 }))
 	r.waitFor("5 samples")
+	if s := r.last(); strings.Contains(s, "reconnects") {
+		t.Fatalf("reconnected before any silence: %q", s)
+	}
+	clk.Set(base.Add(cfg.Silence + time.Millisecond)) // silent for just over Silence
 	r.waitFor("1 reconnects")
 	pb.write(pb.slow(nil, 5, func(int) uint16 { return 2 }))
 	r.waitFor("10 samples")

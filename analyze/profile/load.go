@@ -8,7 +8,6 @@ import (
 	"os"
 	"path/filepath"
 	"reflect"
-	"regexp"
 	"sort"
 	"strconv"
 	"strings"
@@ -35,7 +34,7 @@ func Parse(name string, data []byte) (*Profile, error) {
 	var raw rawProfile
 	md, err := toml.NewDecoder(bytes.NewReader(data)).Decode(&raw)
 	if err != nil {
-		return nil, decodeError(name, err)
+		return nil, decodeError(name, data, err)
 	}
 	c := &conv{file: name, loc: newLocator(string(data))}
 	c.unknownKeys(md)
@@ -49,21 +48,67 @@ func Parse(name string, data []byte) (*Profile, error) {
 	return p, nil
 }
 
-var lineInMessage = regexp.MustCompile(`^toml: line (\d+)(?: \(last key "[^"]*"\))?: `)
-
-// decodeError turns a decoder error into an *Error with the line.
-func decodeError(file string, err error) error {
+// decodeError turns a decoder error into an *Error with the line. A syntax error is a
+// toml.ParseError, whose Position has the line. The decoder's only other error here is a
+// table written as something else (storage = 3, [[storage]]): every leaf is a rawValue,
+// which takes any value. That error has no position (the library formats it as plain
+// text), so the table is found in the document and its line by the locator, as for
+// every other key.
+func decodeError(file string, data []byte, err error) error {
 	var pe toml.ParseError
 	if errors.As(err, &pe) {
 		return &Error{File: file, Line: pe.Position.Line, Key: pe.LastKey, Msg: pe.Message, Err: &kindError{ErrSyntax, err}}
 	}
-	msg := err.Error()
-	line := 0
-	if m := lineInMessage.FindStringSubmatch(msg); m != nil {
-		line, _ = strconv.Atoi(m[1])
-		msg = msg[len(m[0]):]
+	var doc map[string]any
+	if toml.Unmarshal(data, &doc) == nil {
+		loc := newLocator(string(data))
+		var first *Error
+		for _, f := range reflect.VisibleFields(reflect.TypeOf(rawProfile{})) {
+			key := f.Tag.Get("toml")
+			v, ok := doc[key]
+			if !ok || f.Type == reflect.TypeOf(rawValue{}) || isTables(v, f.Type.Kind() == reflect.Slice) {
+				continue
+			}
+			what, want := "a table", "["+key+"]"
+			if f.Type.Kind() == reflect.Slice {
+				what, want = "an array of tables", "[["+key+"]]"
+			}
+			msg := fmt.Sprintf("%s is not %s; want %s", tomlType(v), what, want)
+			line := loc.find(key)
+			if line == 0 {
+				line = loc.find(key + "[0]") // written as [[key]]
+			}
+			e := &Error{File: file, Line: line, Key: key, Msg: msg, Err: &kindError{ErrType, err}}
+			if first == nil || e.Line < first.Line {
+				first = e
+			}
+		}
+		if first != nil {
+			return first
+		}
 	}
-	return &Error{File: file, Line: line, Msg: strings.TrimPrefix(msg, "toml: "), Err: &kindError{ErrType, err}}
+	return &Error{File: file, Msg: strings.TrimPrefix(err.Error(), "toml: "), Err: &kindError{ErrType, err}}
+}
+
+// isTables reports whether v, as toml.Unmarshal gives it, is a table or, with array, an
+// array of tables.
+func isTables(v any, array bool) bool {
+	if !array {
+		_, ok := v.(map[string]any)
+		return ok
+	}
+	switch a := v.(type) {
+	case []map[string]any:
+		return true
+	case []any:
+		for _, x := range a {
+			if _, ok := x.(map[string]any); !ok {
+				return false
+			}
+		}
+		return true
+	}
+	return false
 }
 
 // knownKeys lists every key path the file may hold, without array indices.

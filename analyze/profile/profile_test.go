@@ -202,6 +202,10 @@ var badProfiles = []struct {
 	{"latitude beyond the pole", `latitude_deg = 48.1`, `§latitude_deg = 98.1`, "light.latitude_deg", ErrValue, "-90 to 90"},
 	{"bad date", `date = 2026-06-21`, `§date = "21.06.2026"`, "light.date", ErrValue, "YYYY-MM-DD"},
 	{"TOML syntax", `rated_v = 6.3`, `§rated_v = = 6.3`, "storage.rated_v", ErrSyntax, "expected value"},
+	// A table written as a value or as an array of tables: the decoder's error has no
+	// position, so the line is the table's own.
+	{"storage as a number", "[storage]\n", "§storage = 3\n[store]\n", "storage", ErrType, "a number is not a table; want [storage]"},
+	{"storage as an array of tables", "[storage]\n", "§[[storage]]\n", "storage", ErrType, "an array is not a table; want [storage]"},
 	{"leakage at a voltage above rating", `leak_v = 2.7`, `§leak_v = 7`, "storage.leak_v", ErrValue, "above the rated voltage"},
 	// A load-current channel: a shunt, never a divider (appended as a third channel).
 	{"iload without shunt_ohm", "", "\n§[[channel]]\nnode = \"iload\"\nadc = 2\namp_gain = 20",

@@ -213,7 +213,7 @@ func (f *analyzeFlags) reader(r *capture.Reader) error {
 	r.TimeCol, r.VoltCol, r.CurrentCol = f.timeCol, f.voltCol, f.currentCol
 	tf, err := capture.ParseTimeFormat(f.timeFormat)
 	if err != nil {
-		return usageErrorf("--time-format: %v", err)
+		return usageErrorf("--time-format: %w", err)
 	}
 	r.TimeFormat = tf
 	switch strings.ToLower(f.voltUnit) {

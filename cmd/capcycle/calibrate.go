@@ -49,7 +49,7 @@ func runCalibrate(ctx context.Context, args []string, e *env) error {
 	for _, a := range fs.Args() {
 		v, err := units.ParseDomain(a, units.Volt, units.Positive)
 		if err != nil {
-			return usageErrorf("voltage %q: %v", a, err)
+			return usageErrorf("voltage %q: %w", a, err)
 		}
 		trueV = append(trueV, v)
 	}
@@ -76,13 +76,13 @@ func runCalibrate(ctx context.Context, args []string, e *env) error {
 	if path == "" {
 		p, err := logger.SelectBoard(ctx, nil, mode)
 		if err != nil {
-			return usageErrorf("%v", err)
+			return usageErrorf("%w", err)
 		}
 		path = p
 	}
 	b, err := logger.Connect(ctx, nil, path, mode, 0)
 	if err != nil {
-		return workErrorf("%v", err)
+		return workErrorf("%w", err)
 	}
 	defer b.Close()
 	if *ch < 0 || *ch >= int(b.ID.NCh) {
@@ -92,7 +92,7 @@ func runCalibrate(ctx context.Context, args []string, e *env) error {
 	if div > 0 && !*dryRun {
 		// Put the profile's divider on the board first, with a neutral calibration.
 		if err := b.Command(ctx, wire.CmdCal{Ch: uint32(*ch), Div: wire.MicroOf(div), Gain: wire.MicroOf(1)}); err != nil {
-			return workErrorf("%v", err)
+			return workErrorf("%w", err)
 		}
 	}
 	fmt.Fprintln(e.stderr, calibrateSafety)
@@ -102,12 +102,12 @@ func runCalibrate(ctx context.Context, args []string, e *env) error {
 		if !*yes {
 			fmt.Fprintf(e.stderr, "\nApply %s to channel %d (read it on the multimeter), then press Enter: ", units.Format(v, units.Volt), *ch)
 			if _, err := in.ReadString('\n'); err != nil && err != io.EOF {
-				return workErrorf("reading standard input: %v", err)
+				return workErrorf("reading standard input: %w", err)
 			}
 		}
 		r, err := b.Average(ctx, *ch, *n, 3*time.Second)
 		if err != nil {
-			return workErrorf("%v", err)
+			return workErrorf("%w", err)
 		}
 		if *dryRun && div > 0 {
 			// Nothing was sent: the board still divides by its own ratio.
@@ -119,7 +119,7 @@ func runCalibrate(ctx context.Context, args []string, e *env) error {
 	}
 	gain, off, err := logger.FitCalibration(pts)
 	if err != nil {
-		return workErrorf("%v", err)
+		return workErrorf("%w", err)
 	}
 	divNow := b.Channels[*ch].Div
 	if *dryRun && div > 0 {
@@ -133,10 +133,10 @@ func runCalibrate(ctx context.Context, args []string, e *env) error {
 		return nil
 	}
 	if err := b.Command(ctx, cal); err != nil {
-		return workErrorf("%v", err)
+		return workErrorf("%w", err)
 	}
 	if err := b.Command(ctx, wire.CmdSave{}); err != nil {
-		return workErrorf("%v (the calibration is in the board's RAM only)", err)
+		return workErrorf("%w (the calibration is in the board's RAM only)", err)
 	}
 	fmt.Fprintln(e.stdout, "saved to the board; every capture records it in its calibration line")
 	return nil

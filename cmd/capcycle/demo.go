@@ -117,7 +117,7 @@ func runDemo(ctx context.Context, args []string, e *env) error {
 	}
 	startS, err := clockSeconds(o.start)
 	if err != nil {
-		return usageErrorf("--start: %v", err)
+		return usageErrorf("--start: %w", err)
 	}
 	o.startS = startS
 	o.only = demodata.Names()

@@ -29,11 +29,11 @@ func (b *emulatedBoards) close() { os.RemoveAll(b.dir) }
 // emulated board is not available here.
 func prepareEmulated(ctx context.Context, status io.Writer) (*emulatedBoards, error) {
 	if err := emulator.Available(); err != nil {
-		return nil, workErrorf("the emulated board is not available here: %v (install gcc-avr, avr-libc and libsimavr-dev, or use --board virtual)", err)
+		return nil, workErrorf("the emulated board is not available here: %w (install gcc-avr, avr-libc and libsimavr-dev, or use --board virtual)", err)
 	}
 	src, err := emulator.SourceDir()
 	if err != nil {
-		return nil, workErrorf("the emulated board needs the capcycle source tree (firmware-protocol/), which this binary cannot find: %v; use --board virtual", err)
+		return nil, workErrorf("the emulated board needs the capcycle source tree (firmware-protocol/), which this binary cannot find: %w; use --board virtual", err)
 	}
 	dir, err := os.MkdirTemp("", "capcycle-emulator-")
 	if err != nil {

@@ -35,7 +35,7 @@ func runPorts(ctx context.Context, args []string, e *env) error {
 	}
 	ports, err := listPorts()
 	if err != nil {
-		return workErrorf("%v", err)
+		return workErrorf("%w", err)
 	}
 	if len(ports) == 0 {
 		fmt.Fprintln(e.stdout, "no serial ports found")

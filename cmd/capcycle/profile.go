@@ -91,14 +91,14 @@ func profileInit(args []string, e *env) error {
 		return usageErrorf("%s already exists; nothing was written (use --force to overwrite it)", *out)
 	}
 	if err != nil {
-		return workErrorf("%v", err)
+		return workErrorf("%w", err)
 	}
 	if _, err := io.WriteString(f, text); err != nil {
 		f.Close()
-		return workErrorf("writing %s: %v", *out, err)
+		return workErrorf("writing %s: %w", *out, err)
 	}
 	if err := f.Close(); err != nil {
-		return workErrorf("writing %s: %v", *out, err)
+		return workErrorf("writing %s: %w", *out, err)
 	}
 	fmt.Fprintf(e.stderr, "wrote %s (%s trigger); edit it for your robot, then run: capcycle profile check %s\n", *out, *kind, *out)
 	return nil

@@ -127,11 +127,11 @@ func recordError(err error) error {
 	var pe *logger.PortError
 	switch {
 	case errors.Is(err, os.ErrExist):
-		return usageErrorf("%v (use --force to replace it or --append to continue it)", err)
+		return usageErrorf("%w (use --force to replace it or --append to continue it)", err)
 	case errors.Is(err, logger.ErrNoBoard), errors.Is(err, logger.ErrManyBoards):
-		return usageErrorf("%v; pick one with --port PATH", err)
+		return usageErrorf("%w; pick one with --port PATH", err)
 	case errors.As(err, &pe) && pe.Op == "open":
-		return workErrorf("%v", err)
+		return workErrorf("%w", err)
 	}
 	return err
 }

@@ -2,14 +2,12 @@ package main
 
 import (
 	"bytes"
-	"context"
+	"errors"
 	"io"
 	"os"
-	"os/signal"
 	"path/filepath"
 	"strings"
 	"sync"
-	"syscall"
 	"testing"
 	"time"
 
@@ -18,6 +16,7 @@ import (
 
 	"capcycle/firmware-protocol/wire"
 	"capcycle/logger/capture"
+	"capcycle/logger/loggertest"
 )
 
 // recBoard is a small capcycle board on a pseudo-terminal for the command tests: it
@@ -36,20 +35,14 @@ type recBoard struct {
 }
 
 func newRecBoard(t *testing.T, nch uint32) *recBoard {
-	m0, s, err := pty.Open()
-	if err != nil {
-		t.Skip("no pseudo-terminals:", err)
+	m, s, err := loggertest.OpenPty()
+	if errors.Is(err, loggertest.ErrNoPty) {
+		t.Skip(err)
 	}
-	if _, err := term.MakeRaw(int(s.Fd())); err != nil {
-		t.Fatal(err)
-	}
-	fd, err := syscall.Dup(int(m0.Fd()))
 	if err != nil {
 		t.Fatal(err)
 	}
-	m0.Close()
-	syscall.SetNonblock(fd, true)
-	b := &recBoard{master: os.NewFile(uintptr(fd), "ptmx"), slave: s, path: s.Name(), count: 2048, stop: make(chan struct{}),
+	b := &recBoard{master: m, slave: s, path: s.Name(), count: 2048, stop: make(chan struct{}),
 		id: wire.Identity{Proto: 1, Firmware: "0.1.0", Board: "recboard", Bits: 10, EBits: 12, Ref: wire.RefAVcc,
 			RefUV: 5000000, NCh: nch, ClockHz: 16000000, MaxHz: 1000, SlowHz: 50, FastHz: 500, Thr: 8, Pre: 32, Post: 32}}
 	for k := range b.ch {
@@ -207,31 +200,6 @@ func TestRecordRefusesOverwrite(t *testing.T) {
 	}
 	if got, _ := os.ReadFile(out); string(got) != "precious\n" {
 		t.Fatal("the file was changed")
-	}
-}
-
-// TestRecordSIGINT sends the process a real SIGINT mid-recording, through the same
-// signal.NotifyContext main uses; the capture must be closed cleanly.
-func TestRecordSIGINT(t *testing.T) {
-	b := newRecBoard(t, 1)
-	out := filepath.Join(t.TempDir(), "int.csv")
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
-	defer stop()
-	go func() {
-		time.Sleep(500 * time.Millisecond)
-		syscall.Kill(os.Getpid(), syscall.SIGINT)
-	}()
-	var o, e bytes.Buffer
-	code := run(ctx, []string{"record", "--port", b.path, "--out", out}, &env{stdin: strings.NewReader(""), stdout: &o, stderr: &e})
-	if code != 0 {
-		t.Fatalf("exit %d: %s", code, e.String())
-	}
-	text, _ := os.ReadFile(out)
-	if !strings.Contains(string(text), "# end: ") || !strings.HasSuffix(string(text), "\n") {
-		t.Fatalf("not closed cleanly:\n%s", text)
-	}
-	if !strings.Contains(e.String(), "samples") {
-		t.Errorf("no status on stderr: %q", e.String())
 	}
 }
 

@@ -95,7 +95,7 @@ func (f *robotFlags) rig() (*model.Rig, error) {
 	}
 	sc, err := model.Scenario(name)
 	if err != nil {
-		return nil, usageErrorf("--scenario: %v", err)
+		return nil, usageErrorf("--scenario: %w", err)
 	}
 	rig := model.RigFromScene(sc)
 	// The board is wired as in the scenario's demo profile (Wren's vcell input, Fern's
@@ -161,7 +161,7 @@ func (f *robotFlags) open(rig *model.Rig) (*model.RigSource, *virtualboard.Board
 	cfg.TxQueue = 1024
 	lb, err := virtualboard.Budget(cfg)
 	if err != nil {
-		return nil, nil, 0, lb, usageErrorf("robot: %v", err)
+		return nil, nil, 0, lb, usageErrorf("robot: %w", err)
 	}
 	cfg.Speed = f.speed.v
 	if f.speed.auto {
@@ -169,7 +169,7 @@ func (f *robotFlags) open(rig *model.Rig) (*model.RigSource, *virtualboard.Board
 	}
 	b, err := virtualboard.Open(cfg)
 	if err != nil {
-		return nil, nil, 0, lb, usageErrorf("robot: %v", err)
+		return nil, nil, 0, lb, usageErrorf("robot: %w", err)
 	}
 	return src, b, cfg.Speed, lb, nil
 }
@@ -256,7 +256,7 @@ func runRobot(ctx context.Context, args []string, e *env) error {
 		return err
 	}
 	if rig.StartS, err = clockSeconds(f.start); err != nil {
-		return usageErrorf("--start: %v", err)
+		return usageErrorf("--start: %w", err)
 	}
 	src, b, speed, lb, err := f.open(rig)
 	if err != nil {

@@ -67,14 +67,14 @@ func runWhatif(ctx context.Context, args []string, e *env) error {
 	for _, s := range sets {
 		ch, err := whatif.ParseChange(s)
 		if err != nil {
-			return usageErrorf("--set %v", err)
+			return usageErrorf("--set %w", err)
 		}
 		q.Changes = append(q.Changes, ch)
 	}
 	if target != "" {
 		tg, err := whatif.ParseTarget(target)
 		if err != nil {
-			return usageErrorf("--target: %v", err)
+			return usageErrorf("--target: %w", err)
 		}
 		q.Target, q.Vary = &tg, vary
 	}

@@ -10,7 +10,14 @@
 //     standard output and runs until the waveform ends or it gets SIGTERM.
 //   - ../firmware/Makefile builds the firmware ELF with avr-gcc.
 //   - Build runs both makes into one directory; Start runs the harness and returns the
-//     pty path.
+//     pty path: a link to the pty that the harness removes before the pty closes, so a
+//     host retrying it after the harness exits finds nothing, not another board's pty
+//     that the kernel gave the same /dev/pts number.
+//
+// A test reads the board as slowly as it likes: the harness runs ahead by at most its
+// queue and the pty's buffer (about 36 KB), then waits. Give the waveform more device
+// time than the test reads, or the harness ends with the waveform and the bytes not yet
+// read go with its pty.
 //
 // # Waveform files
 //

@@ -132,9 +132,14 @@ type Config struct {
 
 // Board is a running emulated board.
 type Board struct {
-	// Path is the pseudo-terminal to open, e.g. /dev/pts/3.
+	// Path is the pseudo-terminal to open: a symbolic link to it (in a directory of its
+	// own) that the harness removes before the terminal closes. A host that reopens Path
+	// after the harness has exited gets "no such file", never another program's
+	// terminal that the kernel gave the freed /dev/pts number (a recorder retrying a lost
+	// port would otherwise read, and steal, another emulated board's bytes).
 	Path string
 
+	dir    string // holds the link; removed when the harness exits
 	cmd    *exec.Cmd
 	stderr *lockedBuffer
 	done   chan struct{}
@@ -181,24 +186,31 @@ func Start(ctx context.Context, bin Binaries, cfg *Config) (*Board, error) {
 	if cfg.EEPROM != "" {
 		args = append(args, "-e", cfg.EEPROM)
 	}
-	args = append(args, bin.Firmware)
+	dir, err := os.MkdirTemp("", "capcycle-board-")
+	if err != nil {
+		return nil, fmt.Errorf("emulator: %w", err)
+	}
+	args = append(args, "-l", filepath.Join(dir, "tty"), bin.Firmware)
 	cmd := exec.CommandContext(ctx, bin.Harness, args...)
 	cmd.Cancel = func() error { return cmd.Process.Signal(syscall.SIGTERM) }
 	cmd.WaitDelay = 2 * time.Second
 	stdout, err := cmd.StdoutPipe()
 	if err != nil {
+		os.RemoveAll(dir)
 		return nil, fmt.Errorf("emulator: %w", err)
 	}
-	b := &Board{cmd: cmd, stderr: &lockedBuffer{}, done: make(chan struct{})}
+	b := &Board{dir: dir, cmd: cmd, stderr: &lockedBuffer{}, done: make(chan struct{})}
 	cmd.Stderr = b.stderr
 	if err := cmd.Start(); err != nil {
+		os.RemoveAll(dir)
 		return nil, fmt.Errorf("emulator: start %s: %w", bin.Harness, err)
 	}
 	go func() {
 		b.err = cmd.Wait()
+		os.RemoveAll(b.dir) // the harness removed the link, unless it was killed
 		close(b.done)
 	}()
-	line, err := readLine(stdout, 10*time.Second)
+	line, err := readLine(ctx, stdout)
 	if err != nil {
 		b.Close()
 		return nil, fmt.Errorf("emulator: no pty path from the harness: %w (stderr: %s)", err, b.stderr.String())
@@ -208,7 +220,10 @@ func Start(ctx context.Context, bin Binaries, cfg *Config) (*Board, error) {
 	return b, nil
 }
 
-func readLine(r io.Reader, timeout time.Duration) (string, error) {
+// readLine returns the first line of r: the harness prints it at once, or exits (EOF)
+// when it cannot start. It waits for one of those, not for a time budget that a busy
+// machine could overrun; ctx's end stops the harness and so ends the wait too.
+func readLine(ctx context.Context, r io.Reader) (string, error) {
 	type result struct {
 		s   string
 		err error
@@ -224,8 +239,8 @@ func readLine(r io.Reader, timeout time.Duration) (string, error) {
 			return "", res.err
 		}
 		return res.s, nil
-	case <-time.After(timeout):
-		return "", errors.New("timed out")
+	case <-ctx.Done():
+		return "", ctx.Err()
 	}
 }
 

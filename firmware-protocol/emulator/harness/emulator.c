@@ -14,8 +14,13 @@
  *     -n          start at once instead of waiting for the first host to open the port
  *     -e FILE     EEPROM image: loaded at start if the file exists, written back at exit,
  *                 so settings stored with >save survive a restart as on a real board
+ *     -l FILE     make FILE a symbolic link to the pseudo-terminal and print it instead of
+ *                 the terminal's own path; it is removed at exit before the terminal
+ *                 closes, so a host that reopens it later finds nothing rather than
+ *                 another program's terminal that the kernel gave the same number
  *
- * It prints the pseudo-terminal's path as the first line on standard output, then runs.
+ * It prints the pseudo-terminal's path (or -l's link) as the first line on standard
+ * output, then runs.
  * It exits 0 when device time passes the last waveform point after end of file, and 0 on
  * SIGINT or SIGTERM.
  *
@@ -202,6 +207,13 @@ static void no_sleep(avr_t *a, avr_cycle_count_t how_long)
 
 static int master = -1;
 static char slave_name[128];
+static const char *link_path; /* -l */
+
+/* At exit, before the kernel closes the master and frees the terminal's number. */
+static void remove_link(void)
+{
+	unlink(link_path);
+}
 
 static uint8_t *outq;
 static size_t out_len, out_cap;
@@ -337,7 +349,7 @@ static void eeprom_save(const char *path)
 static void usage(void)
 {
 	fprintf(stderr, "usage: capcycle-emulator [-w wave] [-d r0,r1,..] [-m mcu] [-f hz] "
-			"[-a avcc_mv] [-r aref_mv] [-e eeprom] [-n] firmware.elf\n");
+			"[-a avcc_mv] [-r aref_mv] [-e eeprom] [-l link] [-n] firmware.elf\n");
 	exit(2);
 }
 
@@ -346,7 +358,7 @@ int main(int argc, char **argv)
 	const char *wave_path = NULL, *mcu = "atmega328p", *ee_path = NULL;
 	unsigned long freq = 16000000UL, avcc = 5000, aref = 0;
 	int nowait = 0, c;
-	while ((c = getopt(argc, argv, "w:d:m:f:a:r:e:n")) != -1) {
+	while ((c = getopt(argc, argv, "w:d:m:f:a:r:e:l:n")) != -1) {
 		switch (c) {
 		case 'w':
 			wave_path = optarg;
@@ -383,6 +395,9 @@ int main(int argc, char **argv)
 			break;
 		case 'e':
 			ee_path = optarg;
+			break;
+		case 'l':
+			link_path = optarg;
 			break;
 		default:
 			usage();
@@ -461,7 +476,15 @@ int main(int argc, char **argv)
 	sigaction(SIGTERM, &sa, NULL);
 	signal(SIGPIPE, SIG_IGN);
 
-	printf("%s\n", slave_name);
+	if (link_path) {
+		unlink(link_path);
+		if (symlink(slave_name, link_path) != 0) {
+			fprintf(stderr, "emulator: -l %s: %s\n", link_path, strerror(errno));
+			return 1;
+		}
+		atexit(remove_link);
+	}
+	printf("%s\n", link_path ? link_path : slave_name);
 	fflush(stdout);
 
 	if (!nowait) {
