@@ -5,22 +5,17 @@ import (
 	"encoding/json"
 	"errors"
 	"flag"
-	"fmt"
 	"io"
 	"io/fs"
 	"os"
-	"strconv"
 	"strings"
-	"time"
-
-	"github.com/gocarina/gocsv"
-	"golang.org/x/term"
 
 	"capcycle/analyze"
 	"capcycle/analyze/analysis"
 	"capcycle/analyze/profile"
 	htmlreport "capcycle/analyze/report"
 	"capcycle/analyze/units"
+	"capcycle/cmd/internal/cli"
 	"capcycle/logger/capture"
 )
 
@@ -158,7 +153,7 @@ func runAnalyze(ctx context.Context, args []string, e *env) error {
 	fs.Visit(func(fl *flag.Flag) { set[fl.Name] = true })
 
 	for _, out := range []string{f.cyclesCSV, f.segmentsCSV} {
-		if out != "" && sameFile(file, out) {
+		if out != "" && cli.SameFile(file, out) {
 			return usageErrorf("%s is the capture itself: it is never written over", out)
 		}
 	}
@@ -171,26 +166,26 @@ func runAnalyze(ctx context.Context, args []string, e *env) error {
 		return err // a bad column-mapping flag, before the file is read
 	}
 	opts.Setup = f.reader
-	var bar *progress
-	if st, err := os.Stat(file); err == nil && st.Size() > 32<<20 && isTerminal(e.stderr) {
-		bar = &progress{w: e.stderr, total: st.Size()}
-		opts.Progress = bar.update
+	var bar *cli.Progress
+	if st, err := os.Stat(file); err == nil && st.Size() > 32<<20 && cli.IsTerminal(e.stderr) {
+		bar = &cli.Progress{W: e.stderr, Total: st.Size()}
+		opts.Progress = bar.Update
 	}
 	res, err := analyze.File(ctx, file, opts)
 	if bar != nil {
-		bar.done()
+		bar.Done()
 	}
 	if err != nil {
 		return analysisError(err)
 	}
 	printReaderNotes(e.stderr, &res.Source)
 	if f.cyclesCSV != "" {
-		if err := writeCyclesCSV(f.cyclesCSV, res); err != nil {
+		if err := writeTable(f.cyclesCSV, res, htmlreport.WriteCycles); err != nil {
 			return workErrorf("%w", err)
 		}
 	}
 	if f.segmentsCSV != "" {
-		if err := writeSegmentsCSV(f.segmentsCSV, res); err != nil {
+		if err := writeTable(f.segmentsCSV, res, htmlreport.WriteSegments); err != nil {
 			return workErrorf("%w", err)
 		}
 	}
@@ -293,99 +288,14 @@ func analysisError(err error) error {
 	return workErrorf("%w", err)
 }
 
-func sameFile(a, b string) bool {
-	sa, err := os.Stat(a)
-	if err != nil {
-		return false
-	}
-	sb, err := os.Stat(b)
-	if err != nil {
-		return false
-	}
-	return os.SameFile(sa, sb)
-}
-
-func isTerminal(w io.Writer) bool {
-	f, ok := w.(*os.File)
-	return ok && term.IsTerminal(int(f.Fd()))
-}
-
-// progress draws a bar on a terminal, at most ten times a second.
-type progress struct {
-	w     io.Writer
-	total int64
-	last  time.Time
-}
-
-func (p *progress) update(rows int, bytes int64) {
-	if time.Since(p.last) < 100*time.Millisecond {
-		return
-	}
-	p.last = time.Now()
-	frac := float64(bytes) / float64(p.total)
-	frac = min(1, max(0, frac))
-	n := int(frac * 30)
-	fmt.Fprintf(p.w, "\r[%s%s] %3.0f %% %d rows", strings.Repeat("#", n), strings.Repeat(" ", 30-n), frac*100, rows)
-}
-
-func (p *progress) done() { fmt.Fprint(p.w, "\r\033[K") }
-
-// cycleRow is one line of the cycles CSV.
-type cycleRow struct {
-	Index   int    `csv:"index"`
-	FireS   string `csv:"fire_s"`
-	FireV   string `csv:"fire_v"`
-	ResetS  string `csv:"reset_s"`
-	ResetV  string `csv:"reset_v"`
-	ChargeS string `csv:"charge_s"`
-	PulseS  string `csv:"pulse_s"`
-	EnergyJ string `csv:"energy_j"`
-	Kind    string `csv:"kind"`
-	Light   string `csv:"light"` // the cell's short-circuit current (A), or I/C (V/s) without C
-}
-
-type segmentRow struct {
-	Kind   string `csv:"kind"`
-	StartS string `csv:"start_s"`
-	EndS   string `csv:"end_s"`
-	StartV string `csv:"start_v"`
-	EndV   string `csv:"end_v"`
-}
-
-func num(v float64) string { return strconv.FormatFloat(v, 'g', 8, 64) }
-
-func optNum(v *float64) string {
-	if v == nil {
-		return ""
-	}
-	return num(*v)
-}
-
-func writeCyclesCSV(path string, res *analysis.Result) error {
-	rows := make([]*cycleRow, 0, len(res.Cycles))
-	for _, c := range res.Cycles {
-		rows = append(rows, &cycleRow{Index: c.Index, FireS: num(c.FireS), FireV: num(c.FireV),
-			ResetS: num(c.ResetS), ResetV: num(c.ResetV), ChargeS: optNum(c.ChargeS), PulseS: num(c.PulseS),
-			EnergyJ: optNum(c.EnergyJ), Kind: string(c.Kind), Light: optNum(c.LightA)})
-	}
-	return writeCSV(path, &rows)
-}
-
-func writeSegmentsCSV(path string, res *analysis.Result) error {
-	rows := make([]*segmentRow, 0, len(res.Segments))
-	for _, s := range res.Segments {
-		rows = append(rows, &segmentRow{Kind: string(s.Kind), StartS: num(s.StartS), EndS: num(s.EndS),
-			StartV: num(s.StartV), EndV: num(s.EndV)})
-	}
-	return writeCSV(path, &rows)
-}
-
-func writeCSV(path string, rows any) error {
+// writeTable writes one of the analysis's tables (report.WriteCycles, WriteSegments) to
+// a new file at path.
+func writeTable(path string, res *analysis.Result, write func(io.Writer, *analysis.Result) error) error {
 	f, err := os.Create(path)
 	if err != nil {
 		return err
 	}
-	if err := gocsv.MarshalFile(rows, f); err != nil {
+	if err := write(f, res); err != nil {
 		f.Close()
 		return err
 	}

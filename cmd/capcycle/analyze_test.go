@@ -43,7 +43,7 @@ func TestAnalyzeJSON(t *testing.T) {
 		t.Fatal(err)
 	}
 	lines := strings.Split(strings.TrimSpace(string(b)), "\n")
-	if lines[0] != "index,fire_s,fire_v,reset_s,reset_v,charge_s,pulse_s,energy_j,kind,light" || len(lines) != len(res.Cycles)+1 {
+	if lines[0] != "index,fire_s,fire_v,reset_s,reset_v,charge_s,pulse_s,energy_j,kind,light_a,predicted_nominal_charge_s,predicted_fitted_charge_s" || len(lines) != len(res.Cycles)+1 {
 		t.Errorf("cycles CSV: header %q, %d lines for %d cycles", lines[0], len(lines), len(res.Cycles))
 	}
 	if b, err := os.ReadFile(seg); err != nil || !strings.HasPrefix(string(b), "kind,start_s,end_s,start_v,end_v\n") {

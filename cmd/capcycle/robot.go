@@ -15,6 +15,7 @@ import (
 	"capcycle/analyze/profile"
 	"capcycle/analyze/units"
 	"capcycle/cmd/capcycle/demodata"
+	"capcycle/cmd/internal/cli"
 	"capcycle/firmware-protocol/virtualboard"
 	"capcycle/firmware-protocol/wire"
 )
@@ -165,25 +166,13 @@ func (f *robotFlags) open(rig *model.Rig) (*model.RigSource, *virtualboard.Board
 	}
 	cfg.Speed = f.speed.v
 	if f.speed.auto {
-		cfg.Speed = autoSpeed(lb.MaxSpeed)
+		cfg.Speed = virtualboard.AutoSpeed(lb.MaxSpeed)
 	}
 	b, err := virtualboard.Open(cfg)
 	if err != nil {
 		return nil, nil, 0, lb, usageErrorf("robot: %w", err)
 	}
 	return src, b, cfg.Speed, lb, nil
-}
-
-// autoSpeed is the speed --speed auto picks: the link's highest, rounded down to two
-// significant digits.
-func autoSpeed(maxSpeed float64) float64 {
-	if !(maxSpeed > 0) || math.IsInf(maxSpeed, 0) {
-		return 1
-	}
-	p := math.Pow(10, math.Floor(math.Log10(maxSpeed))-1)
-	// Two digits, without the binary fraction's tail (2.3, not 2.3000000000000003).
-	v, _ := strconv.ParseFloat(strconv.FormatFloat(math.Floor(maxSpeed/p)*p, 'g', 2, 64), 64)
-	return v
 }
 
 // speedValue is the --speed flag: "auto" or a factor of real time, 0 or more.
@@ -212,34 +201,6 @@ func (s *speedValue) Set(x string) error {
 	return nil
 }
 
-// robotPace says how fast the robot runs and, when the link cannot carry what the
-// board may send at that speed, plainly what is lost.
-func robotPace(speed float64, auto bool, baud int, lb virtualboard.LinkBudget) []string {
-	if speed == 0 {
-		return []string{"as fast as the host reads (nothing is lost)"}
-	}
-	pace := fmt.Sprintf("%gx real time", speed)
-	if auto {
-		pace += fmt.Sprintf(" (the most a %d-baud link carries)", baud)
-	}
-	out := []string{pace}
-	if speed > lb.MaxSpeed {
-		out = append(out, fmt.Sprintf("at %gx real time the %d-baud link carries %s a model second, and the board can send %s a model second in a burst: "+
-			"frames the link cannot carry are dropped (counted below as dropped, and in the board's status frames; a recorder counts them as lost samples). "+
-			"--speed %g or lower carries every frame; --speed 0 runs as fast as the host reads",
-			speed, baud, robotBytes(lb.LinkBytesPerS/speed), robotBytes(lb.PeakBytesPerS), autoSpeed(lb.MaxSpeed)))
-	}
-	return out
-}
-
-// robotBytes prints a byte count.
-func robotBytes(n float64) string {
-	if n >= 1000 {
-		return fmt.Sprintf("%.3g kB", n/1000)
-	}
-	return fmt.Sprintf("%.3g bytes", n)
-}
-
 func runRobot(ctx context.Context, args []string, e *env) error {
 	fs, f := newRobotFlags(e.stderr)
 	if err := parseFlags(fs, args); err != nil {
@@ -266,7 +227,7 @@ func runRobot(ctx context.Context, args []string, e *env) error {
 
 	// The path alone on stdout, so that a script can read one line.
 	fmt.Fprintln(e.stdout, b.Path())
-	pace := robotPace(speed, f.speed.auto, f.baud, lb)
+	pace := virtualboard.DescribePace(speed, f.speed.auto, f.baud, lb)
 	fmt.Fprintf(e.stderr, "capcycle robot: %s on %s, %s, %g h of model time from %s; Ctrl-C stops\n",
 		rig.Name, b.Path(), pace[0], f.hours, f.start)
 	for _, w := range pace[1:] {
@@ -279,7 +240,7 @@ func runRobot(ctx context.Context, args []string, e *env) error {
 	go func() { done <- b.Run(runCtx) }()
 	tick := time.NewTicker(robotStatusEvery(e.stderr))
 	defer tick.Stop()
-	term := isTerminal(e.stderr)
+	term := cli.IsTerminal(e.stderr)
 	for {
 		select {
 		case err := <-done:
@@ -322,7 +283,7 @@ var demoBoardHook func(*virtualboard.Config)
 // robotStatusEvery is how often the status is shown: four times a second in place on a
 // terminal, every ten seconds as a plain line elsewhere.
 func robotStatusEvery(w io.Writer) time.Duration {
-	if isTerminal(w) {
+	if cli.IsTerminal(w) {
 		return 250 * time.Millisecond
 	}
 	return 10 * time.Second

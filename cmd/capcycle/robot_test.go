@@ -17,6 +17,7 @@ import (
 
 	"capcycle/analyze/model"
 	"capcycle/analyze/profile"
+	"capcycle/firmware-protocol/virtualboard"
 	"capcycle/firmware-protocol/wire"
 	"capcycle/logger"
 	"capcycle/logger/capture"
@@ -270,16 +271,16 @@ func TestRobotSpeedAuto(t *testing.T) {
 	if speed > lb.MaxSpeed || speed < 0.9*lb.MaxSpeed || lb.MaxSpeed > 11520.0/4100 {
 		t.Errorf("auto speed %g; the link carries up to %g", speed, lb.MaxSpeed)
 	}
-	if p := robotPace(speed, true, 115200, lb); len(p) != 1 || !strings.Contains(p[0], "the most a 115200-baud link carries") {
+	if p := virtualboard.DescribePace(speed, true, 115200, lb); len(p) != 1 || !strings.Contains(p[0], "the most a 115200-baud link carries") {
 		t.Errorf("pace at the auto speed: %q", p)
 	}
-	p := robotPace(100, false, 115200, lb)
+	p := virtualboard.DescribePace(100, false, 115200, lb)
 	if len(p) != 2 || !strings.Contains(p[1], "dropped") || !strings.Contains(p[1], fmt.Sprintf("--speed %g or lower", speed)) {
 		t.Errorf("pace at 100x says %q; want a plain word on the dropped frames and the speed that carries them", p)
 	}
 	for _, c := range []struct{ in, want float64 }{{2.81, 2.8}, {0.347, 0.34}, {57.9, 57}, {1234, 1200}} {
-		if got := autoSpeed(c.in); got != c.want {
-			t.Errorf("autoSpeed(%g) = %g, want %g", c.in, got, c.want)
+		if got := virtualboard.AutoSpeed(c.in); got != c.want {
+			t.Errorf("virtualboard.AutoSpeed(%g) = %g, want %g", c.in, got, c.want)
 		}
 	}
 }
