@@ -25,7 +25,7 @@ func TestFiniteLightLevels(t *testing.T) {
 		t.Fatal(err)
 	}
 	defer f.Close()
-	// Wren's profile (testdata/profiles/wren.toml): 4700 uF, a 2 MOhm divider, 5 cells.
+	// Wren's profile (analyze/model/scenarios/wren.toml): 4700 uF, a 2 MOhm divider, 5 cells.
 	res, err := Run(context.Background(), capture.NewReader(f, path), &Options{Declared: analysis.Declared{CapF: 4.7e-3, ProbeOhm: 2e6, CellSeries: 5}})
 	if err != nil {
 		t.Fatal(err)

@@ -22,7 +22,7 @@ func find(fs []analysis.Finding, code string) *analysis.Finding {
 
 func loadProfile(t *testing.T, name string) *profile.Profile {
 	t.Helper()
-	p, err := profile.Load("../../testdata/profiles/" + name)
+	p, err := profile.Load("../model/scenarios/" + name)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -8,10 +8,10 @@ import (
 )
 
 // TestScenariosMatchProfiles keeps the built-in scenarios equal to FromProfile of the
-// profiles in testdata/profiles.
+// profiles in analyze/model/scenarios.
 func TestScenariosMatchProfiles(t *testing.T) {
 	for _, name := range ScenarioNames() {
-		p, err := profile.Load("../../testdata/profiles/" + name + ".toml")
+		p, err := profile.Load("scenarios/" + name + ".toml")
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -91,7 +91,7 @@ func TestScenarioStories(t *testing.T) {
 // A current-sense shunt in the load's return (an iload channel) is in series with the
 // switch: the model adds it to the on-resistance, and the probe stays the vcap divider.
 func TestFromProfileShunt(t *testing.T) {
-	base, err := profile.Load("../../testdata/profiles/wren.toml")
+	base, err := profile.Load("scenarios/wren.toml")
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -11,7 +11,7 @@ import (
 
 func wrenCircuit(t *testing.T) *model.Circuit {
 	t.Helper()
-	p, err := profile.Load("../../testdata/profiles/wren.toml")
+	p, err := profile.Load("../model/scenarios/wren.toml")
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -13,7 +13,7 @@ func FuzzParse(f *testing.F) {
 	for _, kind := range TemplateKinds {
 		f.Add(Template(kind))
 	}
-	if b, err := os.ReadFile("../../testdata/profiles/fern.toml"); err == nil {
+	if b, err := os.ReadFile("../model/scenarios/fern.toml"); err == nil {
 		f.Add(string(b))
 	}
 	base := Template("voltage")

@@ -34,7 +34,7 @@ func loaderSeeds() []string {
 	for _, kind := range profile.TemplateKinds {
 		out = append(out, profile.Template(kind))
 	}
-	for _, p := range []string{"../../testdata/profiles/wren.toml", "../../testdata/profiles/fern.toml"} {
+	for _, p := range []string{"../model/scenarios/wren.toml", "../model/scenarios/fern.toml"} {
 		if b, err := os.ReadFile(p); err == nil {
 			out = append(out, string(b))
 		}
@@ -155,8 +155,8 @@ func TestLightFiguresAgreeWithModel(t *testing.T) {
 		i := strings.Index(s, "[light]")
 		return s[:i] + "[light]\nkind = \"constant\"\nirradiance_w_m2 = " + g + "\n"
 	}
-	wren, _ := os.ReadFile("../../testdata/profiles/wren.toml")
-	fern, _ := os.ReadFile("../../testdata/profiles/fern.toml")
+	wren, _ := os.ReadFile("../model/scenarios/wren.toml")
+	fern, _ := os.ReadFile("../model/scenarios/fern.toml")
 	cases := []struct{ name, text string }{
 		{"Wren at 300 W/m²", constant(string(wren), "300")},
 		{"Wren at 4 W/m²", constant(string(wren), "4")},

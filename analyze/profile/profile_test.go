@@ -20,7 +20,7 @@ func loadText(t *testing.T, path string) string {
 	return string(b)
 }
 
-const wrenPath = "../../testdata/profiles/wren.toml"
+const wrenPath = "../model/scenarios/wren.toml"
 
 func TestLoadWren(t *testing.T) {
 	p, err := Load(wrenPath)
@@ -65,7 +65,7 @@ func TestLoadWren(t *testing.T) {
 }
 
 func TestLoadFern(t *testing.T) {
-	p, err := Load("../../testdata/profiles/fern.toml")
+	p, err := Load("../model/scenarios/fern.toml")
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -117,7 +117,7 @@ func fmtFloat(f float64) string { return strconv.FormatFloat(f, 'f', 2, 64) }
 
 // The profile gives the declared values; a flag wins over it.
 func TestAnalyzeProfileAndFlagOverride(t *testing.T) {
-	code, out, errs := runAnalyzeCmd(t, "analyze", wrenCapture, "--profile", "../../testdata/profiles/wren.toml", "--cap", "0.1", "--json")
+	code, out, errs := runAnalyzeCmd(t, "analyze", wrenCapture, "--profile", "../../analyze/model/scenarios/wren.toml", "--cap", "0.1", "--json")
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
 	}

@@ -68,7 +68,7 @@ func TestCalibrateDryRunWithProfile(t *testing.T) {
 	// The board divides by 1; the profile's divider is 1:2, so 2048 counts at 5 V are
 	// 2.5 V at the pin and 5 V at the node. A meter reading of 5.10 V gives gain 1.02.
 	code, out, errs := runCmd(t, "calibrate", "--port", b.path, "--yes", "--dry-run", "--samples", "3",
-		"--profile", "../../testdata/profiles/wren.toml", "5.10")
+		"--profile", "../../analyze/model/scenarios/wren.toml", "5.10")
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
 	}

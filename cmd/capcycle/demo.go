@@ -17,7 +17,6 @@ import (
 	"capcycle/analyze/model"
 	"capcycle/analyze/profile"
 	htmlreport "capcycle/analyze/report"
-	"capcycle/cmd/capcycle/demodata"
 	"capcycle/firmware-protocol/virtualboard"
 	"capcycle/firmware-protocol/wire"
 	"capcycle/logger"
@@ -100,7 +99,7 @@ func runDemo(ctx context.Context, args []string, e *env) error {
 	fs.BoolVar(&o.keep, "keep", false, "keep the capture files in --out (by default they go to a temporary directory that is removed)")
 	fs.Float64Var(&o.speed, "speed", demoSpeed, "how many times faster than real time the virtual robot runs; 0 runs as fast as the recorder reads")
 	fs.Uint64Var(&o.seed, "seed", 1, "seed of the virtual board's noise and divider errors")
-	scen := fs.String("scenario", "", "run only these scenarios (comma-separated: "+strings.Join(demodata.Names(), ", ")+"); default all")
+	scen := fs.String("scenario", "", "run only these scenarios (comma-separated: "+strings.Join(model.ScenarioNames(), ", ")+"); default all")
 	if err := parseFlags(fs, args); err != nil {
 		return err
 	}
@@ -120,12 +119,12 @@ func runDemo(ctx context.Context, args []string, e *env) error {
 		return usageErrorf("--start: %w", err)
 	}
 	o.startS = startS
-	o.only = demodata.Names()
+	o.only = model.ScenarioNames()
 	if *scen != "" {
 		o.only = nil
 		for _, s := range recordSplit(*scen) {
-			if _, err := demodata.Profile(strings.ToLower(s)); err != nil {
-				return usageErrorf("--scenario %q: want %s", s, strings.Join(demodata.Names(), " or "))
+			if _, err := model.ScenarioProfile(strings.ToLower(s)); err != nil {
+				return usageErrorf("--scenario %q: want %s", s, strings.Join(model.ScenarioNames(), " or "))
 			}
 			o.only = append(o.only, strings.ToLower(s))
 		}
@@ -207,7 +206,7 @@ func printOutcome(w io.Writer, out *demoOutcome, keep bool) {
 
 // demoScenario records, analyses and reports one scenario.
 func demoScenario(ctx context.Context, name string, o *demoOptions, capDir string, emu *emulatedBoards) (*demoOutcome, error) {
-	raw, err := demodata.Profile(name)
+	raw, err := model.ScenarioProfile(name)
 	if err != nil {
 		return nil, workErrorf("%w", err)
 	}

@@ -18,7 +18,7 @@ import (
 
 // TestEveryExampleRuns takes every example from every command's -h and every command
 // line from the README, and runs it in-process against the demo data: the profiles in
-// testdata/profiles and the captures in testdata/captures, copied into a fresh directory
+// analyze/model/scenarios and the captures in testdata/captures, copied into a fresh directory
 // under the names the example uses. Each must exit 0, except where exampleNeeds says
 // what it needs that a test machine lacks and which exit code and message it then gives.
 func TestEveryExampleRuns(t *testing.T) {
@@ -354,22 +354,22 @@ func newExampleFixtures(t *testing.T) *exampleFixtures {
 // exampleFiles maps the names of the inputs the examples use to demo data: a file under
 // the repository root, or "analysis:CAPTURE:PROFILE" for the analysis JSON of a capture.
 var exampleFiles = map[string]string{
-	"wren.toml":                   "testdata/profiles/wren.toml",
-	"before.toml":                 "testdata/profiles/wren.toml",
-	"testdata/profiles/wren.toml": "testdata/profiles/wren.toml",
-	"fern.toml":                   "testdata/profiles/fern.toml",
-	"after.toml":                  "testdata/profiles/fern.toml",
-	"testdata/profiles/fern.toml": "testdata/profiles/fern.toml",
-	"wren.csv":                    "testdata/captures/wren-rc-10min.csv",
-	"wren-day.csv":                "testdata/captures/wren-rc-10min.csv",
-	"before.csv":                  "testdata/captures/wren-rc-10min.csv",
-	"fern.csv":                    "testdata/captures/fern-rc-stall-3h.csv",
-	"after.csv":                   "testdata/captures/fern-rc-stall-3h.csv",
-	"logger.csv":                  "logger:testdata/captures/wren-rc-10min.csv",
-	"wren.json":                   "analysis:wren.csv:wren.toml",
-	"wren.analysis.json":          "analysis:wren.csv:wren.toml",
-	"before.analysis.json":        "analysis:before.csv:wren.toml",
-	"after.analysis.json":         "analysis:after.csv:fern.toml",
+	"wren.toml":                         "analyze/model/scenarios/wren.toml",
+	"before.toml":                       "analyze/model/scenarios/wren.toml",
+	"analyze/model/scenarios/wren.toml": "analyze/model/scenarios/wren.toml",
+	"fern.toml":                         "analyze/model/scenarios/fern.toml",
+	"after.toml":                        "analyze/model/scenarios/fern.toml",
+	"analyze/model/scenarios/fern.toml": "analyze/model/scenarios/fern.toml",
+	"wren.csv":                          "testdata/captures/wren-rc-10min.csv",
+	"wren-day.csv":                      "testdata/captures/wren-rc-10min.csv",
+	"before.csv":                        "testdata/captures/wren-rc-10min.csv",
+	"fern.csv":                          "testdata/captures/fern-rc-stall-3h.csv",
+	"after.csv":                         "testdata/captures/fern-rc-stall-3h.csv",
+	"logger.csv":                        "logger:testdata/captures/wren-rc-10min.csv",
+	"wren.json":                         "analysis:wren.csv:wren.toml",
+	"wren.analysis.json":                "analysis:wren.csv:wren.toml",
+	"before.analysis.json":              "analysis:before.csv:wren.toml",
+	"after.analysis.json":               "analysis:after.csv:fern.toml",
 }
 
 // outputFlags take the name of a file the command writes; it is not provided.

@@ -704,7 +704,7 @@ func TestE2ENgspiceScenarios(t *testing.T) {
 // the second of a minute's cycles on) agree to within 0.1 %: Wren's cycle repeats from the
 // second on (the event times are located to 1 ns).
 func TestE2EWhatifAgainstSimulation(t *testing.T) {
-	wren := filepath.Join("..", "..", "testdata", "profiles", "wren.toml")
+	wren := filepath.Join("..", "..", "analyze", "model", "scenarios", "wren.toml")
 	const g = 500.0
 	for _, tc := range []struct {
 		set    string

@@ -169,7 +169,7 @@ func TestCommandSuggestionsAndAliases(t *testing.T) {
 }
 
 func TestOnePrefixOnErrors(t *testing.T) {
-	code, _, errs := runCmd(t, "analyze", "--profile", "../../testdata/profiles/wren.toml", "no-such-capture.csv")
+	code, _, errs := runCmd(t, "analyze", "--profile", "../../analyze/model/scenarios/wren.toml", "no-such-capture.csv")
 	if code == 0 {
 		t.Fatalf("exit 0 for a missing capture")
 	}
@@ -223,8 +223,8 @@ func TestHelpIsConsistent(t *testing.T) {
 func TestReportOneProfilePerCapture(t *testing.T) {
 	dir := t.TempDir()
 	wren, fern := "../../testdata/captures/wren-rc-10min.csv", "../../testdata/captures/fern-rc-stall-3h.csv"
-	code, out, errs := runCmd(t, "report", wren, fern, "--profile", "../../testdata/profiles/wren.toml",
-		"--profile", "../../testdata/profiles/fern.toml", "--out", dir+"/cmp.html")
+	code, out, errs := runCmd(t, "report", wren, fern, "--profile", "../../analyze/model/scenarios/wren.toml",
+		"--profile", "../../analyze/model/scenarios/fern.toml", "--out", dir+"/cmp.html")
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
@@ -244,7 +244,7 @@ func TestSimulateRate(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	// Wren: 4.7 mF into an 18 Ω armature through a 0.4 Ω switch (testdata/profiles/wren.toml):
+	// Wren: 4.7 mF into an 18 Ω armature through a 0.4 Ω switch (analyze/model/scenarios/wren.toml):
 	// τ = 4.7e-3 · 18.4 = 86.48 ms (hand arithmetic); 5 samples in it need 57.8 Hz, and the
 	// next step of 10, 20, 50, 100 Hz is 100 Hz.
 	pulse, _ := model.ExpectedPulse(sc.Circuit)
@@ -273,7 +273,7 @@ func TestSimulateLight(t *testing.T) {
 	// 300 W/m² the same circuit fires. The fire count is read from the summary.
 	fires := func(args ...string) string {
 		t.Helper()
-		code, _, errs := runCmd(t, append([]string{"simulate", "--profile", "../../testdata/profiles/fern.toml", "--hours", "2", "--rate", "1", "--out", t.TempDir() + "/f.csv"}, args...)...)
+		code, _, errs := runCmd(t, append([]string{"simulate", "--profile", "../../analyze/model/scenarios/fern.toml", "--hours", "2", "--rate", "1", "--out", t.TempDir() + "/f.csv"}, args...)...)
 		if code != 0 {
 			t.Fatalf("exit %d: %s", code, errs)
 		}

@@ -54,7 +54,7 @@ func TestAnalysisJSONMatchesGolden(t *testing.T) {
 		for _, withProfile := range []bool{true, false} {
 			name, args := base, []string{"analyze", file, "--json"}
 			if withProfile {
-				args = append(args, "--profile", "../../testdata/profiles/"+c.profile+".toml")
+				args = append(args, "--profile", "../../analyze/model/scenarios/"+c.profile+".toml")
 			} else {
 				name += "-noprofile"
 			}

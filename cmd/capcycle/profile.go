@@ -105,7 +105,7 @@ func profileInit(args []string, e *env) error {
 }
 
 func profileCheck(args []string, e *env) error {
-	fs := newFlags("profile check", "FILE", e.stderr, "capcycle profile check testdata/profiles/wren.toml")
+	fs := newFlags("profile check", "FILE", e.stderr, "capcycle profile check wren.toml")
 	if err := parseFlags(fs, args); err != nil {
 		return err
 	}

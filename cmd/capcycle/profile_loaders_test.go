@@ -24,7 +24,7 @@ func TestProfileADCInputsAreTheBoards(t *testing.T) {
 // "profile check" used to pass that other commands then refused.
 func profileSeeds(t testing.TB) []string {
 	var out []string
-	for _, p := range []string{"../../testdata/profiles/wren.toml", "../../testdata/profiles/fern.toml"} {
+	for _, p := range []string{"../../analyze/model/scenarios/wren.toml", "../../analyze/model/scenarios/fern.toml"} {
 		b, err := os.ReadFile(p)
 		if err != nil {
 			t.Fatal(err)
@@ -117,8 +117,8 @@ func FuzzProfileCommands(f *testing.F) {
 // shows a declared pin capacitor, and refuses a divider resistor typed as "1M" (1 mΩ).
 func TestProfileCheckLightAndPin(t *testing.T) {
 	dir := t.TempDir()
-	fern, _ := os.ReadFile("../../testdata/profiles/fern.toml")
-	wren, _ := os.ReadFile("../../testdata/profiles/wren.toml")
+	fern, _ := os.ReadFile("../../analyze/model/scenarios/fern.toml")
+	wren, _ := os.ReadFile("../../analyze/model/scenarios/wren.toml")
 	constant := func(b []byte, g string) string {
 		s := string(b)
 		return s[:strings.Index(s, "[light]")] + "[light]\nkind = \"constant\"\nirradiance_w_m2 = " + g + "\n"

@@ -19,7 +19,7 @@ func runCmd(t *testing.T, args ...string) (int, string, string) {
 }
 
 func TestProfileCheckWren(t *testing.T) {
-	code, out, errs := runCmd(t, "profile", "check", "../../testdata/profiles/wren.toml")
+	code, out, errs := runCmd(t, "profile", "check", "../../analyze/model/scenarios/wren.toml")
 	if code != 0 {
 		t.Fatalf("exit %d, stderr %q", code, errs)
 	}
@@ -39,7 +39,7 @@ func TestProfileCheckWren(t *testing.T) {
 }
 
 func TestProfileCheckFern(t *testing.T) {
-	code, out, _ := runCmd(t, "profile", "check", "../../testdata/profiles/fern.toml")
+	code, out, _ := runCmd(t, "profile", "check", "../../analyze/model/scenarios/fern.toml")
 	if code != 0 || !strings.Contains(out, "supercapacitor 470 mF") || !strings.Contains(out, "leakage limit     not known") {
 		t.Fatalf("exit %d:\n%s", code, out)
 	}
@@ -47,7 +47,7 @@ func TestProfileCheckFern(t *testing.T) {
 
 func TestProfileCheckBad(t *testing.T) {
 	dir := t.TempDir()
-	base, err := os.ReadFile("../../testdata/profiles/wren.toml")
+	base, err := os.ReadFile("../../analyze/model/scenarios/wren.toml")
 	if err != nil {
 		t.Fatal(err)
 	}

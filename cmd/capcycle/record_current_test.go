@@ -23,7 +23,7 @@ import (
 // 5 V range (full scale 250 mA, 244 µA per count).
 func wrenCurrentProfile(t *testing.T) string {
 	t.Helper()
-	src, err := os.ReadFile(filepath.Join("..", "..", "testdata", "profiles", "wren.toml"))
+	src, err := os.ReadFile(filepath.Join("..", "..", "analyze", "model", "scenarios", "wren.toml"))
 	if err != nil {
 		t.Fatal(err)
 	}

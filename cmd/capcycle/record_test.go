@@ -152,7 +152,7 @@ func (b *recBoard) commands() []wire.Frame {
 func TestRecordCommand(t *testing.T) {
 	b := newRecBoard(t, 2)
 	out := filepath.Join(t.TempDir(), "wren.csv")
-	code, _, errs := runCmd(t, "record", "--port", b.path, "--profile", "../../testdata/profiles/wren.toml",
+	code, _, errs := runCmd(t, "record", "--port", b.path, "--profile", "../../analyze/model/scenarios/wren.toml",
 		"--out", out, "--duration", "700ms", "--quiet")
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)

@@ -14,7 +14,6 @@ import (
 	"capcycle/analyze/model"
 	"capcycle/analyze/profile"
 	"capcycle/analyze/units"
-	"capcycle/cmd/capcycle/demodata"
 	"capcycle/cmd/internal/cli"
 	"capcycle/firmware-protocol/virtualboard"
 	"capcycle/firmware-protocol/wire"
@@ -51,7 +50,7 @@ func newRobotFlags(w io.Writer) (*flag.FlagSet, *robotFlags) {
 	fs := newFlags("robot", "[--scenario wren|fern | --profile P] [flags]", w,
 		"capcycle robot",
 		"capcycle robot --scenario fern --hours 8 --start 08:00",
-		"capcycle robot --profile testdata/profiles/wren.toml --noise-v 5m --seed 4",
+		"capcycle robot --profile wren.toml --noise-v 5m --seed 4",
 		"capcycle robot --link /tmp/ttyWREN --start 10:00 &  capcycle record --port /tmp/ttyWREN --duration 5m")
 	f := &robotFlags{noiseV: units.NewValue(2e-3, units.Volt, units.NonNegative), speed: speedValue{auto: true}}
 	fs.StringVar(&f.scenario, "scenario", "", "built-in scenario: "+strings.Join(model.ScenarioNames(), " or ")+" (default wren when no --profile)")
@@ -101,7 +100,7 @@ func (f *robotFlags) rig() (*model.Rig, error) {
 	rig := model.RigFromScene(sc)
 	// The board is wired as in the scenario's demo profile (Wren's vcell input, Fern's
 	// divider), when there is one.
-	if raw, err := demodata.Profile(strings.ToLower(name)); err == nil {
+	if raw, err := model.ScenarioProfile(strings.ToLower(name)); err == nil {
 		p, err := profile.Parse(strings.ToLower(name)+".toml", raw)
 		if err != nil {
 			return nil, workErrorf("built-in profile: %w", err)

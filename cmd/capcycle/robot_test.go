@@ -73,7 +73,7 @@ func TestModelSourceFollowsModel(t *testing.T) {
 
 // TestRigFromProfile: the board is wired as the Wren profile's channels say.
 func TestRigFromProfile(t *testing.T) {
-	p, err := profile.Load(filepath.Join("..", "..", "testdata", "profiles", "wren.toml"))
+	p, err := profile.Load(filepath.Join("..", "..", "analyze", "model", "scenarios", "wren.toml"))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -115,7 +115,7 @@ func TestBoardConfigNoise(t *testing.T) {
 // records it with the logger over the real serial stack (go.bug.st/serial on the
 // pseudo-terminal) until the robot's model time is over.
 func TestRobotOverPTY(t *testing.T) {
-	prof := filepath.Join("..", "..", "testdata", "profiles", "wren.toml")
+	prof := filepath.Join("..", "..", "analyze", "model", "scenarios", "wren.toml")
 	stdoutR, stdoutW := io.Pipe()
 	stderr := &loggertest.Buffer{}
 	ctx, cancel := context.WithTimeout(context.Background(), time.Minute)

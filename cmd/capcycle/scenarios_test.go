@@ -22,10 +22,10 @@ import (
 	"capcycle/logger/capture"
 )
 
-// loadProfile reads a profile from testdata/profiles.
+// loadProfile reads a profile from analyze/model/scenarios.
 func loadProfile(t *testing.T, name string) *profile.Profile {
 	t.Helper()
-	p, err := profile.Load(filepath.Join("..", "..", "testdata", "profiles", name))
+	p, err := profile.Load(filepath.Join("..", "..", "analyze", "model", "scenarios", name))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -225,10 +225,10 @@ func modelFires(sim *model.Result, endS float64) int {
 	return n
 }
 
-// profileText reads a profile's text from testdata/profiles.
+// profileText reads a profile's text from analyze/model/scenarios.
 func profileText(t *testing.T, name string) string {
 	t.Helper()
-	b, err := os.ReadFile(filepath.Join("..", "..", "testdata", "profiles", name))
+	b, err := os.ReadFile(filepath.Join("..", "..", "analyze", "model", "scenarios", name))
 	if err != nil {
 		t.Fatal(err)
 	}

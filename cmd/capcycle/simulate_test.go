@@ -42,7 +42,7 @@ func readCapture(t *testing.T, path string) (meta map[string]string, ts, vs []fl
 // file's 10 µV resolution.
 func TestSimulateProfile(t *testing.T) {
 	out := filepath.Join(t.TempDir(), "fern.csv")
-	code, _, errs := runCmd(t, "simulate", "--profile", "../../testdata/profiles/fern.toml", "--hours", "2", "--rate", "0.5", "-o", out)
+	code, _, errs := runCmd(t, "simulate", "--profile", "../../analyze/model/scenarios/fern.toml", "--hours", "2", "--rate", "0.5", "-o", out)
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
 	}

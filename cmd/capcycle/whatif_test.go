@@ -33,7 +33,7 @@ func whatifJSON(t *testing.T, args ...string) whatif.Report {
 // (V falls as exp(−t/RC) into a resistive load) and gives up less than twice the energy.
 // The period grows.
 func TestWhatifDoubleCap(t *testing.T) {
-	const wren = "../../testdata/profiles/wren.toml"
+	const wren = "../../analyze/model/scenarios/wren.toml"
 	p, err := profile.Load(wren)
 	if err != nil {
 		t.Fatal(err)
@@ -80,7 +80,7 @@ func TestWhatifDoubleCap(t *testing.T) {
 }
 
 func TestWhatifTargetProposesStandardValues(t *testing.T) {
-	a := whatifJSON(t, "--profile", "../../testdata/profiles/wren.toml", "--light", "500", "--target", "period=60s", "--vary", "cap")
+	a := whatifJSON(t, "--profile", "../../analyze/model/scenarios/wren.toml", "--light", "500", "--target", "period=60s", "--vary", "cap")
 	if len(a.Proposals) < 2 || a.Proposals[0].Label != "exact" {
 		t.Fatalf("proposals %+v", a.Proposals)
 	}
@@ -97,8 +97,8 @@ func TestWhatifTargetProposesStandardValues(t *testing.T) {
 func TestWhatifBadUsage(t *testing.T) {
 	for _, args := range [][]string{
 		{"whatif"},
-		{"whatif", "--profile", "../../testdata/profiles/wren.toml", "--light", "500", "--set", "colour=red"},
-		{"whatif", "--profile", "../../testdata/profiles/wren.toml", "--light", "500", "--target", "speed=3"},
+		{"whatif", "--profile", "../../analyze/model/scenarios/wren.toml", "--light", "500", "--set", "colour=red"},
+		{"whatif", "--profile", "../../analyze/model/scenarios/wren.toml", "--light", "500", "--target", "speed=3"},
 		{"whatif", "--profile", "no-such.toml"},
 	} {
 		if code, _, errs := runCmd(t, args...); code != 2 || strings.Count(strings.TrimSpace(errs), "\n") > 0 && !strings.Contains(errs, "usage") {
