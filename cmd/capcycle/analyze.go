@@ -205,31 +205,10 @@ func runAnalyze(ctx context.Context, args []string, e *env) error {
 
 // reader applies the column-mapping flags.
 func (f *analyzeFlags) reader(r *capture.Reader) error {
-	r.TimeCol, r.VoltCol, r.CurrentCol = f.timeCol, f.voltCol, f.currentCol
-	tf, err := capture.ParseTimeFormat(f.timeFormat)
-	if err != nil {
-		return usageErrorf("--time-format: %w", err)
-	}
-	r.TimeFormat = tf
-	switch strings.ToLower(f.voltUnit) {
-	case "":
-	case "v":
-		r.VoltScale = 1
-	case "mv":
-		r.VoltScale = 1e-3
-	case "uv", "µv", "μv":
-		r.VoltScale = 1e-6
-	default:
-		return usageErrorf("--volt-unit %q: want V, mV or uV", f.voltUnit)
-	}
-	switch f.delim {
-	case "":
-	case ",", ";":
-		r.Comma = f.delim[0]
-	case "tab", "\\t", "\t":
-		r.Comma = '\t'
-	default:
-		return usageErrorf("--delim %q: want ',', ';' or tab", f.delim)
+	c := capture.Columns{Time: f.timeCol, Volt: f.voltCol, Current: f.currentCol,
+		TimeFormat: f.timeFormat, VoltUnit: f.voltUnit, Delim: f.delim}
+	if err := c.Apply(r); err != nil {
+		return usageErrorf("%w", err)
 	}
 	return nil
 }

@@ -9,7 +9,6 @@ import (
 	"path/filepath"
 	"strings"
 	"sync"
-	"sync/atomic"
 	"time"
 
 	"capcycle/analyze"
@@ -283,7 +282,7 @@ func recordVirtual(ctx context.Context, rig *model.Rig, p *profile.Profile, o *d
 	bcfg.Speed = o.speed
 	bcfg.SlowHz, bcfg.FastHz, bcfg.Thr, bcfg.Pre, bcfg.Post = demoSlowHz, demoFastHz, demoThr(p, rig, fl.EBits), demoPre, demoPost
 	bcfg.TxQueue = 4096
-	var written counter
+	var written logger.ByteCounter
 	bcfg.Tap = &written
 	if demoBoardHook != nil {
 		demoBoardHook(bcfg)
@@ -294,9 +293,9 @@ func recordVirtual(ctx context.Context, rig *model.Rig, p *profile.Profile, o *d
 	}
 	defer b.Close()
 
-	var read counter
+	var read logger.ByteCounter
 	lcfg := &logger.Config{
-		Port: b.Path(), Open: countingOpen(&read), Out: path, Force: true,
+		Port: b.Path(), Open: logger.CountingOpen(nil, &read), Out: path, Force: true,
 		Notes: []string{"demo: the virtual robot (circuit model) on a virtual board, " + fmt.Sprintf("%gx real time", o.speed)},
 	}
 	if err := recordFromProfile(lcfg, p, false); err != nil {
@@ -308,87 +307,17 @@ func recordVirtual(ctx context.Context, rig *model.Rig, p *profile.Profile, o *d
 		}
 		return src.Err()
 	}
-	return recordUntilDrained(ctx, lcfg, rig.Name, run, func() bool { return read.n.Load() >= written.n.Load() })
+	return recordUntilDrained(ctx, lcfg, rig.Name, run, func() bool { return read.N() >= written.N() })
 }
 
-// recordUntilDrained runs the logger while run drives the board; once run returns, it
-// waits until drained reports that the host has read everything (and a moment more for
-// the logger to write it), then stops the logger and returns its summary.
+// recordUntilDrained records while run drives the board (logger.RecordWhile), until
+// drained says the host has read everything.
 func recordUntilDrained(ctx context.Context, lcfg *logger.Config, name string, run func(context.Context) error, drained func() bool) (*logger.Summary, error) {
-	recCtx, stopRec := context.WithCancel(ctx)
-	defer stopRec()
-	boardCtx, stopBoard := context.WithCancel(ctx)
-	defer stopBoard()
-	type recResult struct {
-		s   *logger.Summary
-		err error
+	s, err := logger.RecordWhile(ctx, lcfg, run, drained, 100*time.Millisecond)
+	if err != nil {
+		return nil, workErrorf("%s: %w", name, err)
 	}
-	recDone := make(chan recResult, 1)
-	go func() {
-		s, err := logger.Record(recCtx, lcfg)
-		recDone <- recResult{s, err}
-	}()
-	runDone := make(chan error, 1)
-	go func() { runDone <- run(boardCtx) }()
-	select {
-	case r := <-recDone: // the recorder stopped before the board: that is a failure
-		stopBoard()
-		<-runDone
-		if r.err != nil {
-			return nil, workErrorf("%s: recording: %w", name, r.err)
-		}
-		return nil, workErrorf("%s: the recorder stopped early (%s)", name, r.s.Stop)
-	case err := <-runDone:
-		if err != nil {
-			stopRec()
-			<-recDone
-			return nil, workErrorf("%s: board: %w", name, err)
-		}
-	}
-	// Let the host read what is still in the pseudo-terminal, then give the logger
-	// a moment to write it.
-	deadline := time.Now().Add(10 * time.Second)
-	for !drained() && time.Now().Before(deadline) {
-		time.Sleep(5 * time.Millisecond)
-	}
-	time.Sleep(100 * time.Millisecond)
-	stopRec()
-	r := <-recDone
-	if r.err != nil {
-		return nil, workErrorf("%s: recording: %w", name, r.err)
-	}
-	return r.s, nil
-}
-
-// counter counts bytes; as an io.Writer it counts what is written to it.
-type counter struct{ n atomic.Int64 }
-
-func (c *counter) Write(p []byte) (int, error) {
-	c.n.Add(int64(len(p)))
-	return len(p), nil
-}
-
-// countingOpen opens ports with the real serial stack (logger.Open) and counts the
-// bytes read from them.
-func countingOpen(c *counter) logger.Opener {
-	return func(path string, mode *logger.Mode) (logger.Port, error) {
-		p, err := logger.Open(path, mode)
-		if err != nil {
-			return nil, err
-		}
-		return &countingPort{Port: p, c: c}, nil
-	}
-}
-
-type countingPort struct {
-	logger.Port
-	c *counter
-}
-
-func (p *countingPort) Read(b []byte) (int, error) {
-	n, err := p.Port.Read(b)
-	p.c.n.Add(int64(n))
-	return n, err
+	return s, nil
 }
 
 // clockSeconds reads a time of day "HH:MM" as seconds from midnight.

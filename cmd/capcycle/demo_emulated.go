@@ -64,9 +64,9 @@ func recordEmulated(ctx context.Context, emu *emulatedBoards, rig *model.Rig, p 
 		return nil, workErrorf("%s: emulated board: %w", rig.Name, err)
 	}
 	defer board.Close()
-	var read counter
+	var read logger.ByteCounter
 	lcfg := &logger.Config{
-		Port: board.Path, Open: countingOpen(&read), Out: path, Force: true,
+		Port: board.Path, Open: logger.CountingOpen(nil, &read), Out: path, Force: true,
 		SlowHz: demoSlowHz, FastHz: demoFastHz, Burst: &logger.Burst{Thr: uint32(demoThr(p, rig, emulatedEBits)), Pre: demoPre, Post: demoPost},
 		Notes: []string{"demo: the board firmware in simavr, its ADC driven by the circuit model"},
 	}
@@ -83,9 +83,9 @@ func recordEmulated(ctx context.Context, emu *emulatedBoards, rig *model.Rig, p 
 	}
 	// The harness has exited with the waveform: whatever it wrote is in the
 	// pseudo-terminal or already read; a quiet port for a moment means it is all read.
-	last, quiet := read.n.Load(), time.Now()
+	last, quiet := read.N(), time.Now()
 	drained := func() bool {
-		if n := read.n.Load(); n != last {
+		if n := read.N(); n != last {
 			last, quiet = n, time.Now()
 		}
 		return time.Since(quiet) > 300*time.Millisecond
