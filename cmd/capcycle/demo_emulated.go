@@ -1,14 +1,12 @@
 package main
 
 import (
-	"bufio"
 	"context"
 	"fmt"
 	"io"
 	"math"
 	"os"
 	"path/filepath"
-	"strconv"
 	"time"
 
 	"capcycle/analyze/model"
@@ -99,82 +97,19 @@ const emulatedEBits = 12
 // waveTolV is how far the waveform file may stray from the model between its points.
 const waveTolV = 2e-3
 
-// writeWaveform samples the model of rig at the demo's fast rate and writes the points
-// a piecewise-linear waveform needs to stay within waveTolV of every sample (and at
-// least one a minute), in the emulator's format: time, then volts per input.
+// writeWaveform samples the model of rig at the demo's fast rate into the emulator's
+// waveform file (emulator.WriteWaveform), within waveTolV of every sample.
 func writeWaveform(path string, rig *model.Rig, durationS float64) error {
 	src, err := model.NewRigSource(rig, durationS, demoFastHz)
 	if err != nil {
 		return err
 	}
-	f, err := os.Create(path)
-	if err != nil {
+	names := make([]string, len(rig.Nodes))
+	for k, n := range rig.Nodes {
+		names[k] = n.String()
+	}
+	if err := emulator.WriteWaveform(path, names, demoFastHz, waveTolV, src.Sample); err != nil {
 		return err
 	}
-	w := bufio.NewWriter(f)
-	fmt.Fprint(w, "time_s")
-	for _, n := range rig.Nodes {
-		fmt.Fprintf(w, " %s_v", n)
-	}
-	fmt.Fprintln(w)
-	row := func(t float64, v []float64) {
-		w.WriteString(strconv.FormatFloat(t, 'f', 4, 64))
-		for _, x := range v {
-			w.WriteByte(' ')
-			w.WriteString(strconv.FormatFloat(x, 'f', 5, 64))
-		}
-		w.WriteByte('\n')
-	}
-	n := len(rig.Nodes)
-	last, prev, cur := make([]float64, n), make([]float64, n), make([]float64, n)
-	lastT, prevT := 0.0, 0.0
-	step := 1.0 / demoFastHz
-	first := true
-	for i := 0; ; i++ {
-		t := float64(i) * step
-		clear(cur)
-		if !src.Sample(t, cur) {
-			break
-		}
-		if first {
-			row(t, cur)
-			copy(last, cur)
-			lastT, first = t, false
-		} else if t-lastT > 60 || far(last, cur, waveTolV) {
-			// The voltage moved: the previous sample ends the straight stretch.
-			if prevT > lastT {
-				row(prevT, prev)
-				copy(last, prev)
-				lastT = prevT
-			}
-			if far(last, cur, waveTolV) || t-lastT > 60 {
-				row(t, cur)
-				copy(last, cur)
-				lastT = t
-			}
-		}
-		copy(prev, cur)
-		prevT = t
-	}
-	if prevT > lastT {
-		row(prevT, prev)
-	}
-	if err := src.Err(); err != nil {
-		f.Close()
-		return err
-	}
-	if err := w.Flush(); err != nil {
-		f.Close()
-		return err
-	}
-	return f.Close()
-}
-
-func far(a, b []float64, tol float64) bool {
-	for k := range a {
-		if math.Abs(a[k]-b[k]) > tol {
-			return true
-		}
-	}
-	return false
+	return src.Err()
 }
