@@ -56,20 +56,9 @@ func runCalibrate(ctx context.Context, args []string, e *env) error {
 	if *n < 1 {
 		return usageErrorf("--samples %d: want at least 1", *n)
 	}
-	div := 0.0
-	if *prof != "" {
-		p, err := profile.Load(*prof)
-		if err != nil {
-			return inputError(err)
-		}
-		for _, c := range p.Channels {
-			if c.ADC == *ch {
-				div = c.Ratio()
-			}
-		}
-		if div == 0 {
-			return inputError(fmt.Errorf("profile %s has no channel on ADC%d", p.Name, *ch))
-		}
+	div, err := profileDivider(*prof, *ch)
+	if err != nil {
+		return err
 	}
 	path := *port
 	mode := &logger.Mode{BaudRate: *baud}
@@ -96,26 +85,9 @@ func runCalibrate(ctx context.Context, args []string, e *env) error {
 		}
 	}
 	fmt.Fprintln(e.stderr, calibrateSafety)
-	in := bufio.NewReader(e.stdin)
-	var pts []logger.CalPoint
-	for _, v := range trueV {
-		if !*yes {
-			fmt.Fprintf(e.stderr, "\nApply %s to channel %d (read it on the multimeter), then press Enter: ", units.Format(v, units.Volt), *ch)
-			if _, err := in.ReadString('\n'); err != nil && err != io.EOF {
-				return workErrorf("reading standard input: %w", err)
-			}
-		}
-		r, err := b.Average(ctx, *ch, *n, 3*time.Second)
-		if err != nil {
-			return workErrorf("%w", err)
-		}
-		if *dryRun && div > 0 {
-			// Nothing was sent: the board still divides by its own ratio.
-			r.RawV *= b.Channels[*ch].Div.Float64() / div
-			r.SDV *= b.Channels[*ch].Div.Float64() / div
-		}
-		fmt.Fprintf(e.stdout, "point: true_v=%.5f raw_v=%.5f sd_v=%.5f counts=%.2f n=%d\n", v, r.RawV, r.SDV, r.Counts, r.N)
-		pts = append(pts, logger.CalPoint{RawV: r.RawV, TrueV: v})
+	pts, err := readPoints(ctx, e, b, trueV, *ch, *n, *yes, *dryRun, div)
+	if err != nil {
+		return err
 	}
 	gain, off, err := logger.FitCalibration(pts)
 	if err != nil {
@@ -140,4 +112,49 @@ func runCalibrate(ctx context.Context, args []string, e *env) error {
 	}
 	fmt.Fprintln(e.stdout, "saved to the board; every capture records it in its calibration line")
 	return nil
+}
+
+// profileDivider is the divider ratio of the profile's channel on ADC ch (0 without a
+// profile).
+func profileDivider(path string, ch int) (float64, error) {
+	if path == "" {
+		return 0, nil
+	}
+	p, err := profile.Load(path)
+	if err != nil {
+		return 0, inputError(err)
+	}
+	for _, c := range p.Channels {
+		if c.ADC == ch {
+			return c.Ratio(), nil
+		}
+	}
+	return 0, inputError(fmt.Errorf("profile %s has no channel on ADC%d", p.Name, ch))
+}
+
+// readPoints reads the board at each known voltage (after Enter, unless yes), averaging n
+// readings, and prints each point. On a dry run with a profile's divider, which was not
+// sent, the board's own ratio is replaced by it.
+func readPoints(ctx context.Context, e *env, b *logger.Board, trueV []float64, ch, n int, yes, dryRun bool, div float64) ([]logger.CalPoint, error) {
+	in := bufio.NewReader(e.stdin)
+	var pts []logger.CalPoint
+	for _, v := range trueV {
+		if !yes {
+			fmt.Fprintf(e.stderr, "\nApply %s to channel %d (read it on the multimeter), then press Enter: ", units.Format(v, units.Volt), ch)
+			if _, err := in.ReadString('\n'); err != nil && err != io.EOF {
+				return nil, workErrorf("reading standard input: %w", err)
+			}
+		}
+		r, err := b.Average(ctx, ch, n, 3*time.Second)
+		if err != nil {
+			return nil, workErrorf("%w", err)
+		}
+		if dryRun && div > 0 {
+			r.RawV *= b.Channels[ch].Div.Float64() / div
+			r.SDV *= b.Channels[ch].Div.Float64() / div
+		}
+		fmt.Fprintf(e.stdout, "point: true_v=%.5f raw_v=%.5f sd_v=%.5f counts=%.2f n=%d\n", v, r.RawV, r.SDV, r.Counts, r.N)
+		pts = append(pts, logger.CalPoint{RawV: r.RawV, TrueV: v})
+	}
+	return pts, nil
 }
