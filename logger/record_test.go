@@ -55,6 +55,7 @@ func (r *recording) waitFor(want string) {
 		case <-time.After(20 * time.Millisecond):
 		}
 	}
+	r.t.Log(strings.ReplaceAll(r.status.String(), "\r", "\n"))
 	r.t.Fatalf("no %q in the status within 10 s; last %q", want, r.last())
 }
 
@@ -203,6 +204,7 @@ func TestRecordNoHandshake(t *testing.T) {
 	pb.setQuiet(true)
 	cfg := ptyConfig(pb)
 	cfg.Handshake = 300 * time.Millisecond
+	cfg.StartWait = 700 * time.Millisecond // the start asks again until this limit
 	cfg.Out = filepath.Join(t.TempDir(), "x.csv")
 	_, err := Record(context.Background(), cfg)
 	if !errors.Is(err, ErrHandshake) {

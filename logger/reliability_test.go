@@ -110,8 +110,8 @@ func TestClockWrap(t *testing.T) {
 
 // TestUnplugAndReturn: the device side closes; the file keeps what it has, notes the
 // gap, and the recording resumes in the same file when the board comes back. (The test
-// board sends 5 s of device time at once, ahead of the host clock, so the new anchor is
-// just after the last row: time_s never goes back.)
+// board sends 5 s of device time at once, ahead of the host clock; time_s never goes
+// back.)
 func TestUnplugAndReturn(t *testing.T) {
 	pb := newPtyBoard(t)
 	cfg := ptyConfig(pb)
@@ -138,6 +138,43 @@ func TestUnplugAndReturn(t *testing.T) {
 	if len(gaps) != 1 || gaps[0].Reason != capture.GapUnplugged || gaps[0].Lost != 20 ||
 		gaps[0].StartS != ts[49] || math.Abs(gaps[0].EndS-ts[50]) > 1e-6 || ts[50] <= ts[49] {
 		t.Errorf("gaps %+v around rows %v %v", gaps, ts[49], ts[50])
+	}
+}
+
+// TestGapMeasuredByHostClock: the board's clock runs ahead of the host's (5 s of device
+// time arrive at once), then the cable is out for 5 s of host time. The gap in the file is
+// those 5 s, measured by the host clock; the board's timestamps only space the rows within
+// each connected stretch.
+func TestGapMeasuredByHostClock(t *testing.T) {
+	pb := newPtyBoard(t)
+	cfg := ptyConfig(pb)
+	base := time.Date(2026, 12, 1, 12, 0, 0, 0, time.UTC)
+	clk := &fakeClock{t: base}
+	cfg.Now = clk.Now
+	r := startRecording(t, cfg)
+	r.waitFor("0 samples")
+	pb.write(pb.slow(nil, 50, func(int) uint16 { return 1000 })) // 4.9 s of device time, at host time 0
+	r.waitFor("50 samples")
+	pb.unplug()
+	r.waitFor("reopening the port") // the recorder saw the loss
+	clk.Set(base.Add(5 * time.Second))
+	pb.plug()
+	r.waitFor("1 reconnects")
+	pb.write(pb.slow(nil, 10, func(int) uint16 { return 2000 }))
+	r.waitFor("60 samples")
+	r.stop()
+	ts, _, rd := readCapture(t, cfg.Out)
+	if len(ts) != 60 {
+		t.Fatalf("%d rows", len(ts))
+	}
+	if d := ts[1] - ts[0]; math.Abs(d-0.1) > 1.5e-6 {
+		t.Errorf("inside a stretch the rows are %v s apart, want the board's 0.1 s", d)
+	}
+	if d := ts[50] - ts[49]; math.Abs(d-5) > 1.5e-6 {
+		t.Errorf("the 5 s outage is %v s in the file (rows at %v and %v)", d, ts[49], ts[50])
+	}
+	if g := rd.Gaps(); len(g) != 1 || g[0].StartS != ts[49] || math.Abs(g[0].EndS-ts[50]) > 1e-6 {
+		t.Errorf("gaps %+v", g)
 	}
 }
 

@@ -128,6 +128,8 @@ func recordError(err error) error {
 	switch {
 	case errors.Is(err, os.ErrExist):
 		return usageErrorf("%v (use --force to replace it or --append to continue it)", err)
+	case errors.Is(err, logger.ErrOutput):
+		return inputError(err)
 	case errors.Is(err, logger.ErrNoBoard), errors.Is(err, logger.ErrManyBoards):
 		return usageErrorf("%v; pick one with --port PATH", err)
 	case errors.As(err, &pe) && pe.Op == "open":
