@@ -101,7 +101,8 @@ type TextInput struct {
 type Summary struct {
 	Out        string
 	Stats      capture.Stats
-	Clock      capture.Clock
+	Clock      capture.Clock // the board clock's drift; Points 0 when it is not determined
+	ClockNote  string        // why the drift is not determined (DriftFit.Drift), when the board's clock was fitted
 	Segments   int
 	Reconnects int
 	Cycles     int
@@ -513,8 +514,12 @@ func (ss *session) finish(loopErr error) error {
 		st = ss.s.stats
 		ss.sum.Segments = ss.s.segment
 		ss.sum.Cycles = ss.s.fire.Cycles()
-		if ppm, ok := ss.s.drift.PPM(); ok && ss.cfg.Input == InputFrames {
-			ss.sum.Clock = capture.Clock{DriftPPM: ppm, FitS: ss.s.drift.SpanS(), Points: ss.s.drift.Points()}
+		if ss.cfg.Input == InputFrames && ss.s.drift.Points() > 0 {
+			if ppm, ok, why := ss.s.drift.Drift(); ok {
+				ss.sum.Clock = capture.Clock{DriftPPM: ppm, FitS: ss.s.drift.SpanS(), Points: ss.s.drift.Points()}
+			} else {
+				ss.sum.ClockNote = why
+			}
 		}
 		if ss.s.written && ss.s.lastS > ss.hostS(now) {
 			now = ss.start.Add(time.Duration(ss.s.lastS * 1e9)) // the end is not before the last row

@@ -360,8 +360,8 @@ func (c *fakeClock) Set(t time.Time) {
 }
 
 // TestDriftRecorded: a board whose clock runs 5 % fast (105 ms of device time per 100 ms
-// of host time) gets a clock line of +50000 ppm in the trailer. The host clock is the
-// test's, set before each frame is sent, so the arrival times are known.
+// of host time) for 6 s: too short a fit for a drift, so the capture gets no clock line
+// and the summary says why. The host clock is the test's, set before each frame is sent.
 func TestDriftRecorded(t *testing.T) {
 	pb := newPtyBoard(t)
 	cfg := ptyConfig(pb)
@@ -376,20 +376,54 @@ func TestDriftRecorded(t *testing.T) {
 		pb.mu.Lock()
 		pb.tUS += 5000 // 105 ms per frame instead of 100
 		pb.mu.Unlock()
-		time.Sleep(20 * time.Millisecond) // let the recorder read it at this host time
+		time.Sleep(20 * time.Millisecond)
 	}
 	clk.Set(base.Add(7 * time.Second)) // lets the status line redraw
 	r.waitFor("60 samples")
 	sum := r.stop()
-	// A frame read late takes the next frame's host time; the minimum filter drops it.
-	if c := sum.Clock; c.Points != 60 || math.Abs(c.DriftPPM-50000) > 1000 {
-		t.Errorf("clock %+v, want +50000 ppm", c)
+	if sum.Clock.Points != 0 || !strings.Contains(sum.ClockNote, "needs at least 60 s") {
+		t.Errorf("clock %+v note %q: a 6 s fit gave a drift", sum.Clock, sum.ClockNote)
+	}
+	b, _ := os.ReadFile(cfg.Out)
+	if strings.Contains(string(b), "# clock:") {
+		t.Errorf("a clock line from a 6 s fit:\n%s", b)
+	}
+}
+
+// TestDriftInTrailer: two minutes of a board 5 % fast, fed to a session's stream at known
+// host times, end in a clock line of +50000 ppm in the trailer.
+func TestDriftInTrailer(t *testing.T) {
+	base := time.Date(2026, 12, 1, 12, 0, 0, 0, time.UTC)
+	cfg := (&Config{Out: filepath.Join(t.TempDir(), "drift.csv")}).defaults()
+	cfg.Now = func() time.Time { return base.Add(2 * time.Minute) }
+	ss := &session{cfg: cfg, ctx: context.Background(), begun: base, start: base, status: newStatusLine(nil, false, time.Minute)}
+	ss.s = newStream(nil, 1, nil)
+	board := newTestBoard(nil)
+	if err := ss.s.feed(board.idFrames(true), 0); err != nil {
+		t.Fatal(err)
+	}
+	if err := ss.openFile(ss.header(IdentityString(ss.s.id), ss.channels(1))); err != nil {
+		t.Fatal(err)
+	}
+	ss.s.w = ss.w
+	for i := 0; i < 1200; i++ {
+		board.mu.Lock()
+		board.tUS = uint32(i) * 105000 // 105 ms of the board's clock per 100 ms of the host's
+		board.mu.Unlock()
+		if err := ss.s.feed(board.slow(nil, 1, func(int) uint16 { return 100 }), float64(i)/10+0.0003*float64(i%4)); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if err := ss.finish(nil); err != nil {
+		t.Fatal(err)
+	}
+	if c := ss.sum.Clock; c.Points != 1200 || math.Abs(c.DriftPPM-50000) > 100 || c.FitS < 120 {
+		t.Errorf("clock %+v (note %q), want +50000 ppm over 126 s", c, ss.sum.ClockNote)
 	}
 	b, _ := os.ReadFile(cfg.Out)
 	if !strings.Contains(string(b), "# clock: drift_ppm=") {
-		t.Errorf("no clock line:\n%s", b)
+		t.Errorf("no clock line:\n%s", b[len(b)-300:])
 	}
-	t.Logf("clock %+v", sum.Clock)
 }
 
 // TestTextUnplug: text input survives an unplug too, with a gap line.
