@@ -316,3 +316,46 @@ func TestFlushWithinAQuarterSecond(t *testing.T) {
 	}
 	r.stop()
 }
+
+// TestStartNoisyLink: the first identity replies arrive damaged. The start keeps asking,
+// with the state on the status line, and the recording begins once one gets through
+// (it used to give up after one handshake time).
+func TestStartNoisyLink(t *testing.T) {
+	pb := newPtyBoard(t)
+	pb.mu.Lock()
+	pb.garble = 3
+	pb.mu.Unlock()
+	cfg := ptyConfig(pb)
+	cfg.Handshake = 500 * time.Millisecond
+	r := startRecording(t, cfg)
+	r.waitFor("asking the board for its identity")
+	r.waitFor("0 samples")
+	pb.write(pb.slow(nil, 10, func(int) uint16 { return 3 }))
+	r.waitFor("10 samples")
+	sum := r.stop()
+	if n := strings.Count(pbCmds(pb), "id"); n < 4 || sum.Stats.Samples != 10 {
+		t.Errorf("%d identity requests, %+v", n, sum.Stats)
+	}
+	if !strings.Contains(r.status.String(), "no answer from") {
+		t.Errorf("no note of the retries: %q", r.status.String())
+	}
+}
+
+// TestStartStoppedWhileAsking: a cancel while the board has not answered ends the start
+// with ErrHandshake and no capture.
+func TestStartStoppedWhileAsking(t *testing.T) {
+	pb := newPtyBoard(t)
+	pb.setQuiet(true)
+	cfg := ptyConfig(pb)
+	r := startRecording(t, cfg)
+	r.waitFor("asking the board for its identity (")
+	r.waitFor("try 2)")
+	r.cancel()
+	<-r.done
+	if !errors.Is(r.err, ErrHandshake) || !strings.Contains(r.err.Error(), "no capture was written") {
+		t.Errorf("stopped while asking: %v", r.err)
+	}
+	if _, err := os.Stat(cfg.Out); err == nil {
+		t.Error("a capture was created without a handshake")
+	}
+}

@@ -178,6 +178,33 @@ func TestGapMeasuredByHostClock(t *testing.T) {
 	}
 }
 
+// TestResetOnReconnect: the board resets when the port is opened again (as most do on
+// DTR): the file gets one reset line with its board line, not a second board line from
+// the handshake.
+func TestResetOnReconnect(t *testing.T) {
+	pb := newPtyBoard(t)
+	cfg := ptyConfig(pb)
+	r := startRecording(t, cfg)
+	r.waitFor("0 samples")
+	pb.write(pb.slow(nil, 20, func(int) uint16 { return 1000 }))
+	r.waitFor("20 samples")
+	pb.unplug()
+	pb.restart(0, 0)
+	pb.mu.Lock()
+	pb.bootNext = true
+	pb.mu.Unlock()
+	pb.plug()
+	r.waitFor("1 reconnects")
+	pb.write(pb.slow(nil, 20, func(int) uint16 { return 500 }))
+	r.waitFor("40 samples")
+	sum := r.stop()
+	b, _ := os.ReadFile(cfg.Out)
+	text := string(b)
+	if strings.Count(text, "# board:") != 2 || strings.Count(text, "# reset:") != 1 || sum.Segments != 2 {
+		t.Errorf("want the header's board line and one reset with its board line; segments %d:\n%s", sum.Segments, text)
+	}
+}
+
 // TestBoardReset: a boot identity mid-run starts a new segment; time_s stays increasing.
 func TestBoardReset(t *testing.T) {
 	pb := newPtyBoard(t)
