@@ -238,6 +238,7 @@ func (pb *ptyBoard) plug() {
 		pb.t.Fatal(err)
 	}
 	m0.Close()
+	syscall.CloseOnExec(fd) // a child process must not keep the board's side open
 	if err := syscall.SetNonblock(fd, true); err != nil {
 		pb.t.Fatal(err)
 	}
