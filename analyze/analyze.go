@@ -1,78 +1,82 @@
 package analyze
 
 import (
+	"context"
 	"errors"
-	"fmt"
 	"io"
 	"math"
 	"strconv"
 
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect"
 	"capcycle/logger/capture"
 )
 
-// Run reads the whole capture from r and analyses it: every fire and reset, the segments,
-// and the fits of trigger, load, leak and cell, each with its standard error. Reading and
-// parsing run on one goroutine and the analysis on another, handing batches of rows
-// between them; the memory does not grow with the length of the capture beyond a few
-// hundred bytes per cycle.
+// Run reads the whole capture from r and analyses it the whole way: every fire and
+// reset, the segments, the measured circuit (trigger, load, leak, capacitance, cell,
+// equilibrium; see measure), then, with a profile, the prediction of every measured
+// cycle from the declared and the fitted circuit and the fitted model's cycle, and last
+// the findings and the comparison of each declared part with its measurement. (File
+// adds the held-out check, which needs to read the capture twice.)
+//
+// Reading and parsing run on one goroutine and the analysis on another, handing batches
+// of rows between them. Run stops between batches when ctx is done and returns its error.
 //
 // Bad input is returned as the reader's *capture.ParseError (file, line, column), with
 // nothing analysed. opts may be nil.
-func Run(r *capture.Reader, opts *Options) (*Result, error) {
+func Run(ctx context.Context, r *capture.Reader, opts *Options) (*analysis.Result, error) {
 	if opts == nil {
 		opts = &Options{}
 	}
-	n := opts.BatchRows
+	s := newSession(opts)
+	if err := s.read(ctx, r); err != nil {
+		return nil, err
+	}
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	res := s.finish(r)
+	if err := ctx.Err(); err != nil {
+		return nil, err
+	}
+	if err := laterStages(res, opts); err != nil {
+		return res, err
+	}
+	return res, ctx.Err()
+}
+
+// read hands the capture to the session batch by batch.
+func (s *session) read(ctx context.Context, r *capture.Reader) error {
+	n := s.opts.BatchRows
 	if n <= 0 {
 		n = 1 << 16
 	}
-	a := newAnalysis(opts)
 	batches := make(chan *batch, 3)
 	free := make(chan *batch, 4)
 	for i := 0; i < 4; i++ {
 		free <- &batch{t: make([]float64, n), v: make([]float64, n), i: make([]float64, n)}
 	}
 	done := make(chan struct{})
-	go func() {
-		defer close(batches)
-		first := true
-		for {
-			var b *batch
-			select {
-			case b = <-free:
-			case <-done:
-				return
-			}
-			k, err := r.ReadCurrent(b.t, b.v, b.i)
-			b.n, b.err, b.rows, b.bytes, b.hasI = k, err, r.Rows(), r.Offset(), r.HasCurrent()
-			if first {
-				// The header block is read with the first rows: its metadata goes
-				// along with them (the reader keeps adding later event lines).
-				b.meta, first = append([]capture.Field(nil), r.MetaFields()...), false
-			}
-			batches <- b
-			if err != nil {
-				return
-			}
-		}
-	}()
+	go readBatches(r, free, batches, done)
 	var readErr error
 	for b := range batches {
 		if b.meta != nil {
-			a.useMeta(b.meta)
+			s.useMeta(b.meta)
 			b.meta = nil
 		}
 		var cur []float64
 		if b.hasI {
 			cur = b.i[:b.n]
 		}
-		a.push(b.t[:b.n], b.v[:b.n], cur)
-		if opts.Progress != nil {
-			opts.Progress(b.rows, b.bytes)
+		s.push(b.t[:b.n], b.v[:b.n], cur)
+		if s.opts.Progress != nil {
+			s.opts.Progress(b.rows, b.bytes)
 		}
 		err := b.err
 		free <- b
+		if err == nil {
+			err = ctx.Err()
+		}
 		if err != nil {
 			if !errors.Is(err, io.EOF) {
 				readErr = err
@@ -83,16 +87,33 @@ func Run(r *capture.Reader, opts *Options) (*Result, error) {
 	close(done)
 	for range batches { // let the reader goroutine finish
 	}
-	if readErr != nil {
-		return nil, readErr
-	}
-	res := a.finish(r)
-	if opts.Post != nil {
-		if err := opts.Post(res); err != nil {
-			return res, fmt.Errorf("analyze: %w", err)
+	return readErr
+}
+
+// readBatches fills free batches from r and sends them on, until an error (io.EOF at the
+// end) or done.
+func readBatches(r *capture.Reader, free <-chan *batch, batches chan<- *batch, done <-chan struct{}) {
+	defer close(batches)
+	first := true
+	for {
+		var b *batch
+		select {
+		case b = <-free:
+		case <-done:
+			return
+		}
+		k, err := r.ReadCurrent(b.t, b.v, b.i)
+		b.n, b.err, b.rows, b.bytes, b.hasI = k, err, r.Rows(), r.Offset(), r.HasCurrent()
+		if first {
+			// The header block is read with the first rows: its metadata goes
+			// along with them (the reader keeps adding later event lines).
+			b.meta, first = append([]capture.Field(nil), r.MetaFields()...), false
+		}
+		batches <- b
+		if err != nil {
+			return
 		}
 	}
-	return res, nil
 }
 
 type batch struct {
@@ -106,26 +127,29 @@ type batch struct {
 	meta  []capture.Field // the first batch only
 }
 
-// RunSamples analyses samples already in memory (t increasing), as Run does for a file,
-// except that it does not call opts.Post (it has no error to return): a caller that wants
-// the later stages calls the hook on the Result itself.
-func RunSamples(t, v []float64, opts *Options) *Result {
+// RunSamples analyses samples already in memory (t increasing), as Run does a capture.
+func RunSamples(t, v []float64, opts *Options) *analysis.Result {
 	return RunSamplesCurrent(t, v, nil, opts)
 }
 
 // RunSamplesCurrent is RunSamples with the load current iload (amperes, one per sample;
 // nil for none), from which the capacitance is measured at every fire (see pulseCap).
-func RunSamplesCurrent(t, v, iload []float64, opts *Options) *Result {
+// A profile whose circuit cannot be built leaves the prediction out, with a note.
+func RunSamplesCurrent(t, v, iload []float64, opts *Options) *analysis.Result {
 	if opts == nil {
 		opts = &Options{}
 	}
-	a := newAnalysis(opts)
-	a.push(t, v, iload)
-	return a.finish(nil)
+	s := newSession(opts)
+	s.push(t, v, iload)
+	res := s.finish(nil)
+	if err := laterStages(res, opts); err != nil {
+		res.Notes = append(res.Notes, "no prediction: "+err.Error())
+	}
+	return res
 }
 
-// analysis is the state of one run.
-type analysis struct {
+// session is the state of one run.
+type session struct {
 	opts *Options
 	det  *detect.Detector
 	env  *detect.Envelope
@@ -133,26 +157,26 @@ type analysis struct {
 	cal  calWindow
 	chg  *chargeLog // nil without a current channel
 
-	stepOrigin string
+	stepOrigin analysis.StepOrigin
 }
 
-func newAnalysis(opts *Options) *analysis {
-	a := &analysis{opts: opts, env: detect.NewEnvelope(4000)}
+func newSession(opts *Options) *session {
+	a := &session{opts: opts, env: detect.NewEnvelope(4000)}
 	a.col = newCollector(opts)
 	a.det = detect.New(&detect.Config{
 		NoiseV:     opts.NoiseV,
 		MinSwingV:  opts.MinSwingV,
 		GapS:       opts.GapS,
-		FullScaleV: opts.FullScaleV,
+		FullScaleV: opts.Declared.FullScaleV,
 		OnSwing:    a.col.onSwing,
 	})
 	a.col.det = a.det
 	if opts.StepV > 0 {
 		a.det.SetStepV(opts.StepV)
-		a.stepOrigin = "declared"
+		a.stepOrigin = analysis.StepDeclared
 	}
-	if opts.CalResistorOhm > 0 && opts.CalEndS > opts.CalStartS {
-		a.cal = newCalWindow(opts.CalStartS, opts.CalEndS)
+	if c := opts.Declared.Calibration; c != nil && c.ResistorOhm > 0 && c.EndS > c.StartS {
+		a.cal = newCalWindow(c.StartS, c.EndS)
 	}
 	return a
 }
@@ -160,7 +184,7 @@ func newAnalysis(opts *Options) *analysis {
 // push hands samples to the detector and the other accumulators; i is the load current
 // (nil without a current channel). The charge log goes first: the detector's callbacks
 // look the samples up in it.
-func (a *analysis) push(t, v, i []float64) {
+func (a *session) push(t, v, i []float64) {
 	if i != nil {
 		if a.chg == nil {
 			a.chg = newChargeLog()
@@ -179,13 +203,13 @@ func (a *analysis) push(t, v, i []float64) {
 // voltage column, unless Options.StepV gives it: v = counts / 2^bits * ref_v / divider *
 // scale, then the calibration gain, so one count is ref_v / 2^bits / divider * scale *
 // gain (logger/capture/FORMAT.md).
-func (a *analysis) useMeta(meta []capture.Field) {
+func (a *session) useMeta(meta []capture.Field) {
 	if a.opts.StepV > 0 {
 		return
 	}
 	if lsb := metaStep(meta); lsb > 0 {
 		a.det.SetStepV(lsb)
-		a.stepOrigin = "metadata"
+		a.stepOrigin = analysis.StepMetadata
 	}
 }
 

@@ -4,12 +4,13 @@ import (
 	"math"
 	"testing"
 
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect/detecttest"
 )
 
 var wrenRC = detecttest.Circuit{C: 4.7e-3, RLeakOhm: 1e6, RLoadOhm: 20, OnV: 2.8, OffV: 1.6, V0: 1.0}
 
-func within(t *testing.T, what string, e *Estimate, want, rel float64) {
+func within(t *testing.T, what string, e *analysis.Estimate, want, rel float64) {
 	t.Helper()
 	if e == nil {
 		t.Errorf("%s: null, want %.4g", what, want)
@@ -26,7 +27,7 @@ func TestLoadTau(t *testing.T) {
 	for _, ia := range []float64{0.2e-3, 1e-3, 3e-3} {
 		for _, a := range []detecttest.ADC{{}, {NoiseV: 2e-3, Seed: 1}, {NoiseV: 1e-3, Bits: 10, FullV: 5, Seed: 2}, {NoiseV: 1e-3, Bits: 12, FullV: 5, Seed: 3}} {
 			ts, vs, tr := detecttest.Generate(wrenRC, []detecttest.Light{{FromS: 0, IA: ia}}, 200, detecttest.Sampling{DtS: 0.005}, a)
-			res := RunSamples(ts, vs, &Options{CapF: wrenRC.C})
+			res := RunSamples(ts, vs, &Options{Declared: analysis.Declared{CapF: wrenRC.C}})
 			if len(res.Cycles) < len(tr.ResetS)-1 {
 				t.Errorf("I=%g %+v: %d cycles, want %d", ia, a, len(res.Cycles), len(tr.ResetS))
 			}
@@ -49,7 +50,7 @@ func TestLeakTau(t *testing.T) {
 	light := []detecttest.Light{{FromS: 0, IA: 0.5e-3}, {FromS: 120, IA: 0}, {FromS: 7320, IA: 0.5e-3}}
 	for _, a := range []detecttest.ADC{{}, {NoiseV: 2e-3, Seed: 4}, {NoiseV: 1e-3, Bits: 10, FullV: 5, Seed: 5}} {
 		ts, vs, tr := detecttest.Generate(c, light, 7500, detecttest.Sampling{DtS: 0.05}, a)
-		res := RunSamples(ts, vs, &Options{CapF: c.C})
+		res := RunSamples(ts, vs, &Options{Declared: analysis.Declared{CapF: c.C}})
 		within(t, "tau_leak", res.Fit.Leak.TauS, tr.TauLeakS, 0.05)
 		if res.Fit.Leak.Method != "dark-decay" {
 			t.Errorf("leak method %q", res.Fit.Leak.Method)
@@ -66,7 +67,7 @@ func TestLoadTauWithSpikes(t *testing.T) {
 	for _, ia := range []float64{1e-3, 5e-3} {
 		for _, a := range []detecttest.ADC{{NoiseV: 1e-3, Bits: 10, FullV: 5, SpikeV: 0.15, Seed: 3}, {NoiseV: 2e-3, Bits: 12, FullV: 5, SpikeV: 0.15, Seed: 4}} {
 			ts, vs, tr := detecttest.Generate(wrenRC, []detecttest.Light{{FromS: 0, IA: ia}}, 300, detecttest.Sampling{DtS: 0.002}, a)
-			res := RunSamples(ts, vs, &Options{CapF: wrenRC.C})
+			res := RunSamples(ts, vs, &Options{Declared: analysis.Declared{CapF: wrenRC.C}})
 			if len(res.Cycles) < len(tr.ResetS)-1 {
 				t.Errorf("I=%g %+v: %d cycles, want %d", ia, a, len(res.Cycles), len(tr.ResetS))
 			}
@@ -83,7 +84,7 @@ func TestLoadTauSparseNoisy(t *testing.T) {
 	for _, ia := range []float64{1e-3, 5e-3} {
 		a := detecttest.ADC{NoiseV: 5e-3, Bits: 10, FullV: 5, Seed: 2}
 		ts, vs, tr := detecttest.Generate(wrenRC, []detecttest.Light{{FromS: 0, IA: ia}}, 300, detecttest.Sampling{DtS: 0.01}, a)
-		res := RunSamples(ts, vs, &Options{CapF: wrenRC.C})
+		res := RunSamples(ts, vs, &Options{Declared: analysis.Declared{CapF: wrenRC.C}})
 		e := res.Fit.Load.TauS
 		within(t, "tau_load", e, tr.TauLoadS, 0.03)
 		if e != nil && e.SD != nil && math.Abs(e.Value-tr.TauLoadS) > 3**e.SD {

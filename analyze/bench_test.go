@@ -2,6 +2,7 @@ package analyze
 
 import (
 	"bufio"
+	"context"
 	"encoding/csv"
 	"io"
 	"math"
@@ -16,6 +17,7 @@ import (
 	"testing"
 	"time"
 
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect/detecttest"
 	"capcycle/logger/capture"
 )
@@ -163,7 +165,7 @@ func BenchmarkDayAnalysisVsCSVParse(b *testing.B) {
 		if err != nil {
 			b.Fatal(err)
 		}
-		res, err := Run(capture.NewReader(f, path), &Options{CapF: wrenRC.C})
+		res, err := Run(context.Background(), capture.NewReader(f, path), &Options{Declared: analysis.Declared{CapF: wrenRC.C}})
 		f.Close()
 		analyzeD += time.Since(t1)
 		analyzeCPU += cpuTime() - c1
@@ -219,7 +221,7 @@ func BenchmarkPeakHeapByLength(b *testing.B) {
 				runtime.GC()
 				stop, done := make(chan struct{}), make(chan struct{})
 				go func() { peakHeap(stop, &peak); close(done) }()
-				res, err := Run(capture.NewReader(pr, "stream"), nil)
+				res, err := Run(context.Background(), capture.NewReader(pr, "stream"), nil)
 				close(stop)
 				<-done
 				if err != nil {

@@ -2,6 +2,7 @@ package analyze
 
 import (
 	"bufio"
+	"context"
 	"flag"
 	"fmt"
 	"os"
@@ -9,6 +10,7 @@ import (
 	"strconv"
 	"testing"
 
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect/detecttest"
 	"capcycle/logger/capture"
 )
@@ -65,7 +67,7 @@ func TestSyntheticCaptures(t *testing.T) {
 		if err != nil {
 			t.Fatalf("%v (run with -update-captures to make it)", err)
 		}
-		res, err := Run(capture.NewReader(f, path), &Options{CapF: sc.c.C})
+		res, err := Run(context.Background(), capture.NewReader(f, path), &Options{Declared: analysis.Declared{CapF: sc.c.C}})
 		f.Close()
 		if err != nil {
 			t.Fatal(err)

@@ -5,8 +5,10 @@ import (
 	"strings"
 	"testing"
 
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect/detecttest"
 	"capcycle/analyze/model"
+	"capcycle/analyze/stats"
 )
 
 // The built-in Wren circuit (model.Scenario) starting empty in faint light (20 W/m²: a
@@ -25,7 +27,7 @@ func TestCellBrightRise(t *testing.T) {
 		t.Fatal(err)
 	}
 	ts, vs, _ := simulate(t, sc.Circuit, light, 150, 50, 0, detecttest.ADC{NoiseV: 1e-3, Bits: 12, FullV: 5, Seed: 31})
-	res := RunSamples(ts, vs, &Options{CapF: sc.Circuit.Storage.CapF, ProbeOhm: sc.Circuit.ProbeOhm, CellSeries: 5})
+	res := RunSamples(ts, vs, &Options{Declared: analysis.Declared{CapF: sc.Circuit.Storage.CapF, ProbeOhm: sc.Circuit.ProbeOhm, CellSeries: 5}})
 	want := sc.Circuit.Cell.Current(0, 300)
 	cf := res.Fit.Cell
 	if cf.IscA == nil || cf.IscA.SD == nil {
@@ -75,7 +77,7 @@ func TestCellChatterLight(t *testing.T) {
 	c.Trigger.HoldF = 22e-9
 	const g = 50.0
 	ts, vs, _ := simulate(t, c, model.Constant(g), 120, 100, 1.5, detecttest.ADC{NoiseV: 2e-3, Bits: 10, FullV: 10, Seed: 51})
-	res := RunSamples(ts, vs, &Options{CapF: c.Storage.CapF, ProbeOhm: c.ProbeOhm, CellSeries: 5})
+	res := RunSamples(ts, vs, &Options{Declared: analysis.Declared{CapF: c.Storage.CapF, ProbeOhm: c.ProbeOhm, CellSeries: 5}})
 	var l []float64
 	for _, cy := range res.Cycles {
 		if cy.LightA != nil {
@@ -86,7 +88,7 @@ func TestCellChatterLight(t *testing.T) {
 		t.Fatalf("%d cycles with a light level, want the chatter's hundreds", len(l))
 	}
 	isc := c.Cell.Current(0, g)
-	if m := median(l); math.Abs(m-isc) > 0.2*isc {
+	if m := stats.Median(l); math.Abs(m-isc) > 0.2*isc {
 		t.Errorf("median light_a %.4g A, the cell's Isc %.4g A", m, isc)
 	}
 	if n := res.Fit.Cell.N; n != nil && !(n.Value >= 0.5 && n.Value <= 10) {
@@ -111,7 +113,7 @@ func TestCellGrowingLight(t *testing.T) {
 	if len(sim.Fires()) != 0 {
 		t.Fatal("the model fired")
 	}
-	res := RunSamples(ts, vs, &Options{CapF: sc.Circuit.Storage.CapF, ProbeOhm: sc.Circuit.ProbeOhm, CellSeries: sc.Circuit.Cell.Cells})
+	res := RunSamples(ts, vs, &Options{Declared: analysis.Declared{CapF: sc.Circuit.Storage.CapF, ProbeOhm: sc.Circuit.ProbeOhm, CellSeries: sc.Circuit.Cell.Cells}})
 	if cf := res.Fit.Cell; cf.IscA != nil {
 		t.Errorf("isc_a %.4g A from a rise traced in growing light (the cell's Isc went from 0 to %.4g A); notes %q",
 			cf.IscA.Value, sc.Circuit.Cell.Current(0, 40), res.Notes)

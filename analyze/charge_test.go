@@ -5,6 +5,7 @@ import (
 	"math/rand/v2"
 	"testing"
 
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect/detecttest"
 	"capcycle/analyze/model"
 )
@@ -36,9 +37,9 @@ func TestCapacitanceFromCurrent(t *testing.T) {
 		for _, a := range []detecttest.ADC{{NoiseV: 1e-3, Seed: 61}, {NoiseV: 1e-3, Bits: 10, FullV: 5, Seed: 62}} {
 			ts, vs, tr := detecttest.Generate(wrenRC, []detecttest.Light{{FromS: 0, IA: ia}}, 120, detecttest.Sampling{DtS: 0.002}, a)
 			is := loadCurrent(ts, vs, tr, wrenRC.RLoadOhm, 0.4e-3, 0.3e-3, a.Seed)
-			res := RunSamplesCurrent(ts, vs, is, &Options{CapF: 1.3 * wrenRC.C})
+			res := RunSamplesCurrent(ts, vs, is, &Options{Declared: analysis.Declared{CapF: 1.3 * wrenRC.C}})
 			c := res.Capacitance
-			if c == nil || c.Method != "current-channel" || c.F.Origin != "measured" {
+			if c == nil || c.Method != "current-channel" || c.F.Origin != analysis.OriginMeasured {
 				t.Fatalf("I=%g %+v: capacitance %+v, want measured from the current channel", ia, a, c)
 			}
 			within(t, "C", &c.F, wrenRC.C, 0.02)

@@ -2,7 +2,6 @@ package analyze
 
 import (
 	"math"
-	"sort"
 
 	"capcycle/analyze/detect"
 )
@@ -430,16 +429,4 @@ func (w *calWindow) add(t, v []float64) {
 			w.stride *= 2
 		}
 	}
-}
-
-func median(x []float64) float64 {
-	if len(x) == 0 {
-		return math.NaN()
-	}
-	y := append([]float64(nil), x...)
-	sort.Float64s(y)
-	if len(y)%2 == 1 {
-		return y[len(y)/2]
-	}
-	return (y[len(y)/2-1] + y[len(y)/2]) / 2
 }

@@ -4,6 +4,7 @@ import (
 	"math"
 	"testing"
 
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect/detecttest"
 	"capcycle/analyze/model"
 )
@@ -24,7 +25,7 @@ func TestEquilibriumAtTheTrigger(t *testing.T) {
 		if len(tr.FireS) != 0 {
 			t.Fatalf("seed %d: the circuit fired", seed)
 		}
-		res := RunSamples(ts, vs, &Options{CapF: c.C, OnV: 4.0})
+		res := RunSamples(ts, vs, &Options{Declared: analysis.Declared{CapF: c.C, OnV: 4.0}})
 		e := res.EquilibriumV
 		if e == nil || e.SD == nil {
 			t.Fatalf("seed %d: equilibrium %+v, want a value with an SD", seed, e)
@@ -72,7 +73,7 @@ func TestEquilibriumAfterFlatStart(t *testing.T) {
 	if len(sim.Fires()) != 0 {
 		t.Fatal("the model fired")
 	}
-	res := RunSamples(ts, vs, &Options{CapF: c.Storage.CapF, ProbeOhm: c.ProbeOhm})
+	res := RunSamples(ts, vs, &Options{Declared: analysis.Declared{CapF: c.Storage.CapF, ProbeOhm: c.ProbeOhm}})
 	veq := truth[len(truth)-1]
 	if res.EquilibriumV == nil {
 		t.Fatalf("no equilibrium; true %.4f V", veq)

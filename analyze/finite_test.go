@@ -1,12 +1,14 @@
 package analyze
 
 import (
+	"context"
 	"encoding/json"
 	"math"
 	"os"
 	"path/filepath"
 	"testing"
 
+	"capcycle/analyze/analysis"
 	"capcycle/logger/capture"
 )
 
@@ -24,7 +26,7 @@ func TestFiniteLightLevels(t *testing.T) {
 	}
 	defer f.Close()
 	// Wren's profile (testdata/profiles/wren.toml): 4700 uF, a 2 MOhm divider, 5 cells.
-	res, err := Run(capture.NewReader(f, path), &Options{CapF: 4.7e-3, ProbeOhm: 2e6, CellSeries: 5})
+	res, err := Run(context.Background(), capture.NewReader(f, path), &Options{Declared: analysis.Declared{CapF: 4.7e-3, ProbeOhm: 2e6, CellSeries: 5}})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -5,6 +5,7 @@ import (
 	"math"
 
 	"capcycle/analyze/fit"
+	"capcycle/analyze/stats"
 )
 
 // This file holds every call into package fit, so the analysis talks to the least-squares
@@ -90,7 +91,7 @@ func inliers(res []float64, noiseV float64) []int {
 	for i, r := range res {
 		abs[i] = math.Abs(r)
 	}
-	lim := math.Max(4.5*1.4826*median(abs), 4*noiseV)
+	lim := math.Max(4.5*1.4826*stats.Median(abs), 4*noiseV)
 	var keep []int
 	for i, a := range abs {
 		if a <= lim {
@@ -163,7 +164,7 @@ func jointTau(p *pulsePool, swings map[int]bool, guess float64) (tau, se float64
 			rmss = append(rmss, s.rms)
 		}
 	}
-	worst := 3 * median(rmss)
+	worst := 3 * stats.Median(rmss)
 	q := &pulsePool{}
 	for _, s := range p.spans {
 		if swings[s.swing] && s.to-s.from >= 3 && s.rms <= worst {
@@ -183,7 +184,7 @@ func jointTau(p *pulsePool, swings map[int]bool, guess float64) (tau, se float64
 	for i, r := range res {
 		abs[i] = math.Abs(r)
 	}
-	if lim := 4.5 * 1.4826 * median(abs); lim > 0 {
+	if lim := 4.5 * 1.4826 * stats.Median(abs); lim > 0 {
 		r := &pulsePool{}
 		for _, s := range q.spans {
 			from := len(r.t)

@@ -1,12 +1,14 @@
 package analyze
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"math/rand/v2"
 	"strings"
 	"testing"
 
+	"capcycle/analyze/analysis"
 	"capcycle/logger/capture"
 )
 
@@ -39,7 +41,7 @@ func TestStepFromMetadata(t *testing.T) {
 		name, channel, cal string
 		opts               Options
 		want               float64
-		origin             string
+		origin             analysis.StepOrigin
 	}{
 		{"channel", "vcap_v adc=0 bits=11 ref_v=5 divider=0.3125 scale=1", "", Options{}, 5.0 / 2048 / 0.3125, "metadata"},
 		{"with gain", "vcap_v adc=0 bits=12 ref_v=5 divider=0.5 scale=1", "vcap_v gain=1.0012 offset_v=-0.003 from=board", Options{}, 5.0 / 4096 / 0.5 * 1.0012, "metadata"},
@@ -56,7 +58,7 @@ func TestStepFromMetadata(t *testing.T) {
 				tc.want, tc.origin = 5.0/1024/0.5, "metadata"
 			}
 			o := tc.opts
-			res, err := Run(capture.NewReader(strings.NewReader(text), tc.name), &o)
+			res, err := Run(context.Background(), capture.NewReader(strings.NewReader(text), tc.name), &o)
 			if err != nil {
 				t.Fatal(err)
 			}

@@ -4,6 +4,7 @@ import (
 	"math"
 	"testing"
 
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect/detecttest"
 	"capcycle/analyze/model"
 )
@@ -42,7 +43,7 @@ func TestModelWren(t *testing.T) {
 	for _, adc := range []detecttest.ADC{{NoiseV: 2e-3, Bits: 10, FullV: 5, Seed: 21}, {NoiseV: 1e-3, Bits: 12, FullV: 5, Seed: 22}} {
 		const rate = 200
 		ts, vs, sim := simulate(t, sc.Circuit, shifted{sc.Light, 12 * 3600}, 120, rate, 2.0, adc)
-		res := RunSamples(ts, vs, &Options{CapF: sc.Circuit.Storage.CapF, ProbeOhm: sc.Circuit.ProbeOhm})
+		res := RunSamples(ts, vs, &Options{Declared: analysis.Declared{CapF: sc.Circuit.Storage.CapF, ProbeOhm: sc.Circuit.ProbeOhm}})
 		fires := 0
 		for _, c := range sim.Cycles {
 			if !math.IsNaN(c.FireS) && c.ResetS < ts[len(ts)-3] {
@@ -86,7 +87,7 @@ func TestModelMotorNotResistive(t *testing.T) {
 	c.Load = model.Load{Kind: model.LoadMotor, Ohm: 18, KeVsPerRad: 5e-3, InertiaKgM2: 1e-7, FrictionNm: 3e-4}
 	for _, adc := range []detecttest.ADC{{}, {NoiseV: 2e-3, Bits: 12, FullV: 5, Seed: 27}} {
 		ts, vs, _ := simulate(t, &c, model.Constant(300), 120, 500, 1.5, adc)
-		res := RunSamples(ts, vs, &Options{CapF: c.Storage.CapF})
+		res := RunSamples(ts, vs, &Options{Declared: analysis.Declared{CapF: c.Storage.CapF}})
 		if len(res.Cycles) < 5 {
 			t.Fatalf("%+v: %d cycles", adc, len(res.Cycles))
 		}
@@ -116,7 +117,7 @@ func TestModelResistiveLoad(t *testing.T) {
 	tau := c.Storage.CapF / g
 	for _, adc := range []detecttest.ADC{{}, {NoiseV: 2e-3, Bits: 12, FullV: 5, Seed: 23}} {
 		ts, vs, _ := simulate(t, &c, model.Constant(300), 300, 500, 1.5, adc)
-		res := RunSamples(ts, vs, &Options{CapF: c.Storage.CapF})
+		res := RunSamples(ts, vs, &Options{Declared: analysis.Declared{CapF: c.Storage.CapF}})
 		within(t, "model tau_load", res.Fit.Load.TauS, tau, 0.02)
 		within(t, "model on_v", res.Fit.Trigger.OnV, 2.7, 0.01)
 		within(t, "model off_v", res.Fit.Trigger.OffV, 1.8, 0.02)
@@ -156,7 +157,7 @@ func TestModelFernEquilibrium(t *testing.T) {
 	}
 	// About two of the approach's time constants: still 10 % short of the equilibrium.
 	ts, vs, sim := simulate(t, c, model.Constant(g), 2400, 1, 0.05, detecttest.ADC{NoiseV: 1e-3, Seed: 24})
-	res := RunSamples(ts, vs, &Options{CapF: c.Storage.CapF})
+	res := RunSamples(ts, vs, &Options{Declared: analysis.Declared{CapF: c.Storage.CapF}})
 	if len(res.Cycles) != 0 || len(sim.Fires()) != 0 {
 		t.Fatalf("%d fires found, the model had %d", len(res.Cycles), len(sim.Fires()))
 	}
@@ -176,7 +177,7 @@ func TestModelCellTracing(t *testing.T) {
 	c.Trigger = model.Trigger{Kind: model.TriggerNone}
 	const g = 300.0
 	ts, vs, _ := simulate(t, &c, model.Constant(g), 120, 100, 0.01, detecttest.ADC{NoiseV: 0.5e-3, Seed: 25})
-	res := RunSamples(ts, vs, &Options{CapF: c.Storage.CapF, ProbeOhm: c.ProbeOhm, CellSeries: c.Cell.Cells})
+	res := RunSamples(ts, vs, &Options{Declared: analysis.Declared{CapF: c.Storage.CapF, ProbeOhm: c.ProbeOhm, CellSeries: c.Cell.Cells}})
 	isc, voc := c.Cell.Current(0, g), c.Cell.OpenCircuitV(g)
 	t.Logf("traced %d points; model Isc %.4g A Voc %.4g V; fitted %+v %+v; notes %v", len(res.Fit.Cell.IV), isc, voc, res.Fit.Cell.IscA, res.Fit.Cell.VocV, res.Notes)
 	within(t, "isc_a", res.Fit.Cell.IscA, isc, 0.05)
@@ -192,7 +193,7 @@ func TestModelPlateauTrigger(t *testing.T) {
 	c.Load = model.Load{Kind: model.LoadResistor, Ohm: 30}
 	c.Switch = model.Switch{}
 	ts, vs, sim := simulate(t, &c, model.Constant(300), 600, 50, 1.0, detecttest.ADC{NoiseV: 1e-3, Bits: 12, FullV: 5, Seed: 26})
-	res := RunSamples(ts, vs, &Options{CapF: c.Storage.CapF})
+	res := RunSamples(ts, vs, &Options{Declared: analysis.Declared{CapF: c.Storage.CapF}})
 	want := 0
 	for _, r := range sim.Resets() {
 		if r < ts[len(ts)-3] {

@@ -4,6 +4,7 @@ import (
 	"math"
 	"testing"
 
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect/detecttest"
 )
 
@@ -14,7 +15,7 @@ func TestLeakProbeShareAndQuiescent(t *testing.T) {
 	c.IQA = 0.3e-6
 	light := []detecttest.Light{{FromS: 0, IA: 0.5e-3}, {FromS: 100, IA: 0}}
 	ts, vs, tr := detecttest.Generate(c, light, 6000, detecttest.Sampling{DtS: 0.1}, detecttest.ADC{NoiseV: 1e-3, Seed: 41})
-	res := RunSamples(ts, vs, &Options{CapF: c.C, ProbeOhm: 2e6})
+	res := RunSamples(ts, vs, &Options{Declared: analysis.Declared{CapF: c.C, ProbeOhm: 2e6}})
 	lf := res.Fit.Leak
 	within(t, "tau_leak", lf.TauS, tr.TauLeakS, 0.05)
 	within(t, "leak ohm besides the probe", lf.Ohm, 2e6, 0.10)
@@ -64,8 +65,8 @@ func TestCapacitanceFromCalibration(t *testing.T) {
 		ts = append(ts, 100+t2[i])
 		vs = append(vs, v2[i])
 	}
-	res := RunSamples(ts, vs, &Options{CalResistorOhm: 10e3, CalStartS: 100.2, CalEndS: 219})
-	if res.Capacitance == nil || res.Capacitance.F.Origin != "measured" {
+	res := RunSamples(ts, vs, &Options{Declared: analysis.Declared{Calibration: &analysis.Calibration{ResistorOhm: 10e3, StartS: 100.2, EndS: 219}}})
+	if res.Capacitance == nil || res.Capacitance.F.Origin != analysis.OriginMeasured {
 		t.Fatalf("capacitance %+v, notes %v", res.Capacitance, res.Notes)
 	}
 	within(t, "measured C", &res.Capacitance.F, c.C, 0.02)
@@ -136,7 +137,7 @@ func TestLeakAtDusk(t *testing.T) {
 	}
 	for _, a := range []detecttest.ADC{{NoiseV: 1e-3, Bits: 10, FullV: 5, Seed: 7}, {NoiseV: 0.5e-3, Bits: 12, FullV: 5, Seed: 8}} {
 		ts, vs, tr := detecttest.Generate(c, light, 21600, detecttest.Sampling{DtS: 1}, a)
-		res := RunSamples(ts, vs, &Options{CapF: c.C})
+		res := RunSamples(ts, vs, &Options{Declared: analysis.Declared{CapF: c.C}})
 		lf := res.Fit.Leak
 		if lf.Method != "dark-decay" {
 			t.Fatalf("%+v: leak method %q, want dark-decay", a, lf.Method)

@@ -2,6 +2,7 @@ package analyze
 
 import (
 	"bufio"
+	"context"
 	"fmt"
 	"math"
 	"os"
@@ -10,6 +11,7 @@ import (
 	"strings"
 	"testing"
 
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect/detecttest"
 	"capcycle/internal/spicetest"
 	"capcycle/logger/capture"
@@ -67,14 +69,14 @@ func runNgspice(t *testing.T, netlist string) (dir string, out *os.File) {
 	return dir, out
 }
 
-func analyseFile(t *testing.T, path string, opts *Options) *Result {
+func analyseFile(t *testing.T, path string, opts *Options) *analysis.Result {
 	t.Helper()
 	f, err := os.Open(path)
 	if err != nil {
 		t.Fatal(err)
 	}
 	defer f.Close()
-	res, err := Run(capture.NewReader(f, path), opts)
+	res, err := Run(context.Background(), capture.NewReader(f, path), opts)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -100,7 +102,7 @@ quit
 
 func TestNgspiceCycles(t *testing.T) {
 	path := ngspiceTrace(t, ngspiceCycles)
-	res := analyseFile(t, path, &Options{CapF: 4.7e-3})
+	res := analyseFile(t, path, &Options{Declared: analysis.Declared{CapF: 4.7e-3}})
 	_, _, tr := detecttest.Generate(wrenRC, []detecttest.Light{{FromS: 0, IA: 0.6e-3}}, 60, detecttest.Sampling{DtS: 0.01}, detecttest.ADC{})
 	want := 0
 	for _, r := range tr.ResetS {
@@ -148,7 +150,7 @@ quit
 
 func TestNgspiceDarkDecay(t *testing.T) {
 	path := ngspiceTrace(t, ngspiceDark)
-	res := analyseFile(t, path, &Options{CapF: 4.7e-3, ProbeOhm: 0})
+	res := analyseFile(t, path, &Options{Declared: analysis.Declared{CapF: 4.7e-3, ProbeOhm: 0}})
 	if res.Fit.Leak.Method != "dark-decay" {
 		t.Fatalf("leak method %q, notes %v", res.Fit.Leak.Method, res.Notes)
 	}
@@ -194,7 +196,7 @@ func TestNgspiceCapacitanceFromCurrent(t *testing.T) {
 	if err := os.WriteFile(path, []byte(b.String()), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	res := analyseFile(t, path, &Options{CapF: 6.1e-3})
+	res := analyseFile(t, path, &Options{Declared: analysis.Declared{CapF: 6.1e-3}})
 	c := res.Capacitance
 	if c == nil || c.Method != "current-channel" {
 		t.Fatalf("capacitance %+v; notes %v", c, res.Notes)

@@ -4,7 +4,9 @@ import (
 	"math"
 	"testing"
 
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect/detecttest"
+	"capcycle/analyze/stats"
 )
 
 // The overlay traces are typical cycles in a window that suits them: not the first charge
@@ -15,7 +17,7 @@ func TestTracesTypical(t *testing.T) {
 	c.V0 = 0
 	light := []detecttest.Light{{FromS: 0, IA: 0.6e-3}, {FromS: 200, IA: 0}, {FromS: 500, IA: 0.6e-3}}
 	ts, vs, _ := detecttest.Generate(c, light, 800, detecttest.Sampling{DtS: 0.02}, detecttest.ADC{NoiseV: 1e-3, Bits: 12, FullV: 5, Seed: 3})
-	res := RunSamples(ts, vs, &Options{CapF: c.C})
+	res := RunSamples(ts, vs, &Options{Declared: analysis.Declared{CapF: c.C}})
 	var charges, pulses []float64
 	for _, cy := range res.Cycles {
 		pulses = append(pulses, cy.PulseS)
@@ -26,7 +28,7 @@ func TestTracesTypical(t *testing.T) {
 	if len(res.Cycles) < 10 || len(res.Traces) != 5 {
 		t.Fatalf("%d cycles, %d traces; want at least 10 and 5", len(res.Cycles), len(res.Traces))
 	}
-	before, after := 1.5*median(charges), 4*median(pulses)
+	before, after := 1.5*stats.Median(charges), 4*stats.Median(pulses)
 	for k, tr := range res.Traces {
 		first, last := tr.TS[0], tr.TS[len(tr.TS)-1]
 		if first < -before-0.02 || last > after+0.02 {

@@ -1,6 +1,7 @@
 package detect
 
 import (
+	"capcycle/analyze/stats"
 	"math"
 	"slices"
 	"sort"
@@ -313,7 +314,7 @@ func InferTrigger(cycles []Cycle, swings []Swing, noiseV, stepV, spacingS float6
 	// The fire voltage is steady when its SD is within what noise and sampling explain
 	// (3 noise SDs, an ADC step, the rise between two samples at the fire), or is far
 	// smaller, relative to the swing, than the intervals' SD relative to their mean.
-	sdV, sdT := sd(fv), sd(iv)
+	sdV, sdT := stats.SD(fv), stats.SD(iv)
 	rise := 0.0
 	if len(riseStep) > 0 {
 		sort.Float64s(riseStep)
@@ -328,7 +329,7 @@ func InferTrigger(cycles []Cycle, swings []Swing, noiseV, stepV, spacingS float6
 	cvV := sdV / math.Max(height, 1e-12)
 	cvT := math.Inf(1)
 	if len(iv) >= 2 {
-		cvT = sdT / math.Max(mean(iv), 1e-12)
+		cvT = sdT / math.Max(stats.Mean(iv), 1e-12)
 	}
 	steadyV := sdV <= 3*math.Max(noiseV, stepV/math.Sqrt(12))+stepV+rise || cvV < 0.2*cvT
 	steadyT := len(iv) >= 2 && (sdT <= 2*spacingS || cvT < 0.2*cvV)
@@ -339,28 +340,4 @@ func InferTrigger(cycles []Cycle, swings []Swing, noiseV, stepV, spacingS float6
 		return TriggerTimer
 	}
 	return TriggerUnknown
-}
-
-func mean(x []float64) float64 {
-	var m float64
-	for _, v := range x {
-		m += v
-	}
-	return m / float64(len(x))
-}
-
-func sd(x []float64) float64 {
-	if len(x) < 2 {
-		return 0
-	}
-	var m float64
-	for _, v := range x {
-		m += v
-	}
-	m /= float64(len(x))
-	var s float64
-	for _, v := range x {
-		s += (v - m) * (v - m)
-	}
-	return math.Sqrt(s / float64(len(x)-1))
 }

@@ -1,6 +1,7 @@
 package detect
 
 import (
+	"capcycle/analyze/stats"
 	"math"
 	"slices"
 )
@@ -441,7 +442,7 @@ func (d *Detector) noise(t, v float64) {
 		d.sds = d.sds[:k]
 	}
 	tmp := append(d.scratch[:0], d.sds...)
-	d.sd = medianInPlace(tmp)
+	d.sd = stats.MedianInPlace(tmp)
 	d.setSwingMin()
 	d.blk, d.blkT = d.blk[:0], d.blkT[:0]
 }

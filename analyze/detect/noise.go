@@ -1,6 +1,7 @@
 package detect
 
 import (
+	"capcycle/analyze/stats"
 	"math"
 	"slices"
 )
@@ -38,7 +39,8 @@ func noiseSD(t, v, scratch []float64) (float64, int) {
 	if len(e) == 0 {
 		return 0, 0
 	}
-	med := medianInPlace(e) // sorts e
+	slices.Sort(e)
+	med := stats.MedianInPlace(e) // e sorted: the smallest 90 % are e[:keep]
 	keep := len(e) - len(e)/10
 	var sum float64
 	for _, x := range e[:keep] {
@@ -69,18 +71,6 @@ func secondDiffs(t, v, e []float64) []float64 {
 		e = append(e, math.Abs(d))
 	}
 	return e
-}
-
-func medianInPlace(x []float64) float64 {
-	if len(x) == 0 {
-		return 0
-	}
-	slices.Sort(x)
-	n := len(x)
-	if n%2 == 1 {
-		return x[n/2]
-	}
-	return (x[n/2-1] + x[n/2]) / 2
 }
 
 // ADCStep estimates the quantisation step of samples v: the typical size of the smallest

@@ -1,6 +1,9 @@
 package detect
 
-import "math"
+import (
+	"capcycle/analyze/stats"
+	"math"
+)
 
 // zig advances the zigzag with one sample whose decision value s.m is the median of 3.
 //
@@ -148,7 +151,7 @@ func (d *Detector) levelBefore() float64 {
 		d.levelBuf[n] = d.ring[(d.ringPos-d.ringLen+k+2*ringN)%ringN].v
 		n++
 	}
-	return medianInPlace(d.levelBuf[:n])
+	return stats.MedianInPlace(d.levelBuf[:n])
 }
 
 // confirm emits the provisional fall, with the level the rise after it starts from.
@@ -166,7 +169,7 @@ func (d *Detector) confirm() {
 		n++
 	}
 	if n >= 3 {
-		d.provSwing.LevelAfterV = medianInPlace(d.levelBuf[:n])
+		d.provSwing.LevelAfterV = stats.MedianInPlace(d.levelBuf[:n])
 	}
 	d.prov = false
 	d.ptsBuf = d.provSeg.points(d.ptsBuf)

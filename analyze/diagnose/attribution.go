@@ -4,7 +4,7 @@ import (
 	"math"
 	"sort"
 
-	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/profile"
 )
 
@@ -14,12 +14,12 @@ import (
 // limit) and against two standard errors of the measurement elsewhere. The list is sorted
 // by how far outside its band each part lies, the largest contradiction first. It returns
 // nil without a profile.
-func Attribute(r *analyze.Result, p *profile.Profile) []analyze.Attribution {
+func Attribute(r *analysis.Result, p *profile.Profile) []analysis.Attribution {
 	if p == nil {
 		return nil
 	}
-	var out []analyze.Attribution
-	add := func(part, unit string, declared float64, e *analyze.Estimate, minus, plus float64, basis string) {
+	var out []analysis.Attribution
+	add := func(part, unit string, declared float64, e *analysis.Estimate, minus, plus float64, basis string) {
 		if e == nil || !(declared > 0) || math.IsNaN(e.Value) || math.IsInf(e.Value, 0) {
 			return
 		}
@@ -31,7 +31,7 @@ func Attribute(r *analyze.Result, p *profile.Profile) []analyze.Attribution {
 			band := 200 * *e.SD / declared
 			minus, plus, basis = band, band, "two standard errors"
 		}
-		out = append(out, analyze.Attribution{Part: part, Unit: unit, Declared: declared, Measured: e.Value, SD: e.SD,
+		out = append(out, analysis.Attribution{Part: part, Unit: unit, Declared: declared, Measured: e.Value, SD: e.SD,
 			DiffPct: diff, TolMinusPct: minus, TolPlusPct: plus, Basis: basis, Within: diff >= -minus && diff <= plus})
 	}
 	if c := r.Capacitance; c != nil && c.F.Origin == "measured" {
@@ -44,7 +44,7 @@ func Attribute(r *analyze.Result, p *profile.Profile) []analyze.Attribution {
 	}
 	fires := false
 	for _, c := range r.Cycles {
-		if c.Kind == "full" {
+		if c.Kind == analysis.CycleFull {
 			fires = true
 			break
 		}
@@ -63,7 +63,7 @@ func Attribute(r *analyze.Result, p *profile.Profile) []analyze.Attribution {
 		// is judged against it (from nothing up to the limit).
 		limit, _ := profile.ElectrolyticLeakLimitA(p.Storage.CapF, p.Storage.RatedV)
 		if limit > 0 {
-			at := &analyze.Estimate{Value: p.Storage.RatedV / lk.Value}
+			at := &analysis.Estimate{Value: p.Storage.RatedV / lk.Value}
 			if lk.SD != nil {
 				sd := at.Value * *lk.SD / lk.Value
 				at.SD = &sd
@@ -79,7 +79,7 @@ func Attribute(r *analyze.Result, p *profile.Profile) []analyze.Attribution {
 }
 
 // excess is how many band-widths a part lies outside its band (0 inside it).
-func excess(a analyze.Attribution) float64 {
+func excess(a analysis.Attribution) float64 {
 	switch {
 	case a.DiffPct > a.TolPlusPct:
 		return (a.DiffPct - a.TolPlusPct) / math.Max(a.TolPlusPct, 1)

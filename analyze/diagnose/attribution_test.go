@@ -1,9 +1,8 @@
 package diagnose
 
 import (
+	"capcycle/analyze/analysis"
 	"testing"
-
-	"capcycle/analyze"
 )
 
 // A capacitance 31 % below nominal is outside the ±20 % of tolerance code M and comes
@@ -11,12 +10,12 @@ import (
 func TestAttribution(t *testing.T) {
 	p := loadProfile(t, "wren.toml") // 4700 µF M, on_v 2.7 V ±1.5 %
 	sd := 0.01
-	r := &analyze.Result{
-		Capacitance: &analyze.Capacity{F: analyze.Estimate{Value: 0.69 * 4700e-6, Origin: "measured"}},
-		Cycles:      []analyze.Cycle{{Kind: "full"}},
+	r := &analysis.Result{
+		Capacitance: &analysis.Capacity{F: analysis.Estimate{Value: 0.69 * 4700e-6, Origin: "measured"}},
+		Cycles:      []analysis.Cycle{{Kind: "full"}},
 	}
-	r.Fit.Trigger.OnV = &analyze.Estimate{Value: 2.727, SD: &sd}
-	r.Fit.Leak.Ohm = &analyze.Estimate{Value: 1e6}
+	r.Fit.Trigger.OnV = &analysis.Estimate{Value: 2.727, SD: &sd}
+	r.Fit.Leak.Ohm = &analysis.Estimate{Value: 1e6}
 	as := Attribute(r, p)
 	if len(as) < 3 {
 		t.Fatalf("attribution %+v", as)

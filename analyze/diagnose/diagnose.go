@@ -1,11 +1,10 @@
 package diagnose
 
 import (
-	"fmt"
 	"math"
 	"sort"
 
-	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/eseries"
 	"capcycle/analyze/model"
 	"capcycle/analyze/predict"
@@ -16,7 +15,7 @@ import (
 // Input is what Diagnose looks at. Only Result is required; without a profile the findings
 // that compare with declared parts, and the predicted effects of changes, are left out.
 type Input struct {
-	Result  *analyze.Result
+	Result  *analysis.Result
 	Profile *profile.Profile // the declared parts; nil when there is no profile
 	Nominal *model.Circuit   // the profile's circuit; nil without a profile
 	Fitted  *model.Circuit   // the nominal circuit with the fitted parts in place (predict.Fitted)
@@ -25,7 +24,7 @@ type Input struct {
 }
 
 // Diagnose returns the findings for an analysis, most severe first.
-func Diagnose(in *Input) []analyze.Finding {
+func Diagnose(in *Input) []analysis.Finding {
 	d := &diag{in: in, r: in.Result}
 	d.c = in.Fitted
 	if d.c == nil {
@@ -52,16 +51,16 @@ func Diagnose(in *Input) []analyze.Finding {
 	d.nominal()
 	sort.SliceStable(d.out, func(i, j int) bool { return rank(d.out[i].Severity) > rank(d.out[j].Severity) })
 	if d.out == nil {
-		d.out = []analyze.Finding{}
+		d.out = []analysis.Finding{}
 	}
 	return d.out
 }
 
-func rank(sev string) int {
+func rank(sev analysis.Severity) int {
 	switch sev {
-	case "fault":
+	case analysis.Fault:
 		return 2
-	case "warn":
+	case analysis.Warn:
 		return 1
 	}
 	return 0
@@ -69,25 +68,25 @@ func rank(sev string) int {
 
 type diag struct {
 	in  *Input
-	r   *analyze.Result
+	r   *analysis.Result
 	c   *model.Circuit // the best circuit we have: fitted, else nominal
 	g   float64        // measured light, W/m² (0: unknown)
-	out []analyze.Finding
+	out []analysis.Finding
 }
 
-func (d *diag) add(code, sev, msg, sugg string, nums map[string]float64) {
+func (d *diag) add(code string, sev analysis.Severity, msg, sugg string, nums map[string]float64) {
 	for k, v := range nums {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
 			delete(nums, k) // JSON has no NaN; a missing number is absent
 		}
 	}
-	d.out = append(d.out, analyze.Finding{Code: code, Severity: sev, Message: msg, Suggestion: sugg, Numbers: nums})
+	d.out = append(d.out, analysis.Finding{Code: code, Severity: sev, Message: msg, Suggestion: sugg, Numbers: nums})
 }
 
 func (d *diag) chatterCycles() int {
 	n := 0
 	for _, c := range d.r.Cycles {
-		if c.Kind == "chatter" {
+		if c.Kind == analysis.CycleChatter {
 			n++
 		}
 	}
@@ -97,7 +96,7 @@ func (d *diag) chatterCycles() int {
 func (d *diag) fullCycles() int {
 	n := 0
 	for _, c := range d.r.Cycles {
-		if c.Kind == "full" {
+		if c.Kind == analysis.CycleFull {
 			n++
 		}
 	}
@@ -118,23 +117,18 @@ func (d *diag) onV() (float64, string) {
 	if d.in.Profile != nil && d.in.Profile.Trigger.OnV > 0 {
 		return d.in.Profile.Trigger.OnV, "declared"
 	}
-	if d.r.Declared != nil && d.r.Declared.OnV != nil {
-		return *d.r.Declared.OnV, "declared"
+	if d.r.Declared != nil && d.r.Declared.OnV != 0 {
+		return d.r.Declared.OnV, "declared"
 	}
 	return math.NaN(), ""
 }
 
 func fmtV(v float64) string { return units.Format(v, "V") }
 func fmtS(v float64) string {
-	switch {
-	case math.IsInf(v, 1):
+	if math.IsInf(v, 1) {
 		return "never"
-	case v >= 7200:
-		return fmt.Sprintf("%.3g h", v/3600)
-	case v >= 120:
-		return fmt.Sprintf("%.3g min", v/60)
 	}
-	return units.Format(v, "s")
+	return units.Duration(v)
 }
 
 // nearestStandard rounds a part value to its E-series neighbour (log-nearest).

@@ -4,13 +4,14 @@ import (
 	"math"
 	"testing"
 
-	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/model"
 	"capcycle/analyze/predict"
 	"capcycle/analyze/profile"
+	"capcycle/analyze/stats"
 )
 
-func find(fs []analyze.Finding, code string) *analyze.Finding {
+func find(fs []analysis.Finding, code string) *analysis.Finding {
 	for i := range fs {
 		if fs[i].Code == code {
 			return &fs[i]
@@ -39,13 +40,13 @@ func circuit(t *testing.T, p *profile.Profile) *model.Circuit {
 }
 
 // stalled is the analysis of a circuit that settled at its equilibrium under light g.
-func stalled(c *model.Circuit, g float64) *analyze.Result {
+func stalled(c *model.Circuit, g float64) *analysis.Result {
 	veq := predict.EquilibriumV(c, g)
 	sd := 0.002
-	return &analyze.Result{Schema: analyze.Schema, Samples: 1000, DurationS: 36000,
-		EquilibriumV: &analyze.Estimate{Value: veq, SD: &sd},
-		Envelope:     []analyze.EnvelopePt{{TS: 0, MinV: 0, MaxV: veq * 0.999}},
-		Noise:        &analyze.Noise{RMSV: 0.002, StepV: 0.005}}
+	return &analysis.Result{Schema: analysis.Schema, Samples: 1000, DurationS: 36000,
+		EquilibriumV: &analysis.Estimate{Value: veq, SD: &sd},
+		Envelope:     []analysis.EnvelopePt{{TS: 0, MinV: 0, MaxV: veq * 0.999}},
+		Noise:        &analysis.Noise{RMSV: 0.002, StepV: 0.005}}
 }
 
 // A circuit that stalls below its trigger gets a fault with the equilibrium, the light
@@ -110,8 +111,8 @@ func TestNeverReachesTrigger(t *testing.T) {
 
 func TestNoDump(t *testing.T) {
 	p := loadProfile(t, "fern.toml") // on_v 4.0 V
-	r := &analyze.Result{Schema: analyze.Schema, DurationS: 3600,
-		Envelope: []analyze.EnvelopePt{{TS: 0, MinV: 1, MaxV: 4.6}}}
+	r := &analysis.Result{Schema: analysis.Schema, DurationS: 3600,
+		Envelope: []analysis.EnvelopePt{{TS: 0, MinV: 1, MaxV: 4.6}}}
 	fs := Diagnose(&Input{Result: r, Nominal: circuit(t, p), Profile: p})
 	f := find(fs, CodeNoDump)
 	if f == nil || f.Severity != "fault" || f.Numbers["max_v"] != 4.6 {
@@ -124,14 +125,14 @@ func TestNoDump(t *testing.T) {
 
 // healthy builds the analysis of a circuit cycling steadily under light g, as a perfect
 // analyser would report it.
-func healthy(t *testing.T, c *model.Circuit, g float64) *analyze.Result {
+func healthy(t *testing.T, c *model.Circuit, g float64) *analysis.Result {
 	t.Helper()
 	res, err := model.Simulate(c, model.Constant(g), &model.Options{DurationS: 600, StartV: 2.5})
 	if err != nil {
 		t.Fatal(err)
 	}
-	r := &analyze.Result{Schema: analyze.Schema, Samples: 60000, DurationS: 600,
-		Noise: &analyze.Noise{RMSV: 0.002, StepV: 0.0049}}
+	r := &analysis.Result{Schema: analysis.Schema, Samples: 60000, DurationS: 600,
+		Noise: &analysis.Noise{RMSV: 0.002, StepV: 0.0049}}
 	isc := c.Cell.Current(0, g)
 	var on, off []float64
 	for i, cy := range res.Cycles {
@@ -140,14 +141,14 @@ func healthy(t *testing.T, c *model.Circuit, g float64) *analyze.Result {
 		}
 		ch := cy.FireS - cy.StartS
 		e := 0.5 * c.Storage.CapF * (cy.FireV*cy.FireV - cy.ResetV*cy.ResetV)
-		r.Cycles = append(r.Cycles, analyze.Cycle{Index: i, FireS: cy.FireS, FireV: cy.FireV, ResetS: cy.ResetS,
+		r.Cycles = append(r.Cycles, analysis.Cycle{Index: i, FireS: cy.FireS, FireV: cy.FireV, ResetS: cy.ResetS,
 			ResetV: cy.ResetV, ChargeS: &ch, PulseS: cy.ResetS - cy.FireS, EnergyJ: &e, Kind: "full", LightA: &isc})
 		on, off = append(on, cy.FireV), append(off, cy.ResetV)
-		r.Envelope = append(r.Envelope, analyze.EnvelopePt{TS: cy.FireS, MinV: cy.ResetV, MaxV: cy.FireV})
+		r.Envelope = append(r.Envelope, analysis.EnvelopePt{TS: cy.FireS, MinV: cy.ResetV, MaxV: cy.FireV})
 	}
-	r.Fit.Trigger.OnV = &analyze.Estimate{Value: median(on)}
-	r.Fit.Trigger.OffV = &analyze.Estimate{Value: median(off)}
-	r.Fit.Leak.Ohm = &analyze.Estimate{Value: c.Storage.LeakOhm}
+	r.Fit.Trigger.OnV = &analysis.Estimate{Value: stats.Median(on)}
+	r.Fit.Trigger.OffV = &analysis.Estimate{Value: stats.Median(off)}
+	r.Fit.Leak.Ohm = &analysis.Estimate{Value: c.Storage.LeakOhm}
 	return r
 }
 
@@ -180,7 +181,7 @@ func TestChatterHoldNeeded(t *testing.T) {
 		}
 	}
 	tau := 0.094 // load time constant, s
-	r.Fit.Load.TauS = &analyze.Estimate{Value: tau}
+	r.Fit.Load.TauS = &analysis.Estimate{Value: tau}
 	fs := Diagnose(&Input{Result: r, Nominal: c, Fitted: c, Profile: p})
 	f := find(fs, CodeChatter)
 	if f == nil || f.Severity != "warn" {
@@ -206,8 +207,8 @@ func TestLeakyCapacitor(t *testing.T) {
 		ohm  float64
 		want bool
 	}{{10e3, true}, {20e3, true}, {22e3, false}, {1.5e6, false}} {
-		r := &analyze.Result{Schema: analyze.Schema}
-		r.Fit.Leak.Ohm = &analyze.Estimate{Value: c.ohm}
+		r := &analysis.Result{Schema: analysis.Schema}
+		r.Fit.Leak.Ohm = &analysis.Estimate{Value: c.ohm}
 		f := find(Diagnose(&Input{Result: r, Profile: p}), CodeLeakyCap)
 		if (f != nil) != c.want {
 			t.Errorf("leak %g Ω: finding %v, want %v", c.ohm, f != nil, c.want)
@@ -226,8 +227,8 @@ func TestCapacitanceAgainstTolerance(t *testing.T) {
 		ratio float64
 		want  bool
 	}{{0.69, true}, {0.85, false}, {1.19, false}, {1.25, true}} {
-		r := &analyze.Result{Schema: analyze.Schema,
-			Capacitance: &analyze.Capacity{F: analyze.Estimate{Value: c.ratio * p.Storage.CapF, Origin: "measured"}}}
+		r := &analysis.Result{Schema: analysis.Schema,
+			Capacitance: &analysis.Capacity{F: analysis.Estimate{Value: c.ratio * p.Storage.CapF, Origin: "measured"}}}
 		f := find(Diagnose(&Input{Result: r, Profile: p}), CodeCapOffNominal)
 		if (f != nil) != c.want {
 			t.Errorf("C at %.2f× nominal: finding %v, want %v", c.ratio, f != nil, c.want)
@@ -236,14 +237,14 @@ func TestCapacitanceAgainstTolerance(t *testing.T) {
 }
 
 func TestCaptureFindings(t *testing.T) {
-	r := &analyze.Result{Schema: analyze.Schema, Samples: 9000, DurationS: 1000,
-		Segments: []analyze.Segment{{Kind: "saturated", StartS: 10, EndS: 30, StartV: 5, EndV: 5},
+	r := &analysis.Result{Schema: analysis.Schema, Samples: 9000, DurationS: 1000,
+		Segments: []analysis.Segment{{Kind: "saturated", StartS: 10, EndS: 30, StartV: 5, EndV: 5},
 			{Kind: "gap", StartS: 100, EndS: 200}},
-		Source: analyze.Source{Lost: 1000},
-		Noise:  &analyze.Noise{RMSV: 0.05, StepV: 0.005},
+		Source: analysis.Source{Lost: 1000},
+		Noise:  &analysis.Noise{RMSV: 0.05, StepV: 0.005},
 	}
 	on := 3.0
-	r.Declared = &analyze.Declared{OnV: &on}
+	r.Declared = &analysis.Declared{OnV: on}
 	fs := Diagnose(&Input{Result: r})
 	for _, code := range []string{CodeClipping, CodeGaps, CodeLost, CodeNoisy} {
 		if f := find(fs, code); f == nil {
@@ -311,8 +312,8 @@ func TestNeverReachesTriggerFromPeak(t *testing.T) {
 	c := circuit(t, p)
 	const g = 60.0
 	peak := predict.EquilibriumV(c, g)
-	r := &analyze.Result{Schema: analyze.Schema, Samples: 1000, DurationS: 86400,
-		Envelope: []analyze.EnvelopePt{{TS: 0, MinV: 0, MaxV: peak}}}
+	r := &analysis.Result{Schema: analysis.Schema, Samples: 1000, DurationS: 86400,
+		Envelope: []analysis.EnvelopePt{{TS: 0, MinV: 0, MaxV: peak}}}
 	f := find(Diagnose(&Input{Result: r, Nominal: c, Fitted: c, Profile: p}), CodeNeverFires)
 	if f == nil {
 		t.Fatal("no never-reaches-trigger finding")
@@ -329,10 +330,10 @@ func TestNeverReachesTriggerFromPeak(t *testing.T) {
 func TestStillCharging(t *testing.T) {
 	p := loadProfile(t, "fern.toml")
 	c := circuit(t, p)
-	r := &analyze.Result{Schema: analyze.Schema, Samples: 300, DurationS: 180}
+	r := &analysis.Result{Schema: analysis.Schema, Samples: 300, DurationS: 180}
 	for i := 0; i < 40; i++ {
 		v := 0.004 * float64(i) // a steady climb to 0.156 V
-		r.Envelope = append(r.Envelope, analyze.EnvelopePt{TS: 4.5 * float64(i), MinV: v, MaxV: v})
+		r.Envelope = append(r.Envelope, analysis.EnvelopePt{TS: 4.5 * float64(i), MinV: v, MaxV: v})
 	}
 	fs := Diagnose(&Input{Result: r, Nominal: c, Fitted: c, Profile: p})
 	if find(fs, CodeStillCharging) == nil || find(fs, CodeNeverFires) != nil {

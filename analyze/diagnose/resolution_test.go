@@ -1,10 +1,9 @@
 package diagnose
 
 import (
+	"capcycle/analyze/analysis"
 	"math"
 	"testing"
-
-	"capcycle/analyze"
 )
 
 // A leak taken from the approach to a plateau (no dark decay) includes the lit cell's own
@@ -14,11 +13,11 @@ import (
 func TestLeakFromPlateauIsNotTheCapacitor(t *testing.T) {
 	p := loadProfile(t, "wren.toml")
 	for _, c := range []struct {
-		method string
+		method analysis.LeakMethod
 		want   bool
 	}{{"plateau", false}, {"dark-decay", true}, {"", true}} {
-		r := &analyze.Result{Schema: analyze.Schema}
-		r.Fit.Leak.Ohm = &analyze.Estimate{Value: 5e3}
+		r := &analysis.Result{Schema: analysis.Schema}
+		r.Fit.Leak.Ohm = &analysis.Estimate{Value: 5e3}
 		r.Fit.Leak.Method = c.method
 		if f := find(Diagnose(&Input{Result: r, Profile: p}), CodeLeakyCap); (f != nil) != c.want {
 			t.Errorf("method %q: finding %v, want %v", c.method, f != nil, c.want)
@@ -33,9 +32,9 @@ func TestNoiseWithinOneStep(t *testing.T) {
 		rms, step float64
 		want      bool
 	}{{0.0038, 0.0156, false}, {0.02, 0.0156, true}, {0.1, 0.0098, true}} {
-		r := &analyze.Result{Schema: analyze.Schema, Samples: 1000, DurationS: 100,
-			Envelope: []analyze.EnvelopePt{{TS: 0, MinV: 0, MaxV: 1.9}},
-			Noise:    &analyze.Noise{RMSV: c.rms, StepV: c.step}}
+		r := &analysis.Result{Schema: analysis.Schema, Samples: 1000, DurationS: 100,
+			Envelope: []analysis.EnvelopePt{{TS: 0, MinV: 0, MaxV: 1.9}},
+			Noise:    &analysis.Noise{RMSV: c.rms, StepV: c.step}}
 		if f := find(Diagnose(&Input{Result: r}), CodeNoisy); (f != nil) != c.want {
 			t.Errorf("noise %.4g V with %.4g V steps (needed step 19 mV): finding %v, want %v", c.rms, c.step, f != nil, c.want)
 		}
@@ -47,11 +46,11 @@ func TestNoiseWithinOneStep(t *testing.T) {
 func TestChatterAlone(t *testing.T) {
 	p := loadProfile(t, "wren.toml")
 	c := circuit(t, p)
-	r := &analyze.Result{Schema: analyze.Schema, Samples: 12000, DurationS: 120,
-		Noise: &analyze.Noise{RMSV: 0.002, StepV: 0.0098}}
+	r := &analysis.Result{Schema: analysis.Schema, Samples: 12000, DurationS: 120,
+		Noise: &analysis.Noise{RMSV: 0.002, StepV: 0.0098}}
 	ch := 0.26
 	for i := range 40 {
-		r.Cycles = append(r.Cycles, analyze.Cycle{Index: i, FireS: float64(i) * 0.27, FireV: 2.70, ResetV: 2.65,
+		r.Cycles = append(r.Cycles, analysis.Cycle{Index: i, FireS: float64(i) * 0.27, FireV: 2.70, ResetV: 2.65,
 			ResetS: float64(i)*0.27 + 0.01, PulseS: 0.01, ChargeS: &ch, Kind: "chatter"})
 	}
 	fs := Diagnose(&Input{Result: r, Nominal: c, Fitted: c, Profile: p})
@@ -82,13 +81,13 @@ func TestTriggerOffNominalReadingResolution(t *testing.T) {
 		want bool
 	}{{2.65, false}, {2.50, true}, {2.76, true}} {
 		// 100 samples over 2 s: 20 ms apart; charges of 1.8 V in 0.6 s rise 60 mV per sample.
-		r := &analyze.Result{Schema: analyze.Schema, Samples: 101, DurationS: 2,
-			Noise: &analyze.Noise{RMSV: 0.001, StepV: 0.0098}}
+		r := &analysis.Result{Schema: analysis.Schema, Samples: 101, DurationS: 2,
+			Noise: &analysis.Noise{RMSV: 0.001, StepV: 0.0098}}
 		ch := 0.6
 		for i := range 3 {
-			r.Cycles = append(r.Cycles, analyze.Cycle{Index: i, FireV: c.on, ResetV: c.on - 1.8, ChargeS: &ch, Kind: "full"})
+			r.Cycles = append(r.Cycles, analysis.Cycle{Index: i, FireV: c.on, ResetV: c.on - 1.8, ChargeS: &ch, Kind: "full"})
 		}
-		r.Fit.Trigger.OnV = &analyze.Estimate{Value: c.on}
+		r.Fit.Trigger.OnV = &analysis.Estimate{Value: c.on}
 		f := find(Diagnose(&Input{Result: r, Profile: p}), CodeTrigOffNominal)
 		if (f != nil) != c.want {
 			t.Errorf("fires at %.2f V: finding %v, want %v", c.on, f != nil, c.want)

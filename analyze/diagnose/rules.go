@@ -6,9 +6,11 @@ import (
 	"sort"
 	"strings"
 
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/model"
 	"capcycle/analyze/predict"
 	"capcycle/analyze/profile"
+	"capcycle/analyze/stats"
 	"capcycle/analyze/units"
 )
 
@@ -32,14 +34,14 @@ func (d *diag) capture() {
 	if satS > 0 {
 		maxV := d.maxV()
 		msg := fmt.Sprintf("The ADC sat at full scale for %s in all; the voltage above %s was not seen.", fmtS(satS), fmtV(maxV))
-		d.add(CodeClipping, "warn", msg,
+		d.add(CodeClipping, analysis.Warn, msg,
 			"Raise the probe divider's ratio so the highest voltage (the capacitor's rated voltage) reads at about 90 % of the ADC's full scale; never let the ADC pin exceed its reference.",
 			map[string]float64{"saturated_s": satS, "max_seen_v": maxV})
 	}
 	if gapS > 0 {
-		sev := "info"
+		sev := analysis.Info
 		if r.DurationS > 0 && gapS/r.DurationS > 0.05 {
-			sev = "warn"
+			sev = analysis.Warn
 		}
 		d.add(CodeGaps, sev,
 			fmt.Sprintf("The capture has %d gap(s) with no samples, %s in all (%.1f %% of it); cycles across a gap are left out.", nGaps, fmtS(gapS), 100*gapS/math.Max(r.DurationS, 1e-9)),
@@ -48,7 +50,7 @@ func (d *diag) capture() {
 	}
 	if r.Source.Lost > 0 {
 		share := float64(r.Source.Lost) / math.Max(float64(r.Samples+r.Source.Lost), 1)
-		d.add(CodeLost, "warn",
+		d.add(CodeLost, analysis.Warn,
 			fmt.Sprintf("The recorder counted %d lost samples (%.2f %% of them): the link or the host did not keep up.", r.Source.Lost, 100*share),
 			"Lower the burst rate or the number of channels, or use a faster baud rate; close other programs that use the port.",
 			map[string]float64{"lost_samples": float64(r.Source.Lost), "share": share})
@@ -59,7 +61,7 @@ func (d *diag) capture() {
 		// as q/√12 RMS, and a little noise dithers between two codes): shorter leads and
 		// more filtering would not help, so only noise above one step counts.
 		if need > 0 && r.Noise.RMSV > need/5 && r.Noise.RMSV > r.Noise.StepV {
-			d.add(CodeNoisy, "warn",
+			d.add(CodeNoisy, analysis.Warn,
 				fmt.Sprintf("The noise (%s RMS) is large beside the smallest step the analysis needs (%s): fires, resets and slopes are uncertain.", fmtV(r.Noise.RMSV), fmtV(need)),
 				"Keep the probe leads short and twisted with their ground, add 100 nF from the ADC pin to ground, and let the board average more conversions (a lower slow rate).",
 				map[string]float64{"noise_rms_v": r.Noise.RMSV, "needed_step_v": need, "adc_step_v": r.Noise.StepV})
@@ -72,7 +74,7 @@ func (d *diag) capture() {
 func (d *diag) neededStepV() float64 {
 	var sw []float64
 	for _, c := range d.r.Cycles {
-		if c.Kind == "full" {
+		if c.Kind == analysis.CycleFull {
 			sw = append(sw, c.FireV-c.ResetV)
 		}
 	}
@@ -106,34 +108,14 @@ func (d *diag) notFiring() {
 	on, _ := d.onV()
 	maxV := d.maxV()
 	if !math.IsNaN(on) && maxV > on*1.02 {
-		d.add(CodeNoDump, "fault",
+		d.add(CodeNoDump, analysis.Fault,
 			fmt.Sprintf("The voltage rose to %s, past the %s trigger, and nothing discharged it: the switching path, not the energy, is at fault.", fmtV(maxV), fmtV(on)),
 			"Check the trigger's output, the transistor's base or gate drive and its orientation, and the motor's connection; measure the supervisor's output while the capacitor is above the trigger. Discharge the capacitor through a resistor before you touch the circuit.",
 			map[string]float64{"max_v": maxV, "on_v": on})
 		return
 	}
-	// Where it settles: the extrapolated equilibrium, or, when the light kept changing and
-	// the voltage never levelled off (a day behind a window), the highest voltage reached,
-	// which is a lower bound on the equilibrium at the brightest light of the capture.
-	eq := d.r.EquilibriumV
-	var veq float64
-	peak := eq == nil
-	switch {
-	case eq != nil:
-		veq = eq.Value
-	case !math.IsNaN(on) && maxV > 0 && maxV < on:
-		if d.risingAtEnd() {
-			d.add(CodeStillCharging, "info",
-				fmt.Sprintf("The voltage was still rising when the capture ended, at %s after %s, below the %s trigger: too short to tell whether it fires or settles.", fmtV(maxV), fmtS(d.r.DurationS), fmtV(on)),
-				"Record longer, until it fires or the voltage levels off.",
-				map[string]float64{"max_v": maxV, "on_v": on, "duration_s": d.r.DurationS})
-			return
-		}
-		veq = maxV
-	default:
-		return
-	}
-	if math.IsNaN(on) || veq >= on {
+	veq, peak, ok := d.settlingPoint(on, maxV)
+	if !ok || math.IsNaN(on) || veq >= on {
 		return
 	}
 	if peak && d.c != nil && d.in.LightWm2 <= 0 {
@@ -145,93 +127,146 @@ func (d *diag) notFiring() {
 		delete(nums, "equilibrium_v")
 		nums["peak_v"] = veq
 		msg = fmt.Sprintf("The voltage never reached the %s trigger: it peaked at %s, %s short, in the brightest light of the capture, where the cell's current fell to the drains.", fmtV(on), fmtV(veq), fmtV(on-veq))
-	} else if eq.SD != nil {
+	} else if eq := d.r.EquilibriumV; eq.SD != nil {
 		nums["equilibrium_sd_v"] = *eq.SD
 	}
 	sugg := "Give it more light, less drain or a lower trigger."
-	c := d.c
-	if c != nil && d.g > 0 {
-		thr := on * 1.03 // 3 % margin above the node voltage the trigger needs
-		nums["light_wm2"] = d.g
-		// Which drain is largest at the equilibrium.
-		leak, probe, iq := 0.0, 0.0, predict.QuiescentA(c, veq)
-		if c.Storage.LeakOhm > 0 {
-			leak = veq / c.Storage.LeakOhm
-		}
-		if c.ProbeOhm > 0 {
-			probe = veq / c.ProbeOhm
-		}
-		total := leak + probe + iq
-		nums["leak_a"], nums["probe_a"], nums["quiescent_a"] = leak, probe, iq
-		largest, share := "leakage", leak/total
-		if probe > leak && probe >= iq {
-			largest, share = "the probe divider", probe/total
-		} else if iq > leak && iq > probe {
-			largest, share = "the supervisor's quiescent current", iq/total
-		}
-		nums["largest_share"] = share
-		msg += fmt.Sprintf(" Of the %s drain there, %s takes %.0f %%.", units.Format(total, "A"), largest, 100*share)
-		// Each remedy on its own, with the model's prediction of the cycle it gives.
-		var opts []string
-		if gNeed := predict.LightForEquilibrium(c, thr); gNeed > 0 {
-			nums["light_factor"] = gNeed / d.g
-			if f, ok := steadyWith(c, gNeed, func(*model.Circuit) {}); ok && f.Fires {
-				nums["period_with_light_s"] = f.PeriodS
-				opts = append(opts, fmt.Sprintf("%.2g× the light (a brighter sill or a larger cell), firing once every %s", gNeed/d.g, fmtS(f.PeriodS)))
-			} else {
-				opts = append(opts, fmt.Sprintf("%.2g× the light, which brings it to the trigger", gNeed/d.g))
-			}
-		}
-		// Less drain: the cell's current at the threshold against the drains there.
-		icell := c.Cell.Current(thr, d.g)
-		drainThr := predict.DrainA(c, thr)
-		nums["cell_at_trigger_a"], nums["drain_at_trigger_a"] = icell, drainThr
-		switch {
-		case icell > 0 && drainThr > icell:
-			cut := 1 - icell/drainThr
-			nums["drain_cut"] = cut
-			o := fmt.Sprintf("%.0f %% less drain at the trigger (the cell gives %s there, the drains take %s)", 100*cut, units.Format(icell, "A"), units.Format(drainThr, "A"))
-			if largest == "the probe divider" {
-				if f, ok := steadyWith(c, d.g, func(cc *model.Circuit) { cc.ProbeOhm *= 10 }); ok && f.Fires {
-					nums["period_probe_x10_s"] = f.PeriodS
-					o += fmt.Sprintf(", e.g. a probe divider of ten times the resistance, firing every %s", fmtS(f.PeriodS))
-				}
-			}
-			opts = append(opts, o)
-		case icell <= 0:
-			msg += fmt.Sprintf(" At this light the cell cannot reach %s at all, whatever the drain.", fmtV(thr))
-		}
-		// Lower trigger: 5 % below where it settles.
-		newOn := 0.95 * veq
-		f, ok := steadyWith(c, d.g, func(cc *model.Circuit) {
-			switch cc.Trigger.Kind {
-			case model.TriggerHold:
-				delta := cc.Trigger.OnV - cc.Trigger.OffV
-				cc.Trigger.OnV = newOn - cc.Trigger.DiodeV
-				cc.Trigger.OffV = cc.Trigger.OnV - delta
-			default:
-				delta := cc.Trigger.OnV - cc.Trigger.OffV
-				cc.Trigger.OnV = newOn
-				if cc.Trigger.OffV >= newOn || cc.Trigger.OffV <= 0 {
-					cc.Trigger.OffV = newOn - math.Min(delta, 0.5*newOn)
-				}
-			}
-		})
-		nums["lower_on_v"] = newOn
-		where := "the equilibrium"
-		if peak {
-			where = "the peak"
-		}
-		if ok && f.Fires {
-			nums["period_lower_on_s"] = f.PeriodS
-			nums["energy_lower_on_j"] = f.EnergyJ
-			opts = append(opts, fmt.Sprintf("a trigger at %s (5 %% below %s), firing every %s with %s per pulse", fmtV(newOn), where, fmtS(f.PeriodS), units.Format(f.EnergyJ, "J")))
-		} else {
-			opts = append(opts, fmt.Sprintf("a trigger at %s (5 %% below %s)", fmtV(newOn), where))
-		}
+	if d.c != nil && d.g > 0 {
+		extra, opts := d.stallRemedies(veq, on, peak, nums)
+		msg += extra
 		sugg = "Any one of these would make it fire (model): " + strings.Join(opts, "; ") + "."
 	}
-	d.add(CodeNeverFires, "fault", msg, sugg, nums)
+	d.add(CodeNeverFires, analysis.Fault, msg, sugg, nums)
+}
+
+// settlingPoint is where the voltage settles: the extrapolated equilibrium, or, when the
+// light kept changing and the voltage never levelled off (a day behind a window), the
+// highest voltage reached (peak), which is a lower bound on the equilibrium at the
+// brightest light of the capture. ok is false when there is nothing to say, or when the
+// capture ended while the voltage still climbed (a still-charging finding is made).
+func (d *diag) settlingPoint(on, maxV float64) (veq float64, peak, ok bool) {
+	if eq := d.r.EquilibriumV; eq != nil {
+		return eq.Value, false, true
+	}
+	if math.IsNaN(on) || !(maxV > 0) || maxV >= on {
+		return 0, true, false
+	}
+	if d.risingAtEnd() {
+		d.add(CodeStillCharging, analysis.Info,
+			fmt.Sprintf("The voltage was still rising when the capture ended, at %s after %s, below the %s trigger: too short to tell whether it fires or settles.", fmtV(maxV), fmtS(d.r.DurationS), fmtV(on)),
+			"Record longer, until it fires or the voltage levels off.",
+			map[string]float64{"max_v": maxV, "on_v": on, "duration_s": d.r.DurationS})
+		return 0, true, false
+	}
+	return maxV, true, true
+}
+
+// stallRemedies says which drain is largest where the voltage settles (a sentence for
+// the message) and the remedies that would each make it fire, with the model's cycle.
+func (d *diag) stallRemedies(veq, on float64, peak bool, nums map[string]float64) (extra string, opts []string) {
+	thr := on * 1.03 // 3 % margin above the node voltage the trigger needs
+	nums["light_wm2"] = d.g
+	extra, largest := d.largestDrain(veq, nums)
+	if o := d.moreLight(thr, nums); o != "" {
+		opts = append(opts, o)
+	}
+	o, cannot := d.lessDrain(thr, largest, nums)
+	if o != "" {
+		opts = append(opts, o)
+	}
+	extra += cannot
+	opts = append(opts, d.lowerTrigger(veq, peak, nums))
+	return extra, opts
+}
+
+// largestDrain names the largest drain at v and its share.
+func (d *diag) largestDrain(v float64, nums map[string]float64) (sentence, largest string) {
+	c := d.c
+	leak, probe, iq := 0.0, 0.0, predict.QuiescentA(c, v)
+	if c.Storage.LeakOhm > 0 {
+		leak = v / c.Storage.LeakOhm
+	}
+	if c.ProbeOhm > 0 {
+		probe = v / c.ProbeOhm
+	}
+	total := leak + probe + iq
+	nums["leak_a"], nums["probe_a"], nums["quiescent_a"] = leak, probe, iq
+	largest, share := "leakage", leak/total
+	if probe > leak && probe >= iq {
+		largest, share = "the probe divider", probe/total
+	} else if iq > leak && iq > probe {
+		largest, share = "the supervisor's quiescent current", iq/total
+	}
+	nums["largest_share"] = share
+	return fmt.Sprintf(" Of the %s drain there, %s takes %.0f %%.", units.Format(total, "A"), largest, 100*share), largest
+}
+
+// moreLight is the light that brings the node to thr, and the cycle it gives.
+func (d *diag) moreLight(thr float64, nums map[string]float64) string {
+	gNeed := predict.LightForEquilibrium(d.c, thr)
+	if !(gNeed > 0) {
+		return ""
+	}
+	nums["light_factor"] = gNeed / d.g
+	if f, ok := steadyWith(d.c, gNeed, func(*model.Circuit) {}); ok && f.Fires {
+		nums["period_with_light_s"] = f.PeriodS
+		return fmt.Sprintf("%.2g× the light (a brighter sill or a larger cell), firing once every %s", gNeed/d.g, fmtS(f.PeriodS))
+	}
+	return fmt.Sprintf("%.2g× the light, which brings it to the trigger", gNeed/d.g)
+}
+
+// lessDrain compares the cell's current at thr with the drains there: the cut that
+// would let it fire, or a sentence saying no cut can (the cell cannot reach thr at all).
+func (d *diag) lessDrain(thr float64, largest string, nums map[string]float64) (opt, cannot string) {
+	c := d.c
+	icell := c.Cell.Current(thr, d.g)
+	drainThr := predict.DrainA(c, thr)
+	nums["cell_at_trigger_a"], nums["drain_at_trigger_a"] = icell, drainThr
+	switch {
+	case icell > 0 && drainThr > icell:
+		cut := 1 - icell/drainThr
+		nums["drain_cut"] = cut
+		o := fmt.Sprintf("%.0f %% less drain at the trigger (the cell gives %s there, the drains take %s)", 100*cut, units.Format(icell, "A"), units.Format(drainThr, "A"))
+		if largest == "the probe divider" {
+			if f, ok := steadyWith(c, d.g, func(cc *model.Circuit) { cc.ProbeOhm *= 10 }); ok && f.Fires {
+				nums["period_probe_x10_s"] = f.PeriodS
+				o += fmt.Sprintf(", e.g. a probe divider of ten times the resistance, firing every %s", fmtS(f.PeriodS))
+			}
+		}
+		return o, ""
+	case icell <= 0:
+		return "", fmt.Sprintf(" At this light the cell cannot reach %s at all, whatever the drain.", fmtV(thr))
+	}
+	return "", ""
+}
+
+// lowerTrigger is a trigger 5 % below where the node settles, and the cycle it gives.
+func (d *diag) lowerTrigger(veq float64, peak bool, nums map[string]float64) string {
+	newOn := 0.95 * veq
+	f, ok := steadyWith(d.c, d.g, func(cc *model.Circuit) {
+		delta := cc.Trigger.OnV - cc.Trigger.OffV
+		switch cc.Trigger.Kind {
+		case model.TriggerHold:
+			cc.Trigger.OnV = newOn - cc.Trigger.DiodeV
+			cc.Trigger.OffV = cc.Trigger.OnV - delta
+		default:
+			cc.Trigger.OnV = newOn
+			if cc.Trigger.OffV >= newOn || cc.Trigger.OffV <= 0 {
+				cc.Trigger.OffV = newOn - math.Min(delta, 0.5*newOn)
+			}
+		}
+	})
+	nums["lower_on_v"] = newOn
+	where := "the equilibrium"
+	if peak {
+		where = "the peak"
+	}
+	if ok && f.Fires {
+		nums["period_lower_on_s"] = f.PeriodS
+		nums["energy_lower_on_j"] = f.EnergyJ
+		return fmt.Sprintf("a trigger at %s (5 %% below %s), firing every %s with %s per pulse", fmtV(newOn), where, fmtS(f.PeriodS), units.Format(f.EnergyJ, "J"))
+	}
+	return fmt.Sprintf("a trigger at %s (5 %% below %s)", fmtV(newOn), where)
 }
 
 // risingAtEnd reports whether the highest voltage of the envelope lies in its last 5 % and
@@ -257,7 +292,7 @@ func (d *diag) cycling() {
 	var n int
 	var per, pulse, energy []float64
 	for _, c := range d.r.Cycles {
-		if c.Kind != "full" {
+		if c.Kind != analysis.CycleFull {
 			continue
 		}
 		n++
@@ -272,16 +307,16 @@ func (d *diag) cycling() {
 	nums := map[string]float64{"cycles": float64(n)}
 	msg := fmt.Sprintf("The circuit fired %d times", n)
 	if len(per) > 0 {
-		nums["median_period_s"] = median(per)
-		msg += fmt.Sprintf(", every %s (median)", fmtS(median(per)))
+		nums["median_period_s"] = stats.Median(per)
+		msg += fmt.Sprintf(", every %s (median)", fmtS(stats.Median(per)))
 	}
-	nums["median_pulse_s"] = median(pulse)
-	msg += fmt.Sprintf(", with %s pulses", fmtS(median(pulse)))
+	nums["median_pulse_s"] = stats.Median(pulse)
+	msg += fmt.Sprintf(", with %s pulses", fmtS(stats.Median(pulse)))
 	if len(energy) > 0 {
-		nums["median_energy_j"] = median(energy)
-		msg += fmt.Sprintf(" of %s each", units.Format(median(energy), "J"))
+		nums["median_energy_j"] = stats.Median(energy)
+		msg += fmt.Sprintf(" of %s each", units.Format(stats.Median(energy), "J"))
 	}
-	d.add(CodeCycling, "info", msg+".", "", nums)
+	d.add(CodeCycling, analysis.Info, msg+".", "", nums)
 }
 
 // chatter flags cycles whose swing is tiny and works out the hold capacitance that would
@@ -301,7 +336,7 @@ func (d *diag) chatter() {
 	if nch == 0 || float64(nch) < 0.1*float64(nch+nfull) {
 		return
 	}
-	seen := median(sw)
+	seen := stats.Median(sw)
 	nums := map[string]float64{"chatter_cycles": float64(nch), "full_cycles": float64(nfull), "swing_v": seen}
 	msg := fmt.Sprintf("%d of %d fires were chatter: the voltage fell only %s before the trigger let go.", nch, nch+nfull, fmtV(seen))
 	sugg := "Stretch the trigger's hysteresis with a larger hold capacitor."
@@ -332,7 +367,7 @@ func (d *diag) chatter() {
 			sugg += fmt.Sprintf(" The model predicts a %s swing every %s with it.", fmtV(f.FireV-f.ResetV), fmtS(f.PeriodS))
 		}
 	}
-	d.add(CodeChatter, "warn", msg, sugg, nums)
+	d.add(CodeChatter, analysis.Warn, msg, sugg, nums)
 }
 
 // loadTau is the pulse's time constant: fitted from the full pulses, else the circuit's
@@ -352,7 +387,7 @@ func (d *diag) loadTau() (float64, string) {
 func (d *diag) pulse() {
 	var energy, reset []float64
 	for _, c := range d.r.Cycles {
-		if c.Kind != "full" {
+		if c.Kind != analysis.CycleFull {
 			continue
 		}
 		if c.EnergyJ != nil {
@@ -364,12 +399,12 @@ func (d *diag) pulse() {
 	if p == nil {
 		return
 	}
-	if need := p.Load.StartJ; need > 0 && len(energy) > 0 && median(energy) < need {
-		e := median(energy)
+	if need := p.Load.StartJ; need > 0 && len(energy) > 0 && stats.Median(energy) < need {
+		e := stats.Median(energy)
 		nums := map[string]float64{"energy_j": e, "start_j": need}
 		sugg := "A larger storage capacitor gives more energy per pulse (E = ½C(Von² − Voff²))."
 		on, _ := d.onV()
-		off := median(reset)
+		off := stats.Median(reset)
 		if on > off && d.c != nil {
 			capNeed := 2 * need * 1.2 / (on*on - off*off) // 20 % margin
 			std := nearestStandard("E6", capNeed)
@@ -381,16 +416,16 @@ func (d *diag) pulse() {
 			}
 			sugg += "; check its rated voltage is above the trigger voltage."
 		}
-		d.add(CodeWeakPulse, "warn",
+		d.add(CodeWeakPulse, analysis.Warn,
 			fmt.Sprintf("Each pulse delivers %s, less than the %s the load needs to start.", units.Format(e, "J"), units.Format(need, "J")),
 			sugg, nums)
 	}
 	if off := p.Trigger.OffV; off > 0 && len(reset) > 0 {
 		on, _ := d.onV()
-		got := median(reset)
+		got := stats.Median(reset)
 		swing := on - off
 		if swing > 0 && got-off > 0.25*swing {
-			d.add(CodeEarlyRelease, "warn",
+			d.add(CodeEarlyRelease, analysis.Warn,
 				fmt.Sprintf("The trigger releases at %s (median), well above the declared %s: each pulse uses only %.0f %% of the intended swing.", fmtV(got), fmtV(off), 100*(on-got)/swing),
 				"For a hold-capacitor trigger, a larger hold capacitor or a supervisor with less quiescent current keeps it on longer; check the hold diode's polarity and leakage.",
 				map[string]float64{"reset_v": got, "declared_off_v": off, "swing_used": (on - got) / swing})
@@ -410,7 +445,7 @@ func (d *diag) drains() {
 		limit := der.LeakLimitA
 		atRated := p.Storage.RatedV / r.Fit.Leak.Ohm.Value
 		if limit > 0 && atRated > limit {
-			d.add(CodeLeakyCap, "warn",
+			d.add(CodeLeakyCap, analysis.Warn,
 				fmt.Sprintf("The capacitor leaks %s at its %s rating (from the fitted %s), above the datasheet limit of %s (%s).",
 					units.Format(atRated, "A"), fmtV(p.Storage.RatedV), units.Format(r.Fit.Leak.Ohm.Value, "Ω"), units.Format(limit, "A"), der.LeakLimitRule),
 				"Electrolytics leak more when new, hot or long unused; leave it charged for a day and measure again, or replace it with a low-leakage part. Never reverse an electrolytic's polarity.",
@@ -433,7 +468,7 @@ func (d *diag) drains() {
 		msg := fmt.Sprintf("The probe divider (%s) draws %s at %s, %.0f %% of the node's drain.", units.Format(c.ProbeOhm, "Ω"), units.Format(probe, "A"), fmtV(v), 100*probe/total)
 		sugg := "Use a divider of higher resistance (with 100 nF across the lower resistor so the ADC still sees a low source impedance), or switch the divider off between readings."
 		// How much it matters: the period (or the equilibrium) with ten times the resistance.
-		sev := "warn"
+		sev := analysis.Warn
 		base, ok1 := steadyWith(c, d.g, func(*model.Circuit) {})
 		f, ok2 := steadyWith(c, d.g, func(cc *model.Circuit) { cc.ProbeOhm *= 10 })
 		switch {
@@ -441,7 +476,7 @@ func (d *diag) drains() {
 			change := 1 - f.PeriodS/base.PeriodS
 			nums["period_now_s"], nums["period_probe_x10_s"], nums["period_change"] = base.PeriodS, f.PeriodS, change
 			if change < 0.05 {
-				sev = "info"
+				sev = analysis.Info
 				msg += fmt.Sprintf(" At this light it shortens the period by only %.1f %% (model), so the measurement hardly changes the circuit.", 100*change)
 			} else {
 				msg += " The measurement changes the circuit."
@@ -456,7 +491,7 @@ func (d *diag) drains() {
 			shift := f.EquilibriumV - base.EquilibriumV
 			nums["equilibrium_v"], nums["equilibrium_probe_x10_v"] = base.EquilibriumV, f.EquilibriumV
 			if shift < 0.01*base.EquilibriumV {
-				sev = "info"
+				sev = analysis.Info
 				msg += fmt.Sprintf(" It lowers the settling voltage by only %s (model), so it is not why the circuit stalls.", fmtV(shift))
 			} else {
 				msg += fmt.Sprintf(" It holds the settling voltage %s lower (model).", fmtV(shift))
@@ -481,7 +516,7 @@ func (d *diag) nominal() {
 		tol := p.Storage.Tolerance
 		lo, hi := tol.MinusPct/100, tol.PlusPct/100
 		if diff < -lo || diff > hi {
-			d.add(CodeCapOffNominal, "warn",
+			d.add(CodeCapOffNominal, analysis.Warn,
 				fmt.Sprintf("The capacitance measures %s, %+.0f %% from the declared %s: outside tolerance code %s.",
 					units.Format(got, "F"), 100*diff, units.Format(p.Storage.CapF, "F"), tol.String()),
 				"Electrolytics lose capacitance with age and heat; replace it, or declare the measured value so predictions use it.",
@@ -496,7 +531,7 @@ func (d *diag) nominal() {
 		// The true fire voltage lies between the reading less the band and the reading plus
 		// the rise and the band; it is off nominal only when all of that is outside.
 		if e.Value-band > hi || e.Value+rise+band < lo {
-			d.add(CodeTrigOffNominal, "warn",
+			d.add(CodeTrigOffNominal, analysis.Warn,
 				fmt.Sprintf("The circuit fires at %s, %+.1f %% from the declared %s: outside the part's stated ±%.1f %% (the reading is good to about %s).", fmtV(e.Value), 100*diff, fmtV(p.Trigger.OnV), p.Trigger.AccuracyPct, fmtV(rise+band)),
 				"Check the supervisor's part and the hold diode's drop (the node must rise one diode drop above the threshold); declare the measured value for predictions.",
 				map[string]float64{"measured_on_v": e.Value, "declared_on_v": p.Trigger.OnV, "diff": diff, "accuracy_pct": p.Trigger.AccuracyPct,
@@ -520,26 +555,13 @@ func (d *diag) fireReading() (band, rise float64) {
 	}
 	var slopes []float64
 	for _, c := range r.Cycles {
-		if c.Kind == "full" && c.ChargeS != nil && *c.ChargeS > 0 && c.FireV > c.ResetV {
+		if c.Kind == analysis.CycleFull && c.ChargeS != nil && *c.ChargeS > 0 && c.FireV > c.ResetV {
 			slopes = append(slopes, (c.FireV-c.ResetV) / *c.ChargeS)
 		}
 	}
 	if len(slopes) > 0 && r.Samples > 1 {
 		dt := math.Max(r.DurationS-r.Source.GapsS, 0) / float64(r.Samples-1)
-		rise = median(slopes) * dt
+		rise = stats.Median(slopes) * dt
 	}
 	return band, rise
-}
-
-func median(x []float64) float64 {
-	if len(x) == 0 {
-		return math.NaN()
-	}
-	s := append([]float64(nil), x...)
-	sort.Float64s(s)
-	n := len(s)
-	if n%2 == 1 {
-		return s[n/2]
-	}
-	return 0.5 * (s[n/2-1] + s[n/2])
 }

@@ -5,6 +5,7 @@ import (
 	"sort"
 
 	"capcycle/analyze/lambertw"
+
 	"gonum.org/v1/gonum/mat"
 )
 

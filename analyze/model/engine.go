@@ -572,9 +572,9 @@ func (e *engine) advance() (bool, error) {
 	if e.t >= e.endS {
 		return false, nil
 	}
-	var k2, k3, k4, k5, k6, k7, yt, y1 vec
+	var ks dpStages
 	y0 := e.y
-	k1 := e.f
+	ks.k[0] = e.f
 	for {
 		h := math.Min(e.h, e.maxStep)
 		limit := math.Min(e.endS, e.nextTimed)
@@ -587,40 +587,11 @@ func (e *engine) advance() (bool, error) {
 			return false, fmt.Errorf("model: step size underflow at t = %.9g s (V = %.6g V)", e.t, e.y[iV])
 		}
 		t := e.t
-		m := e.m
-		for i := range yt {
-			yt[i] = y0[i] + h*a21*k1[i]
-		}
-		e.eval(t+c2*h, &yt, m, &k2)
-		for i := range yt {
-			yt[i] = y0[i] + h*(a31*k1[i]+a32*k2[i])
-		}
-		e.eval(t+c3*h, &yt, m, &k3)
-		for i := range yt {
-			yt[i] = y0[i] + h*(a41*k1[i]+a42*k2[i]+a43*k3[i])
-		}
-		e.eval(t+c4*h, &yt, m, &k4)
-		for i := range yt {
-			yt[i] = y0[i] + h*(a51*k1[i]+a52*k2[i]+a53*k3[i]+a54*k4[i])
-		}
-		e.eval(t+c5*h, &yt, m, &k5)
-		for i := range yt {
-			yt[i] = y0[i] + h*(a61*k1[i]+a62*k2[i]+a63*k3[i]+a64*k4[i]+a65*k5[i])
-		}
-		e.eval(t+h, &yt, m, &k6)
-		for i := range y1 {
-			y1[i] = y0[i] + h*(a71*k1[i]+a73*k3[i]+a74*k4[i]+a75*k5[i]+a76*k6[i])
-		}
 		t1 := t + h
 		if clipped {
 			t1 = limit
 		}
-		ax1 := e.eval(t1, &y1, m, &k7)
-		var errv vec
-		for i := range errv {
-			errv[i] = h * (e1*k1[i] + e3*k3[i] + e4*k4[i] + e5*k5[i] + e6*k6[i] + e7*k7[i])
-		}
-		err := e.norm(&errv, &y0, &y1)
+		y1, ax1, err := e.dpStep(t, h, t1, e.m, &y0, &ks)
 		if err > 1 || math.IsNaN(err) {
 			e.rejected++
 			fac := 0.2
@@ -631,48 +602,99 @@ func (e *engine) advance() (bool, error) {
 			continue
 		}
 		e.steps++
-		// Dense output coefficients.
-		for i := range y1 {
-			ydiff := y1[i] - y0[i]
-			bspl := h*k1[i] - ydiff
-			e.r[0][i] = y0[i]
-			e.r[1][i] = ydiff
-			e.r[2][i] = bspl
-			e.r[3][i] = ydiff - h*k7[i] - bspl
-			e.r[4][i] = h * (d1*k1[i] + d3*k3[i] + d4*k4[i] + d5*k5[i] + d6*k6[i] + d7*k7[i])
-		}
-		e.t0, e.hd = t, h
-		e.stepMode = m
+		e.setDense(t, h, &y0, &y1, &ks)
 		fac := 5.0
 		if err > 0 {
 			fac = math.Min(5, math.Max(0.2, 0.9*math.Pow(err, -0.2)))
 		}
 		e.h = h * fac
+		return e.accept(t, t1, &y0, &y1, &ks.k[6], ax1, clipped)
+	}
+}
 
-		// Events inside the step.
-		if tr, te, ok := e.locate(t, t1, &y0, &y1, e.ax, ax1); ok {
-			e.t = te
-			e.dense(te, &e.y)
-			e.validEnd = te
-			e.ax = e.eval(te, &e.y, e.m, &e.f)
-			e.apply(tr)
-			if err := e.settle(); err != nil {
-				return false, err
-			}
-			e.h = e.initialStep()
-			return true, nil
+// dpStages are the seven stage derivatives of a Dormand-Prince step; k[0] is f(t, y0)
+// and k[6] f(t1, y1) (first same as last).
+type dpStages struct{ k [7]vec }
+
+// dpStep takes one Dormand-Prince 5(4) step of size h from (t, y0) in mode m, ending at
+// t1 (t + h, or a timed limit exactly): the new state, its aux values and the error
+// estimate's norm (above 1: reject).
+func (e *engine) dpStep(t, h, t1 float64, m mode, y0 *vec, ks *dpStages) (y1 vec, ax1 aux, errNorm float64) {
+	k1, k2, k3, k4, k5, k6, k7 := &ks.k[0], &ks.k[1], &ks.k[2], &ks.k[3], &ks.k[4], &ks.k[5], &ks.k[6]
+	var yt vec
+	for i := range yt {
+		yt[i] = y0[i] + h*a21*k1[i]
+	}
+	e.eval(t+c2*h, &yt, m, k2)
+	for i := range yt {
+		yt[i] = y0[i] + h*(a31*k1[i]+a32*k2[i])
+	}
+	e.eval(t+c3*h, &yt, m, k3)
+	for i := range yt {
+		yt[i] = y0[i] + h*(a41*k1[i]+a42*k2[i]+a43*k3[i])
+	}
+	e.eval(t+c4*h, &yt, m, k4)
+	for i := range yt {
+		yt[i] = y0[i] + h*(a51*k1[i]+a52*k2[i]+a53*k3[i]+a54*k4[i])
+	}
+	e.eval(t+c5*h, &yt, m, k5)
+	for i := range yt {
+		yt[i] = y0[i] + h*(a61*k1[i]+a62*k2[i]+a63*k3[i]+a64*k4[i]+a65*k5[i])
+	}
+	e.eval(t+h, &yt, m, k6)
+	for i := range y1 {
+		y1[i] = y0[i] + h*(a71*k1[i]+a73*k3[i]+a74*k4[i]+a75*k5[i]+a76*k6[i])
+	}
+	ax1 = e.eval(t1, &y1, m, k7)
+	var errv vec
+	for i := range errv {
+		errv[i] = h * (e1*k1[i] + e3*k3[i] + e4*k4[i] + e5*k5[i] + e6*k6[i] + e7*k7[i])
+	}
+	return y1, ax1, e.norm(&errv, y0, &y1)
+}
+
+// setDense sets the dense output's coefficients for the accepted step from (t, y0) of
+// size h, and the mode it was taken in.
+func (e *engine) setDense(t, h float64, y0, y1 *vec, ks *dpStages) {
+	k1, k3, k4, k5, k6, k7 := &ks.k[0], &ks.k[2], &ks.k[3], &ks.k[4], &ks.k[5], &ks.k[6]
+	for i := range y1 {
+		ydiff := y1[i] - y0[i]
+		bspl := h*k1[i] - ydiff
+		e.r[0][i] = y0[i]
+		e.r[1][i] = ydiff
+		e.r[2][i] = bspl
+		e.r[3][i] = ydiff - h*k7[i] - bspl
+		e.r[4][i] = h * (d1*k1[i] + d3*k3[i] + d4*k4[i] + d5*k5[i] + d6*k6[i] + d7*k7[i])
+	}
+	e.t0, e.hd = t, h
+	e.stepMode = e.m
+}
+
+// accept moves the engine to the end of an accepted step, or to the first event inside
+// it (which it applies), and makes a timed transition that ends the step.
+func (e *engine) accept(t, t1 float64, y0, y1, k7 *vec, ax1 aux, clipped bool) (bool, error) {
+	if tr, te, ok := e.locate(t, t1, y0, y1, e.ax, ax1); ok {
+		e.t = te
+		e.dense(te, &e.y)
+		e.validEnd = te
+		e.ax = e.eval(te, &e.y, e.m, &e.f)
+		e.apply(tr)
+		if err := e.settle(); err != nil {
+			return false, err
 		}
-		e.t, e.y, e.f, e.ax = t1, y1, k7, ax1
-		e.validEnd = t1
-		if clipped && t1 == e.nextTimed {
-			e.timerTransition()
-			if err := e.settle(); err != nil {
-				return false, err
-			}
-			e.h = e.initialStep()
-		}
+		e.h = e.initialStep()
 		return true, nil
 	}
+	e.t, e.y, e.f, e.ax = t1, *y1, *k7, ax1
+	e.validEnd = t1
+	if clipped && t1 == e.nextTimed {
+		e.timerTransition()
+		if err := e.settle(); err != nil {
+			return false, err
+		}
+		e.h = e.initialStep()
+	}
+	return true, nil
 }
 
 // timerTransition switches a timer trigger at e.nextTimed and schedules the next one.

@@ -2,19 +2,19 @@ package predict
 
 import (
 	"math"
-	"sort"
 
-	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/model"
+	"capcycle/analyze/stats"
 )
 
 // Fitted returns a copy of the nominal circuit with every part the analysis measured put
 // in its place, and the list of the parts it replaced (e.g. "trigger.on_v", "leak.ohm").
 // Parts the analysis could not determine (null in the Result) keep their declared value.
-func Fitted(nominal *model.Circuit, r *analyze.Result) (*model.Circuit, []string) {
+func Fitted(nominal *model.Circuit, r *analysis.Result) (*model.Circuit, []string) {
 	c := *nominal
 	var replaced []string
-	set := func(name string, dst *float64, e *analyze.Estimate, conv func(float64) float64) {
+	set := func(name string, dst *float64, e *analysis.Estimate, conv func(float64) float64) {
 		if e == nil || !(e.Value > 0) || math.IsInf(e.Value, 0) {
 			return
 		}
@@ -108,7 +108,7 @@ const (
 // capture was seen to fire (the median fire voltage), which a cell that reached it must.
 // A fit of a short recharge near the trigger (chatter) can give a degenerate diode that fails
 // both.
-func plausibleCell(cell *model.Cell, nominal *model.Circuit, r *analyze.Result) bool {
+func plausibleCell(cell *model.Cell, nominal *model.Circuit, r *analysis.Result) bool {
 	if cell.N < minIdeality || cell.N > maxIdeality {
 		return false
 	}
@@ -120,7 +120,7 @@ func plausibleCell(cell *model.Cell, nominal *model.Circuit, r *analyze.Result) 
 		return true
 	}
 	g := IrradianceFor(nominal, r.Fit.Cell.IscA.Value)
-	return g > 0 && cell.OpenCircuitV(g) >= median(fires)
+	return g > 0 && cell.OpenCircuitV(g) >= stats.Median(fires)
 }
 
 // fittedLeak turns the analysis's dark drain into the capacitor's own leakage resistance.
@@ -134,7 +134,7 @@ func plausibleCell(cell *model.Cell, nominal *model.Circuit, r *analyze.Result) 
 // capture has no dark decay) is not used: that time constant includes the lit cell's own
 // slope dI/dV, which for a cell near its open-circuit voltage is far steeper than any
 // leakage (a Wren-like cell settling at 3.9 V gives about 0.5 kΩ against a 0.9 MΩ leak).
-func fittedLeak(c *model.Circuit, r *analyze.Result) (float64, bool) {
+func fittedLeak(c *model.Circuit, r *analysis.Result) (float64, bool) {
 	lk := r.Fit.Leak
 	if lk.Ohm == nil || !(lk.Ohm.Value > 0) || math.IsInf(lk.Ohm.Value, 0) || lk.Method == "plateau" {
 		return 0, false
@@ -165,10 +165,10 @@ func fittedLeak(c *model.Circuit, r *analyze.Result) (float64, bool) {
 // capture's typical light matches the measured median pulse: the hold time C_hold·ΔV/I_q
 // is what the pulses measure, and of its three parts the capacitance is the one least well
 // known (a few microfarads of electrolytic, ±20 % and more). It reports whether it did.
-func fitHold(c *model.Circuit, r *analyze.Result) bool {
+func fitHold(c *model.Circuit, r *analysis.Result) bool {
 	var pulses []float64
 	for _, cy := range r.Cycles {
-		if cy.Kind == "full" && cy.PulseS > 0 {
+		if cy.Kind == analysis.CycleFull && cy.PulseS > 0 {
 			pulses = append(pulses, cy.PulseS)
 		}
 	}
@@ -176,7 +176,7 @@ func fitHold(c *model.Circuit, r *analyze.Result) bool {
 	if len(pulses) < 3 || !(g > 0) {
 		return false
 	}
-	want := median(pulses)
+	want := stats.Median(pulses)
 	for range 4 { // the pulse is nearly proportional to C_hold; a few rounds converge
 		f, err := Steady(c, g, nil)
 		if err != nil || !f.Fires || !(f.PulseS > 0) {
@@ -195,15 +195,15 @@ func fitHold(c *model.Circuit, r *analyze.Result) bool {
 // c: from the median short-circuit current of the cycles' charges, or, when the circuit
 // never fired, from the irradiance at which c settles at the measured equilibrium voltage.
 // It returns 0 when neither is known.
-func MeasuredLight(r *analyze.Result, c *model.Circuit) float64 {
+func MeasuredLight(r *analysis.Result, c *model.Circuit) float64 {
 	var iscs []float64
 	for _, cy := range r.Cycles {
-		if cy.Kind == "full" && cy.LightA != nil && *cy.LightA > 0 {
+		if cy.Kind == analysis.CycleFull && cy.LightA != nil && *cy.LightA > 0 {
 			iscs = append(iscs, *cy.LightA)
 		}
 	}
 	if len(iscs) > 0 {
-		return IrradianceFor(c, median(iscs))
+		return IrradianceFor(c, stats.Median(iscs))
 	}
 	if g := chatterLight(r, c); g > 0 {
 		return g
@@ -221,13 +221,13 @@ func MeasuredLight(r *analyze.Result, c *model.Circuit) float64 {
 // and voltages, not the per-cycle light_a, whose extrapolation to 0 V from a recharge of a
 // few tens of millivolts is not relied on. It returns 0 without chatter or without the
 // capacitance.
-func chatterLight(r *analyze.Result, c *model.Circuit) float64 {
+func chatterLight(r *analysis.Result, c *model.Circuit) float64 {
 	if c.Storage.CapF <= 0 {
 		return 0
 	}
 	var gs []float64
 	for k, cy := range r.Cycles {
-		if k == 0 || cy.Kind != "chatter" || cy.ChargeS == nil || !(*cy.ChargeS > 0) {
+		if k == 0 || cy.Kind != analysis.CycleChatter || cy.ChargeS == nil || !(*cy.ChargeS > 0) {
 			continue
 		}
 		from := r.Cycles[k-1].ResetV
@@ -253,7 +253,7 @@ func chatterLight(r *analyze.Result, c *model.Circuit) float64 {
 	if len(gs) == 0 {
 		return 0
 	}
-	return median(gs)
+	return stats.Median(gs)
 }
 
 // LightForEquilibrium finds the irradiance at which c settles at veq (bisection on a log
@@ -272,16 +272,6 @@ func LightForEquilibrium(c *model.Circuit, veq float64) float64 {
 		}
 	}
 	return math.Exp(0.5 * (lo + hi))
-}
-
-func median(x []float64) float64 {
-	s := append([]float64(nil), x...)
-	sort.Float64s(s)
-	n := len(s)
-	if n%2 == 1 {
-		return s[n/2]
-	}
-	return 0.5 * (s[n/2-1] + s[n/2])
 }
 
 // cache memoises Steady by light level: measured cycles at nearly the same light share one
@@ -312,8 +302,8 @@ func (k *cache) at(g float64) (Figures, error) {
 // Compare predicts every full measured cycle with the nominal and the fitted circuit (either
 // may be nil), each at the light measured during that cycle's charge, and sums up the
 // errors. Cycles without a light measurement are listed with null predictions.
-func Compare(r *analyze.Result, nominal, fitted *model.Circuit) *analyze.Prediction {
-	p := &analyze.Prediction{Cycles: []analyze.PredictedCycle{}}
+func Compare(r *analysis.Result, nominal, fitted *model.Circuit) *analysis.Prediction {
+	p := &analysis.Prediction{Cycles: []analysis.PredictedCycle{}}
 	var kn, kf *cache
 	if nominal != nil {
 		kn = newCache(nominal)
@@ -322,41 +312,41 @@ func Compare(r *analyze.Result, nominal, fitted *model.Circuit) *analyze.Predict
 		kf = newCache(fitted)
 	}
 	for _, cy := range r.Cycles {
-		if cy.Kind != "full" {
+		if cy.Kind != analysis.CycleFull {
 			continue
 		}
-		pc := analyze.PredictedCycle{Index: cy.Index, Measured: measured(cy)}
+		pc := analysis.PredictedCycle{Index: cy.Index, Measured: measured(cy)}
 		if cy.LightA != nil && *cy.LightA > 0 {
 			pc.Nominal = predictOne(kn, *cy.LightA)
 			pc.Fitted = predictOne(kf, *cy.LightA)
 		}
 		p.Cycles = append(p.Cycles, pc)
 	}
-	p.Nominal = Summarize(p.Cycles, func(c analyze.PredictedCycle) *analyze.CycleFigs { return c.Nominal })
-	p.Fitted = Summarize(p.Cycles, func(c analyze.PredictedCycle) *analyze.CycleFigs { return c.Fitted })
+	p.Nominal = Summarize(p.Cycles, func(c analysis.PredictedCycle) *analysis.CycleFigs { return c.Nominal })
+	p.Fitted = Summarize(p.Cycles, func(c analysis.PredictedCycle) *analysis.CycleFigs { return c.Fitted })
 	return p
 }
 
 // HeldOut predicts the cycles that fire at or after splitS with a circuit fitted on the
 // capture before splitS, and sums up the errors: the check that the fit generalises.
-func HeldOut(r *analyze.Result, fittedBefore *model.Circuit, splitS float64) *analyze.ErrorSummary {
+func HeldOut(r *analysis.Result, fittedBefore *model.Circuit, splitS float64) *analysis.ErrorSummary {
 	k := newCache(fittedBefore)
-	var cs []analyze.PredictedCycle
+	var cs []analysis.PredictedCycle
 	for _, cy := range r.Cycles {
-		if cy.Kind != "full" || cy.FireS < splitS || cy.LightA == nil || *cy.LightA <= 0 {
+		if cy.Kind != analysis.CycleFull || cy.FireS < splitS || cy.LightA == nil || *cy.LightA <= 0 {
 			continue
 		}
-		cs = append(cs, analyze.PredictedCycle{Index: cy.Index, Measured: measured(cy), Fitted: predictOne(k, *cy.LightA)})
+		cs = append(cs, analysis.PredictedCycle{Index: cy.Index, Measured: measured(cy), Fitted: predictOne(k, *cy.LightA)})
 	}
-	return Summarize(cs, func(c analyze.PredictedCycle) *analyze.CycleFigs { return c.Fitted })
+	return Summarize(cs, func(c analysis.PredictedCycle) *analysis.CycleFigs { return c.Fitted })
 }
 
-func measured(cy analyze.Cycle) analyze.CycleFigs {
+func measured(cy analysis.Cycle) analysis.CycleFigs {
 	fv, rv, ps := cy.FireV, cy.ResetV, cy.PulseS
-	return analyze.CycleFigs{ChargeS: cy.ChargeS, PulseS: &ps, FireV: &fv, ResetV: &rv, EnergyJ: cy.EnergyJ}
+	return analysis.CycleFigs{ChargeS: cy.ChargeS, PulseS: &ps, FireV: &fv, ResetV: &rv, EnergyJ: cy.EnergyJ}
 }
 
-func predictOne(k *cache, iscA float64) *analyze.CycleFigs {
+func predictOne(k *cache, iscA float64) *analysis.CycleFigs {
 	if k == nil {
 		return nil
 	}
@@ -369,9 +359,9 @@ func predictOne(k *cache, iscA float64) *analyze.CycleFigs {
 		return nil
 	}
 	if !f.Fires {
-		return &analyze.CycleFigs{} // predicted never to fire: every figure null
+		return &analysis.CycleFigs{} // predicted never to fire: every figure null
 	}
-	return &analyze.CycleFigs{ChargeS: ptr(f.ChargeS), PulseS: ptr(f.PulseS), FireV: ptr(f.FireV),
+	return &analysis.CycleFigs{ChargeS: ptr(f.ChargeS), PulseS: ptr(f.PulseS), FireV: ptr(f.FireV),
 		ResetV: ptr(f.ResetV), EnergyJ: ptr(f.EnergyJ)}
 }
 
@@ -381,7 +371,7 @@ func ptr(v float64) *float64 { return &v }
 // (bias and mean absolute percentage error in %, RMS error in seconds, share within 10 %),
 // and the mean absolute percentage errors of the pulse length and the energy per pulse.
 // A cycle predicted never to fire counts as missing. It returns nil when nothing compares.
-func Summarize(cs []analyze.PredictedCycle, pick func(analyze.PredictedCycle) *analyze.CycleFigs) *analyze.ErrorSummary {
+func Summarize(cs []analysis.PredictedCycle, pick func(analysis.PredictedCycle) *analysis.CycleFigs) *analysis.ErrorSummary {
 	var n, within int
 	var sumRel, sumAbs, sumSq float64
 	var pulse, energy mape
@@ -409,7 +399,7 @@ func Summarize(cs []analyze.PredictedCycle, pick func(analyze.PredictedCycle) *a
 	if n == 0 && pulse.n == 0 {
 		return nil
 	}
-	s := &analyze.ErrorSummary{N: n, PulseMAPEPct: pulse.pct(), EnergyMAPEPct: energy.pct()}
+	s := &analysis.ErrorSummary{N: n, PulseMAPEPct: pulse.pct(), EnergyMAPEPct: energy.pct()}
 	if n > 0 {
 		s.BiasPct = ptr(100 * sumRel / float64(n))
 		s.MAPEPct = ptr(100 * sumAbs / float64(n))

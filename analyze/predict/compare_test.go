@@ -4,14 +4,14 @@ import (
 	"math"
 	"testing"
 
-	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/model"
 )
 
 // truthResult simulates c under piecewise-constant light steps and returns an analysis
 // Result holding the simulated cycles as if measured, each with the short-circuit current
 // of the light it charged under.
-func truthResult(t *testing.T, c *model.Circuit, levels []float64, stepS float64) *analyze.Result {
+func truthResult(t *testing.T, c *model.Circuit, levels []float64, stepS float64) *analysis.Result {
 	t.Helper()
 	var ts, gs []float64
 	for i, g := range levels {
@@ -26,7 +26,7 @@ func truthResult(t *testing.T, c *model.Circuit, levels []float64, stepS float64
 	if err != nil {
 		t.Fatal(err)
 	}
-	r := &analyze.Result{Schema: analyze.Schema}
+	r := &analysis.Result{Schema: analysis.Schema}
 	for i, cy := range res.Cycles {
 		if i == 0 {
 			continue // the first charge starts from an arbitrary voltage
@@ -38,7 +38,7 @@ func truthResult(t *testing.T, c *model.Circuit, levels []float64, stepS float64
 		charge := cy.FireS - cy.StartS
 		isc := c.Cell.Current(0, g)
 		e := 0.5 * c.Storage.CapF * (cy.FireV*cy.FireV - cy.ResetV*cy.ResetV)
-		r.Cycles = append(r.Cycles, analyze.Cycle{Index: i, FireS: cy.FireS, FireV: cy.FireV,
+		r.Cycles = append(r.Cycles, analysis.Cycle{Index: i, FireS: cy.FireS, FireV: cy.FireV,
 			ResetS: cy.ResetS, ResetV: cy.ResetV, ChargeS: &charge, PulseS: cy.ResetS - cy.FireS,
 			EnergyJ: &e, Kind: "full", LightA: &isc})
 	}
@@ -63,7 +63,7 @@ func TestCompareSelfConsistent(t *testing.T) {
 	c := rcCircuit()
 	r := truthResult(t, c, []float64{1000, 400, 700, 250, 1000}, 60)
 	p := Compare(r, c, c)
-	for _, s := range []*analyze.ErrorSummary{p.Nominal, p.Fitted} {
+	for _, s := range []*analysis.ErrorSummary{p.Nominal, p.Fitted} {
 		if s == nil || s.N != len(r.Cycles) {
 			t.Fatalf("summary %+v, want %d cycles", s, len(r.Cycles))
 		}
@@ -96,11 +96,11 @@ func TestCompareBiasFromWrongCapacitance(t *testing.T) {
 func TestFittedReplacesMeasuredParts(t *testing.T) {
 	c := rcCircuit()
 	sd := 0.01
-	r := &analyze.Result{}
-	r.Fit.Trigger.OnV = &analyze.Estimate{Value: 3.1, SD: &sd}
-	r.Fit.Trigger.OffV = &analyze.Estimate{Value: 1.9, SD: &sd}
-	r.Fit.Load.Ohm = &analyze.Estimate{Value: 82}
-	r.Fit.Leak.Ohm = &analyze.Estimate{Value: 150e3}
+	r := &analysis.Result{}
+	r.Fit.Trigger.OnV = &analysis.Estimate{Value: 3.1, SD: &sd}
+	r.Fit.Trigger.OffV = &analysis.Estimate{Value: 1.9, SD: &sd}
+	r.Fit.Load.Ohm = &analysis.Estimate{Value: 82}
+	r.Fit.Leak.Ohm = &analysis.Estimate{Value: 150e3}
 	f, replaced := Fitted(c, r)
 	if f.Trigger.OnV != 3.1 || f.Trigger.OffV != 1.9 || f.Load.Ohm != 82 || f.Storage.LeakOhm != 150e3 {
 		t.Errorf("fitted circuit %+v", f)

@@ -4,7 +4,7 @@ import (
 	"math"
 	"testing"
 
-	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/model"
 	"capcycle/analyze/profile"
 )
@@ -23,10 +23,10 @@ func wrenCircuit(t *testing.T) *model.Circuit {
 }
 
 // cellFitAt is the analysis's cell fit of c's own cell traced under irradiance g.
-func cellFitAt(c *model.Circuit, g float64) analyze.CellFit {
+func cellFitAt(c *model.Circuit, g float64) analysis.CellFit {
 	isc := c.Cell.Current(0, g)
-	return analyze.CellFit{IscA: &analyze.Estimate{Value: isc}, VocV: &analyze.Estimate{Value: c.Cell.OpenCircuitV(g)},
-		I0A: &analyze.Estimate{Value: c.Cell.I0A}, N: &analyze.Estimate{Value: c.Cell.N}}
+	return analysis.CellFit{IscA: &analysis.Estimate{Value: isc}, VocV: &analysis.Estimate{Value: c.Cell.OpenCircuitV(g)},
+		I0A: &analysis.Estimate{Value: c.Cell.I0A}, N: &analysis.Estimate{Value: c.Cell.N}}
 }
 
 // A cell fitted in shade (200 W/m²) keeps the light in the declared cell's W/m²: the
@@ -35,10 +35,10 @@ func cellFitAt(c *model.Circuit, g float64) analyze.CellFit {
 func TestFittedCellKeepsTheLight(t *testing.T) {
 	c := wrenCircuit(t)
 	const g = 200.0
-	r := &analyze.Result{Schema: analyze.Schema}
+	r := &analysis.Result{Schema: analysis.Schema}
 	r.Fit.Cell = cellFitAt(c, g)
 	isc := r.Fit.Cell.IscA.Value
-	r.Cycles = []analyze.Cycle{{Kind: "full", FireV: 2.7, ResetV: 0.9, LightA: &isc}}
+	r.Cycles = []analysis.Cycle{{Kind: "full", FireV: 2.7, ResetV: 0.9, LightA: &isc}}
 	f, replaced := Fitted(c, r)
 	if !contains(replaced, "cell") {
 		t.Fatalf("cell not replaced: %v", replaced)
@@ -59,16 +59,16 @@ func TestFittedCellDegenerate(t *testing.T) {
 	c := wrenCircuit(t)
 	for _, tc := range []struct {
 		name  string
-		edit  func(*analyze.CellFit)
+		edit  func(*analysis.CellFit)
 		fireV float64
 	}{
-		{"ideality", func(cf *analyze.CellFit) { cf.N.Value = 0.03 }, 2.7},
-		{"below the fires", func(cf *analyze.CellFit) {}, 4.5}, // Voc at 200 W/m² is about 3.9 V
+		{"ideality", func(cf *analysis.CellFit) { cf.N.Value = 0.03 }, 2.7},
+		{"below the fires", func(cf *analysis.CellFit) {}, 4.5}, // Voc at 200 W/m² is about 3.9 V
 	} {
-		r := &analyze.Result{Schema: analyze.Schema}
+		r := &analysis.Result{Schema: analysis.Schema}
 		r.Fit.Cell = cellFitAt(c, 200)
 		tc.edit(&r.Fit.Cell)
-		r.Cycles = []analyze.Cycle{{Kind: "full", FireV: tc.fireV, ResetV: 1}}
+		r.Cycles = []analysis.Cycle{{Kind: "full", FireV: tc.fireV, ResetV: 1}}
 		if _, replaced := Fitted(c, r); contains(replaced, "cell") {
 			t.Errorf("%s: the degenerate cell replaced the declared one", tc.name)
 		}
@@ -78,12 +78,12 @@ func TestFittedCellDegenerate(t *testing.T) {
 // The approach to a plateau is no leak measurement; a dark decay is.
 func TestFittedLeakNotFromPlateau(t *testing.T) {
 	c := wrenCircuit(t)
-	for _, m := range []string{"plateau", "dark-decay"} {
-		r := &analyze.Result{Schema: analyze.Schema}
-		r.Fit.Leak.Ohm = &analyze.Estimate{Value: 500}
+	for _, m := range []analysis.LeakMethod{analysis.LeakPlateau, analysis.LeakDarkDecay} {
+		r := &analysis.Result{Schema: analysis.Schema}
+		r.Fit.Leak.Ohm = &analysis.Estimate{Value: 500}
 		r.Fit.Leak.Method = m
 		_, replaced := Fitted(c, r)
-		if got := contains(replaced, "leak.ohm"); got != (m == "dark-decay") {
+		if got := contains(replaced, "leak.ohm"); got != (m == analysis.LeakDarkDecay) {
 			t.Errorf("method %s: leak replaced %v", m, got)
 		}
 	}
@@ -100,11 +100,11 @@ func TestChatterLight(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	r := &analyze.Result{Schema: analyze.Schema}
+	r := &analysis.Result{Schema: analysis.Schema}
 	for _, cy := range res.Cycles {
 		// As the analysis reports them: the charge runs from the previous reset to the fire.
 		ch := cy.FireS - cy.StartS
-		r.Cycles = append(r.Cycles, analyze.Cycle{Kind: "chatter", FireS: cy.FireS, FireV: cy.FireV,
+		r.Cycles = append(r.Cycles, analysis.Cycle{Kind: "chatter", FireS: cy.FireS, FireV: cy.FireV,
 			ResetS: cy.ResetS, ResetV: cy.ResetV, ChargeS: &ch})
 	}
 	if len(r.Cycles) < 5 {

@@ -5,7 +5,7 @@ import (
 	"fmt"
 	"math"
 
-	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/model"
 )
 
@@ -25,12 +25,12 @@ const defaultIdeality = 1.5
 // Without a known capacitance only time constants and currents over C are identifiable;
 // the circuit then has C = 1 F and every resistance and current scaled to it, which
 // predicts times and voltages correctly but not energies. normalised reports that case.
-func FromResult(r *analyze.Result) (c *model.Circuit, normalised bool, err error) {
+func FromResult(r *analysis.Result) (c *model.Circuit, normalised bool, err error) {
 	capF := 0.0
 	if r.Capacitance != nil && r.Capacitance.F.Value > 0 {
 		capF = r.Capacitance.F.Value
-	} else if r.Declared != nil && r.Declared.CapF != nil && *r.Declared.CapF > 0 {
-		capF = *r.Declared.CapF
+	} else if r.Declared != nil && r.Declared.CapF != 0 && r.Declared.CapF > 0 {
+		capF = r.Declared.CapF
 	}
 	if capF == 0 {
 		capF, normalised = 1, true
@@ -42,12 +42,12 @@ func FromResult(r *analyze.Result) (c *model.Circuit, normalised bool, err error
 		c.Trigger = model.Trigger{Kind: model.TriggerTimer, PeriodS: ft.PeriodS.Value, PulseS: ft.PulseS.Value}
 	case ft.OnV != nil && ft.OffV != nil && ft.OffV.Value < ft.OnV.Value:
 		c.Trigger = model.Trigger{Kind: model.TriggerVoltage, OnV: ft.OnV.Value, OffV: ft.OffV.Value}
-	case r.Declared != nil && r.Declared.OnV != nil && r.Declared.OffV != nil && *r.Declared.OffV < *r.Declared.OnV:
-		c.Trigger = model.Trigger{Kind: model.TriggerVoltage, OnV: *r.Declared.OnV, OffV: *r.Declared.OffV}
+	case r.Declared != nil && r.Declared.OnV != 0 && r.Declared.OffV != 0 && r.Declared.OffV < r.Declared.OnV:
+		c.Trigger = model.Trigger{Kind: model.TriggerVoltage, OnV: r.Declared.OnV, OffV: r.Declared.OffV}
 	default:
 		return nil, false, fmt.Errorf("%w: no trigger voltages (fitted or declared)", ErrUnderdetermined)
 	}
-	ohm := func(e *analyze.Estimate, tau *analyze.Estimate) float64 {
+	ohm := func(e *analysis.Estimate, tau *analysis.Estimate) float64 {
 		if e != nil && e.Value > 0 && !normalised {
 			return e.Value
 		}
@@ -57,8 +57,8 @@ func FromResult(r *analyze.Result) (c *model.Circuit, normalised bool, err error
 		return 0
 	}
 	c.Load = model.Load{Ohm: ohm(r.Fit.Load.Ohm, r.Fit.Load.TauS)}
-	if c.Load.Ohm == 0 && r.Declared != nil && r.Declared.LoadOhm != nil && !normalised {
-		c.Load.Ohm = *r.Declared.LoadOhm
+	if c.Load.Ohm == 0 && r.Declared != nil && r.Declared.LoadOhm != 0 && !normalised {
+		c.Load.Ohm = r.Declared.LoadOhm
 	}
 	if c.Load.Ohm <= 0 {
 		return nil, false, fmt.Errorf("%w: no load resistance or time constant", ErrUnderdetermined)
@@ -66,8 +66,8 @@ func FromResult(r *analyze.Result) (c *model.Circuit, normalised bool, err error
 	c.Storage.LeakOhm = ohm(r.Fit.Leak.Ohm, nil)
 	if e := r.Fit.Leak.ProbeOhm; e != nil && e.Value > 0 && !normalised {
 		c.ProbeOhm = e.Value
-	} else if r.Declared != nil && r.Declared.ProbeOhm != nil && !normalised {
-		c.ProbeOhm = *r.Declared.ProbeOhm
+	} else if r.Declared != nil && r.Declared.ProbeOhm != 0 && !normalised {
+		c.ProbeOhm = r.Declared.ProbeOhm
 	}
 	if c.Storage.LeakOhm == 0 && r.Fit.Leak.TauS != nil && r.Fit.Leak.TauS.Value > 0 {
 		// The time constant of every linear drain together; the probe's share, if known,
@@ -92,8 +92,8 @@ func FromResult(r *analyze.Result) (c *model.Circuit, normalised bool, err error
 		if cf.RshOhm != nil {
 			c.Cell.RshOhm = cf.RshOhm.Value
 		}
-	case r.Declared != nil && r.Declared.VocV != nil && r.Declared.IscA != nil:
-		c.Cell = CellFromRatings(*r.Declared.VocV, *r.Declared.IscA, 1, 0)
+	case r.Declared != nil && r.Declared.VocV != 0 && r.Declared.IscA != 0:
+		c.Cell = CellFromRatings(r.Declared.VocV, r.Declared.IscA, 1, 0)
 	default:
 		return nil, false, fmt.Errorf("%w: no cell parameters (fitted, or declared Voc and Isc)", ErrUnderdetermined)
 	}

@@ -5,7 +5,7 @@ import (
 	"math"
 	"testing"
 
-	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/model"
 )
 
@@ -32,13 +32,13 @@ func TestFromResultPredictsTimes(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	e := func(v float64) *analyze.Estimate { return &analyze.Estimate{Value: v} }
-	r := &analyze.Result{}
+	e := func(v float64) *analysis.Estimate { return &analysis.Estimate{Value: v} }
+	r := &analysis.Result{}
 	r.Fit.Trigger.OnV, r.Fit.Trigger.OffV = e(3.0), e(2.0)
 	r.Fit.Load.TauS = e(0.1)      // R C
 	r.Fit.Leak.TauS = e(500)      // R_leak C
 	voc, isc := 4.0, 5e-3/1000e-6 // without C the analysis reports I/C in V/s
-	r.Declared = &analyze.Declared{VocV: &voc, IscA: &isc}
+	r.Declared = &analysis.Declared{VocV: voc, IscA: isc}
 	c, norm, err := FromResult(r)
 	if err != nil {
 		t.Fatal(err)
@@ -56,7 +56,7 @@ func TestFromResultPredictsTimes(t *testing.T) {
 }
 
 func TestFromResultUnderdetermined(t *testing.T) {
-	if _, _, err := FromResult(&analyze.Result{}); !errors.Is(err, ErrUnderdetermined) {
+	if _, _, err := FromResult(&analysis.Result{}); !errors.Is(err, ErrUnderdetermined) {
 		t.Fatalf("err = %v", err)
 	}
 }

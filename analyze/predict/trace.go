@@ -3,7 +3,7 @@ package predict
 import (
 	"fmt"
 
-	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/model"
 )
 
@@ -11,7 +11,7 @@ import (
 // returns one cycle sampled at n points, with time relative to the fire: from beforeS
 // seconds before it to afterS seconds after it. It is the model's cycle drawn over the
 // measured ones in the report.
-func CycleTrace(c *model.Circuit, g, beforeS, afterS float64, n int, label string) (*analyze.Trace, error) {
+func CycleTrace(c *model.Circuit, g, beforeS, afterS float64, n int, label string) (*analysis.Trace, error) {
 	f, err := Steady(c, g, nil)
 	if err != nil {
 		return nil, err
@@ -43,7 +43,7 @@ func CycleTrace(c *model.Circuit, g, beforeS, afterS float64, n int, label strin
 	if fire < 0 {
 		return nil, fmt.Errorf("predict: no traceable cycle in %.3g s", d)
 	}
-	tr := &analyze.Trace{Label: label}
+	tr := &analysis.Trace{Label: label}
 	for i, t := range ts {
 		if t >= fire-beforeS && t <= fire+afterS {
 			tr.TS = append(tr.TS, t-fire)

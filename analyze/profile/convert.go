@@ -63,6 +63,9 @@ func (c *conv) profile(r *rawProfile) *Profile {
 			c.fail("channel", ErrMissing, "no [[channel]] table: at least one ADC channel must read the storage capacitor (node = \"vcap\")")
 		}
 	})
+	if len(errs) == 0 {
+		part(func() { c.cross(p, r) })
+	}
 	c.err = nil
 	for _, e := range errs {
 		if c.err == nil || (e.Line > 0 && (c.err.Line == 0 || e.Line < c.err.Line)) {
@@ -70,6 +73,20 @@ func (c *conv) profile(r *rawProfile) *Profile {
 		}
 	}
 	return p
+}
+
+// cross checks what needs more than one table.
+func (c *conv) cross(p *Profile, r *rawProfile) {
+	if c.err != nil || r.Trigger == nil || r.Cell == nil {
+		return
+	}
+	t := p.Trigger
+	if t.Kind == Plateau && t.OnV == 0 && t.OffV > 0 {
+		arm := AssumedPlateauArmFraction * p.Cell.VocV
+		c.check(t.OffV < arm, "trigger.off_v",
+			"off_v %s must be below the voltage at which the trigger arms: with no on_v that is %g × the cell's voc_v = %s (give on_v)",
+			fv(t.OffV, "V"), AssumedPlateauArmFraction, fv(arm, "V"))
+	}
 }
 
 func (c *conv) requireTable(name string, ok bool) {
@@ -179,8 +196,12 @@ func (c *conv) trigger(r *rawTrigger) Trigger {
 	c.check(t.AccuracyPct < 100, "trigger.accuracy_pct", "%g %%: want a stated accuracy below 100 %%", t.AccuracyPct)
 	if hold {
 		c.check(t.DiodeV < t.OnV, "trigger.diode_v", "diode drop %s must be below on_v %s", fv(t.DiodeV, "V"), fv(t.OnV, "V"))
-		c.check(t.HysteresisV < t.OnV-t.DiodeV, "trigger.hysteresis_v", "hysteresis %s must be below the supervisor threshold on_v - diode_v = %s",
-			fv(t.HysteresisV, "V"), fv(t.OnV-t.DiodeV, "V"))
+		vd, said := t.DiodeV, ""
+		if !r.DiodeV.set {
+			vd, said = AssumedHoldDiodeV, fmt.Sprintf(" (diode_v not given: %s assumed)", fv(AssumedHoldDiodeV, "V"))
+		}
+		c.check(t.HysteresisV < t.OnV-vd, "trigger.hysteresis_v", "hysteresis %s must be below the supervisor threshold on_v - diode_v = %s%s",
+			fv(t.HysteresisV, "V"), fv(t.OnV-vd, "V"), said)
 	}
 	return t
 }
@@ -238,6 +259,23 @@ func (c *conv) cell(r *rawCell) Cell {
 	if cl.TempK == 0 {
 		cl.TempK = 298.15
 	}
+	if c.err != nil {
+		return cl
+	}
+	c.check(cl.VocV/float64(cl.SeriesCells) <= MaxVocPerCellV, "cell.voc_v",
+		"%s over %d cell(s) in series is %s per cell; a solar cell gives at most about %s: give series_cells",
+		fv(cl.VocV, "V"), cl.SeriesCells, fv(cl.VocV/float64(cl.SeriesCells), "V"), fv(MaxVocPerCellV, "V"))
+	// The single-diode model through (0, Isc) and (Voc, 0) needs Voc > Isc·Rs and
+	// Rs + Rsh > Voc/Isc: otherwise the resistors alone would put the two points where
+	// they are, with no diode current left.
+	c.check(cl.VocV > cl.IscA*cl.SeriesOhm, "cell.series_ohm",
+		"%s: the series resistance must be below voc_v/isc_a = %s, or the short-circuit current could not flow",
+		fv(cl.SeriesOhm, units.Ohm), fv(cl.VocV/cl.IscA, units.Ohm))
+	if cl.ShuntOhm > 0 {
+		c.check(cl.ShuntOhm+cl.SeriesOhm > cl.VocV/cl.IscA, "cell.shunt_ohm",
+			"%s: series plus shunt resistance must be above voc_v/isc_a = %s, or the shunt alone would hold the voltage below voc_v",
+			fv(cl.ShuntOhm, units.Ohm), fv(cl.VocV/cl.IscA, units.Ohm))
+	}
 	return cl
 }
 
@@ -246,6 +284,10 @@ func (c *conv) adc(r *rawADC) ADC {
 	a.Reference = Reference(c.text("adc.reference", r.Reference, true, string(RefAVCC), string(RefInternal)))
 	a.ReferenceV = c.num("adc.reference_v", r.ReferenceV, volts, true)
 	a.Bits = int(c.integer("adc.bits", r.Bits, 1, 24, 10))
+	if a.Reference == RefInternal {
+		c.check(c.err != nil || a.ReferenceV <= 2.75, "adc.reference_v",
+			"%s: an internal band-gap reference is 1.1 V to 2.56 V; for the supply use reference = \"avcc\"", fv(a.ReferenceV, "V"))
+	}
 	return a
 }
 
@@ -258,9 +300,12 @@ func (c *conv) channels(rs []rawChannel) []Channel {
 		ch := &out[i]
 		ch.Node = Node(c.text(k+"node", r.Node, true, string(NodeVcap), string(NodeVcell), string(NodeVhold), string(NodeVload), string(NodeIload)))
 		if !r.ADC.set {
-			c.fail(k+"adc", ErrMissing, "required: the ADC input number, 0 to 15")
+			c.fail(k+"adc", ErrMissing, "required: the ADC input number, 0 to %d", MaxADCInputs-1)
 		}
-		ch.ADC = int(c.integer(k+"adc", r.ADC, 0, 15, 0))
+		ch.ADC = int(c.integer(k+"adc", r.ADC, 0, MaxADCInputs-1, 0))
+		if c.err == nil && ch.Node == NodeVcap && ch.ADC != 0 {
+			c.fail(k+"adc", ErrValue, "%d: the vcap channel is on ADC input 0 (the recorder writes ADC0 as vcap_v)", ch.ADC)
+		}
 		if ch.Node == NodeIload {
 			why := "an iload channel reads a shunt (shunt_ohm, amp_gain), not a divider"
 			c.forbid(k+"top_ohm", r.TopOhm, why)
@@ -278,6 +323,10 @@ func (c *conv) channels(rs []rawChannel) []Channel {
 		}
 		ch.TopOhm = c.num(k+"top_ohm", r.TopOhm, ohmsNN, false)
 		ch.BottomOhm = c.num(k+"bottom_ohm", r.BottomOhm, ohmsNN, false)
+		if c.err == nil && r.BottomOhm.set && ch.BottomOhm == 0 {
+			c.fail(k+"bottom_ohm", ErrValue, "0 Ω from the pin to ground would short the pin; leave bottom_ohm out when there is no bottom resistor")
+		}
+		ch.PinF = c.num(k+"pin_f", r.PinF, q{units.Farad, units.NonNegative, "a capacitance in F from the ADC pin to ground, e.g. \"100n\""}, false)
 		ch.SeriesOhm = c.num(k+"series_ohm", r.SeriesOhm, ohmsNN, false)
 		ch.Gain = c.num(k+"gain", r.Gain, plainPos, false)
 		if !r.Gain.set {

@@ -39,6 +39,12 @@ type Derived struct {
 	RechargeMinS    float64 // CapF·(OnV−OffV)/IscA: from release to the next fire, s; needs OnV and OffV
 	DrainAtOnA      float64 // steady drain at OnV besides the load: probe + quiescent + leakage (measured, scaled to OnV), A
 
+	// The light of a [light] table of kind "constant" (a windowsill day needs the
+	// circuit model's sun: run the simulation). NaN without one.
+	LightWm2   float64 // the irradiance, W/m²
+	LightCellA float64 // what the cell gives at on_v in that light, at most (see below), A; needs OnV
+	LightVocV  float64 // the cell's open-circuit voltage in that light, at most (see below), V
+
 	Warnings []string // things in the profile that deserve a second look
 }
 
@@ -60,6 +66,13 @@ type ChannelFigures struct {
 	FullScaleA float64 // load current at the top of the ADC range, (Gain·reference + OffsetV)/(ShuntOhm·AmpGain), A
 	LSBA       float64 // load current per ADC count, A
 	ExpectedA  float64 // highest load current expected: (V − switch drop)/(load + switch on + shunt resistance) at on_v (else rated_v), A; the motor's stall current
+
+	// With a pin capacitor (PinF): the time constant SourceOhm·PinF with which the pin
+	// follows the node, s, and the least pin capacitance that keeps the charge the
+	// converter's sampling capacitor takes from the pin below half a count,
+	// adcSampleF·2^(bits+1), F. PinTauS is 0 without a pin capacitor.
+	PinTauS float64
+	PinMinF float64
 }
 
 // adcSourceOhmMax is the source impedance the ATmega328P-class ADC is designed for
@@ -67,12 +80,24 @@ type ChannelFigures struct {
 // ATmega328P datasheet, ADC section). Above it, a capacitor at the pin is needed.
 const adcSourceOhmMax = 10e3
 
+// adcSampleF is the converter's sample-and-hold capacitance, 14 pF on the ATmega328P
+// (from memory of its datasheet's analog input circuitry figure). A pin capacitor shares
+// its charge with it at every conversion; to move the pin by less than half a count it
+// must be at least adcSampleF·2^(bits+1) (the charge-sharing rule; common practice, no
+// source).
+const adcSampleF = 14e-12
+
+// boltzmannOverQ is k/q, the thermal voltage per kelvin, V/K (CODATA 2018, exact:
+// 1.380649e-23 J/K over 1.602176634e-19 C; testdata/physical_constants_codata2018.csv).
+const boltzmannOverQ = 1.380649e-23 / 1.602176634e-19
+
 // Derive computes the derived figures of p. p must come from Load or Parse.
 func Derive(p *Profile) Derived {
 	nan := math.NaN()
 	d := Derived{
 		StoredAtOnJ: nan, EnergyPerPulseJ: nan, EnergyMinJ: nan, EnergyMaxJ: nan,
 		HoldDrainA: nan, HoldTimeS: nan, FirstChargeMinS: nan, RechargeMinS: nan, DrainAtOnA: nan,
+		LightWm2: nan, LightCellA: nan, LightVocV: nan,
 	}
 	s, t := p.Storage, p.Trigger
 	warn := func(format string, a ...any) { d.Warnings = append(d.Warnings, fmt.Sprintf(format, a...)) }
@@ -156,12 +181,139 @@ func Derive(p *Profile) Derived {
 			warn("channel[%d] (%s): the load may draw up to %s but the current channel's full scale is %s: readings clip, and the amplifier may drive the pin to its own supply (lower shunt_ohm or amp_gain; never let the pin exceed the reference or the supply, or go below 0 V)",
 				i, f.Node, units.Format(f.ExpectedA, units.Ampere), units.Format(f.FullScaleA, units.Ampere))
 		}
-		if f.SourceOhm > adcSourceOhmMax {
-			warn("channel[%d] (%s): the ADC pin sees %s, above the ~10 kΩ the converter is designed for; fit a capacitor (e.g. 100 nF) from the pin to ground",
-				i, f.Node, units.Format(f.SourceOhm, units.Ohm))
+		switch {
+		case f.SourceOhm > adcSourceOhmMax && p.Channels[i].PinF == 0:
+			warn("channel[%d] (%s): the ADC pin sees %s, above the ~10 kΩ the converter is designed for; fit a capacitor of at least %s (e.g. 100 nF) from the pin to ground and declare it with pin_f",
+				i, f.Node, units.Format(f.SourceOhm, units.Ohm), units.Format(f.PinMinF, units.Farad))
+		case p.Channels[i].PinF > 0 && p.Channels[i].PinF < f.PinMinF:
+			warn("channel[%d] (%s): pin_f %s is small against the converter's sampling capacitor (about %s): at least %s keeps the charge it takes below half a count",
+				i, f.Node, units.Format(p.Channels[i].PinF, units.Farad), units.Format(adcSampleF, units.Farad), units.Format(f.PinMinF, units.Farad))
+		}
+		if pulse := pulseS(p, d); f.PinTauS > 0 && pulse > 0 && f.PinTauS > 0.1*pulse {
+			warn("channel[%d] (%s): the pin follows the node with τ = %s (source %s × pin_f %s), not fast against the %s pulse: the reading smooths the fire's drop",
+				i, f.Node, units.Format(f.PinTauS, units.Second), units.Format(f.SourceOhm, units.Ohm), units.Format(p.Channels[i].PinF, units.Farad), units.Format(pulse, units.Second))
 		}
 	}
+	d.light(p, warn)
 	return d
+}
+
+// pulseS is the length of a fire as far as the profile says it (a timer's or plateau's
+// pulse_s, a hold trigger's hold time), or 0.
+func pulseS(p *Profile, d Derived) float64 {
+	switch {
+	case p.Trigger.PulseS > 0:
+		return p.Trigger.PulseS
+	case d.HoldTimeS > 0:
+		return d.HoldTimeS
+	}
+	return 0
+}
+
+// light works out what the cell gives in a constant light, and warns when a voltage
+// trigger can then never fire. It uses the single-diode model of the whole panel without
+// its series resistance (which only lowers the current): the photocurrent scales with
+// the irradiance, Iph = IscA·G/RefWm2, and the cell gives
+//
+//	I(V) = Iph − I0·(exp(V/a) − 1) − V/ShuntOhm,   a = n·Ns·kT/q,
+//
+// with n the ideality (AssumedIdeality when not given), Ns the cells in series, and I0
+// and the photocurrent at RefWm2 solved, as the circuit model solves them, through the
+// rated points (0, IscA) and (VocV, 0) (or from saturation_a). LightCellA is I(on_v) and
+// LightVocV the V of I(V) = 0: without a series resistance they are the circuit model's
+// figures, with one they are upper bounds, so a warning that the circuit never fires is
+// safe to believe.
+func (d *Derived) light(p *Profile, warn func(string, ...any)) {
+	if p.Light == nil || p.Light.Kind != Constant {
+		return
+	}
+	g := p.Light.IrradianceWm2
+	d.LightWm2 = g
+	var atOn float64
+	d.LightVocV, atOn, _ = CellInLight(p, g)
+	if p.Trigger.OnV > 0 {
+		d.LightCellA = atOn
+	}
+	if w := NeverFires(p, *d, g, fmt.Sprintf("at %g W/m² (the [light] table)", g)); w != "" {
+		warn("%s", w)
+	}
+}
+
+// CellInLight returns the cell's open-circuit voltage and its current at the trigger's
+// on_v (NaN without one) at irradiance g, W/m², and its photocurrent there, as the light
+// figures of Derive (see Derived.light for the model): without a series resistance the
+// circuit model's own figures, with one upper bounds.
+func CellInLight(p *Profile, g float64) (vocV, atOnA, photoA float64) {
+	c := p.Cell
+	n := c.Ideality
+	if n == 0 {
+		n = AssumedIdeality
+	}
+	a := n * float64(c.SeriesCells) * boltzmannOverQ * c.TempK
+	// I0 and the photocurrent at RefWm2 through the rated points (0, Isc) and (Voc, 0)
+	// of the full model, series resistance Rs included (as the circuit model does).
+	gsh := 0.0
+	if c.ShuntOhm > 0 {
+		gsh = 1 / c.ShuntOhm
+	}
+	e1 := math.Expm1(c.IscA * c.SeriesOhm / a)
+	i0, iphRef := c.SaturationA, 0.0
+	if i0 > 0 {
+		iphRef = c.IscA*(1+c.SeriesOhm*gsh) + i0*e1
+	} else {
+		e2 := math.Expm1(c.VocV / a)
+		i0 = (c.IscA*(1+c.SeriesOhm*gsh) - c.VocV*gsh) / (e2 - e1)
+		iphRef = c.VocV*gsh + i0*e2
+	}
+	iph := iphRef * math.Max(g, 0) / c.RefWm2
+	cur := func(v float64) float64 {
+		i := iph - i0*math.Expm1(v/a) - v*gsh
+		if math.IsNaN(i) {
+			return math.Inf(-1)
+		}
+		return i
+	}
+	// I(V) falls with V: bisect for I = 0 between 0 and the voltage without a shunt.
+	lo, hi := 0.0, a*math.Log1p(iph/i0)
+	for k := 0; k < 100 && hi-lo > 1e-9; k++ {
+		if mid := (lo + hi) / 2; cur(mid) > 0 {
+			lo = mid
+		} else {
+			hi = mid
+		}
+	}
+	atOnA = math.NaN()
+	if p.Trigger.OnV > 0 {
+		atOnA = math.Max(0, cur(p.Trigger.OnV))
+	}
+	return lo, atOnA, iph
+}
+
+// NeverFires returns why a voltage trigger can never fire at irradiance g (W/m²), the
+// light described by where ("at 4 W/m² (the [light] table)"): the cell gives no more at
+// on_v than the drains there take (d.DrainAtOnA), or its open-circuit voltage is not
+// above on_v. It returns "" when it may fire, for other triggers, and without on_v.
+func NeverFires(p *Profile, d Derived, g float64, where string) string {
+	t, c := p.Trigger, p.Cell
+	if t.Kind != Voltage || t.OnV <= 0 || math.IsNaN(d.DrainAtOnA) {
+		return ""
+	}
+	voc, atOn, iph := CellInLight(p, g)
+	F := units.Format
+	switch {
+	case atOn <= d.DrainAtOnA:
+		how := fmt.Sprintf(" (of %s of photocurrent", F(iph, units.Ampere))
+		if c.ShuntOhm > 0 {
+			how += fmt.Sprintf("; its shunt resistance alone takes %s", F(t.OnV/c.ShuntOhm, units.Ampere))
+		}
+		how += ")"
+		return fmt.Sprintf("%s this never fires: the cell gives at most %s at on_v %s%s, the drains at on_v take %s (probe, quiescent current, leakage)",
+			where, F(atOn, units.Ampere), F(t.OnV, units.Volt), how, F(d.DrainAtOnA, units.Ampere))
+	case voc <= t.OnV:
+		return fmt.Sprintf("%s this never fires: the cell's open-circuit voltage falls to about %s, not above on_v %s",
+			where, F(voc, units.Volt), F(t.OnV, units.Volt))
+	}
+	return ""
 }
 
 func channelFigures(p *Profile, ch Channel) ChannelFigures {
@@ -188,6 +340,8 @@ func channelFigures(p *Profile, ch Channel) ChannelFigures {
 		f.ExpectedA = peakLoadA(p, ch.ShuntOhm)
 	}
 	f.LoadA = f.ExpectedV / f.LoadOhm
+	f.PinMinF = adcSampleF * math.Ldexp(1, p.ADC.Bits+1)
+	f.PinTauS = f.SourceOhm * ch.PinF
 	return f
 }
 

@@ -50,6 +50,17 @@
 // Parse stops at the first problem. errors.Is tells the kind: [ErrSyntax], [ErrUnknownKey],
 // [ErrMissing], [ErrType], [ErrValue].
 //
+// Parse is the one validation every command uses (profile check, analyze, record,
+// report, simulate, whatif, robot, demo), so what "profile check" passes every command
+// accepts. Besides the rules above it refuses values outside a plausible range (the table
+// in plausible.go, each range with its source or marked "common practice, no source"):
+// a capacitance of 1e308 F, a hold capacitor of 1e-300 F, a reference of 500 V, a divider
+// resistor of 1 mΩ (typed "1M": a bare M is milli, "1meg" is mega; the message says so),
+// an explicit bottom_ohm = 0, an ADC input the board does not have (it records ADC0..ADC3,
+// MaxADCInputs, with vcap on ADC0), and a cell or trigger the circuit model could not
+// build (a panel voltage on one cell, resistances that leave no diode, a hysteresis past
+// the assumed hold diode drop).
+//
 // # Derived figures
 //
 // [Derive] computes what follows from the profile: each channel's divider ratio, full
@@ -58,5 +69,9 @@
 // the energy per pulse ½·C·(Von²−Voff²) with its tolerance range, the datasheet leakage
 // limit of an aluminium electrolytic (I = 0.01·C·V or 3 µA, whichever is greater, with C
 // in µF and V the rated voltage, after 2 minutes at 20 °C), the hold time of a hold-
-// capacitor trigger, and lower bounds on the charging times.
+// capacitor trigger, and lower bounds on the charging times. With a constant [light] it
+// gives the cell's open-circuit voltage and its current at on_v in that light (the
+// single-diode model through the rated points) and warns when the drains at on_v take all
+// of it, so that the circuit never fires; a divider above 10 kΩ without a pin capacitor
+// (pin_f) is a warning too.
 package profile

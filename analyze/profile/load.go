@@ -243,6 +243,7 @@ func (c *conv) num(key string, r rawValue, k q, req bool) float64 {
 			}
 			return 0
 		}
+		c.plausible(key, r, v, k)
 		return v
 	default:
 		c.fail(key, ErrType, "%s is not a number; want %s", tomlType(r.v), k.what)
@@ -254,7 +255,34 @@ func (c *conv) num(key string, r rawValue, k q, req bool) float64 {
 	case k.dom == units.NonNegative && v < 0:
 		c.fail(key, ErrValue, "%v: must not be negative; want %s", v, k.what)
 	}
+	c.plausible(key, r, v, k)
 	return v
+}
+
+// plausible refuses a value outside the key's plausible range (see plausible.go); a 0
+// of a key whose 0 means "none" or "not given" passes.
+func (c *conv) plausible(key string, r rawValue, v float64, k q) {
+	rg, ok := rangeFor(key)
+	switch {
+	case !ok || c.err != nil:
+		return
+	case v == 0 && k.dom != units.Positive:
+		return // 0 is "none" or "not given"; the key's own rule says whether that is allowed
+	case v >= rg.lo && v <= rg.hi:
+		return
+	}
+	what := "below"
+	if v > rg.hi {
+		what = "above"
+	}
+	msg := fmt.Sprintf("%s is %s the plausible range %s to %s", fv(v, k.unit), what, fv(rg.lo, k.unit), fv(rg.hi, k.unit))
+	if rg.why != "" {
+		msg += " (" + rg.why + ")"
+	}
+	if v < rg.lo {
+		msg += milliHint(r.v)
+	}
+	c.fail(key, ErrValue, "%s; want %s", msg, k.what)
 }
 
 // text converts r to a string, which must be one of allowed when any are given.

@@ -165,14 +165,18 @@ const (
 // and the current is I_load = (GainV * adc_v + OffsetV) / VoltsPerAmp().
 type Channel struct {
 	Node      Node    // required; each node at most once
-	ADC       int     // ADC input number, 0..15; required; each at most once
+	ADC       int     // ADC input number, 0..MaxADCInputs-1 (the vcap channel on 0); required; each at most once
 	TopOhm    float64 // divider resistor from the node to the ADC pin, Ω; 0 = direct; not for iload
-	BottomOhm float64 // divider resistor from the ADC pin to ground, Ω; 0 = none; not for iload
+	BottomOhm float64 // divider resistor from the ADC pin to ground, Ω; 0 = none (leave the key out: an explicit 0 is refused); not for iload
 	SeriesOhm float64 // extra series resistor into the pin (protection), Ω; 0 = none
 	Gain      float64 // calibration gain (dimensionless); default 1
 	OffsetV   float64 // calibration offset at the node (iload: at the pin), V; default 0
 	ShuntOhm  float64 // iload only: the current-sense shunt, Ω; required there, > 0
 	AmpGain   float64 // iload only: the shunt amplifier's voltage gain (dimensionless); default 1 (no amplifier)
+	// PinF is a capacitor from the ADC pin to ground, F; 0 = none. It lets a divider of
+	// high resistance feed the converter's sampling capacitor (see Derive), and slows
+	// the pin: it follows the node with the time constant SourceOhm·PinF.
+	PinF float64
 }
 
 // IsCurrent reports whether the channel reads the load current (NodeIload) rather than a

@@ -122,7 +122,7 @@ func TestDeriveWren(t *testing.T) {
 	var probeWarn, pinWarn bool
 	for _, w := range d.Warnings {
 		probeWarn = probeWarn || strings.Contains(w, "probe draws")
-		pinWarn = pinWarn || strings.Contains(w, "capacitor (e.g. 100 nF)")
+		pinWarn = pinWarn || strings.Contains(w, "(e.g. 100 nF) from the pin to ground and declare it with pin_f")
 	}
 	if !probeWarn || !pinWarn {
 		t.Errorf("warnings %q: want the probe-load and the pin-impedance warnings", d.Warnings)
@@ -223,6 +223,26 @@ var badProfiles = []struct {
 	{"two iload channels", "", "\n[[channel]]\nnode = \"iload\"\nadc = 2\nshunt_ohm = 1\n[[channel]]\n§node = \"iload\"\nadc = 3\nshunt_ohm = 1",
 		"channel[3].node", ErrValue, "already read by channel[2]"},
 	{"branch on an electrolytic", `leak_v = 2.7`, "leak_v = 2.7\n§branch_ohm = 100\nbranch_f = 1", "storage.branch_ohm", ErrValue, "supercapacitor"},
+	// Values no command could compute with: refused by Parse, so that "profile check"
+	// passes only what every command accepts.
+	{"capacitance of 1e308 F", `cap_f = "4700u"`, `§cap_f = 1e308`, "storage.cap_f", ErrValue, "above the plausible range 1.00 nF to 5.00 kF"},
+	{"hold capacitance of 1e-300 F", `hold_f = "2.2u"`, `§hold_f = 1e-300`, "trigger.hold_f", ErrValue, "below the plausible range 10.0 pF to 1.00 F"},
+	{"ADC input 9", `adc = 1`, `§adc = 9`, "channel[1].adc", ErrValue, "from 0 to 3"},
+	{"vcap not on ADC0", "adc = 0\ntop_ohm", "§adc = 2\ntop_ohm", "channel[0].adc", ErrValue, "recorder writes ADC0 as vcap_v"},
+	{"bottom resistor of zero", "adc = 1\ntop_ohm = \"1meg\"\nbottom_ohm = \"1meg\"", "adc = 1\ntop_ohm = \"1meg\"\n§bottom_ohm = 0",
+		"channel[1].bottom_ohm", ErrValue, "would short the pin"},
+	{"reference of 500 V", `reference_v = 5.0`, `§reference_v = 500`, "adc.reference_v", ErrValue, "above the plausible range 500 mV to 6.00 V"},
+	{"internal reference at 5 V", "reference = \"avcc\"\nreference_v = 5.0", "reference = \"internal\"\n§reference_v = 5.0", "adc.reference_v", ErrValue, "band-gap"},
+	{"top resistor of 1 milliohm", "adc = 0\ntop_ohm = \"1meg\"", "adc = 0\n§top_ohm = \"1M\"", "channel[0].top_ohm", ErrValue, `write "1meg" for mega`},
+	{"series resistor of 10 milliohm", "adc = 0\ntop_ohm = \"1meg\"", "adc = 0\n§series_ohm = \"10m\"\ntop_ohm = \"1meg\"", "channel[0].series_ohm", ErrValue, "below the plausible range"},
+	{"pin capacitor of 1 F", "adc = 0\ntop_ohm = \"1meg\"", "adc = 0\n§pin_f = 1\ntop_ohm = \"1meg\"", "channel[0].pin_f", ErrValue, "above the plausible range"},
+	{"3.2 V per cell", "voc_v = 4.2", "§voc_v = 16", "cell.voc_v", ErrValue, "give series_cells"},
+	{"cell shunt below Voc/Isc", `series_cells = 5`, "series_cells = 5\n§shunt_ohm = 100", "cell.shunt_ohm", ErrValue, "voc_v/isc_a = 233 Ω"},
+	{"cell series resistance above Voc/Isc", `series_cells = 5`, "series_cells = 5\n§series_ohm = 500", "cell.series_ohm", ErrValue, "below voc_v/isc_a"},
+	{"hysteresis past the assumed diode drop", "hysteresis_v = 0.05      # supervisor's own hysteresis\ndiode_v = 0.2", "§hysteresis_v = 2.45\n# no diode_v", "trigger.hysteresis_v", ErrValue, "300 mV assumed"},
+	{"light of 5000 W/m²", "kind = \"windowsill\"\ndate = 2026-06-21\nlatitude_deg = 48.1\nwindow_azimuth_deg = 180 # the window faces south\nwindow_tilt_deg = 90\ndiffuse_fraction = 0.25\ncloud_seed = 3",
+		"kind = \"constant\"\n§irradiance_w_m2 = 5000", "light.irradiance_w_m2", ErrValue, "above the plausible range"},
+	{"supply temperature in Celsius", `series_cells = 5`, "series_cells = 5\n§temp_k = 25", "cell.temp_k", ErrValue, "below the plausible range"},
 }
 
 func TestBadProfiles(t *testing.T) {

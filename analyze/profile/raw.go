@@ -103,6 +103,7 @@ type rawChannel struct {
 	OffsetV   rawValue `toml:"offset_v"`
 	ShuntOhm  rawValue `toml:"shunt_ohm"`
 	AmpGain   rawValue `toml:"amp_gain"`
+	PinF      rawValue `toml:"pin_f"`
 }
 
 type rawCalibration struct {

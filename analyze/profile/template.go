@@ -103,7 +103,7 @@ series_cells = 5            # cells in series (default 1)
 
 [adc]
 reference = "avcc"          # "avcc" (the board supply) or "internal" (band-gap) (required)
-reference_v = 5.0           # reference voltage, V: measure it (required)
+reference_v = 5.0           # reference voltage, V: measure it (required; 0.5 V to 6 V)
 bits = 10                   # converter resolution (default 10)
 
 # One [[channel]] per ADC input. node: "vcap" (storage capacitor, required once),
@@ -113,10 +113,14 @@ bits = 10                   # converter resolution (default 10)
 # voltage the node can reach.
 [[channel]]
 node = "vcap"
-adc = 0                     # ADC input number, 0..15 (required)
-top_ohm = "1meg"            # node to pin, Ω (0 = direct)
-bottom_ohm = "1meg"         # pin to ground, Ω (0 = none); the divider is a load on the node
+adc = 0                     # ADC input number, 0..3 (required; vcap is on 0, as the recorder writes it)
+top_ohm = "1meg"            # node to pin, Ω (0 = direct); 1 Ω to 1 GΩ ("1meg", not "1M": M is milli)
+bottom_ohm = "1meg"         # pin to ground, Ω (leave it out for none); the divider is a load on the node
 # series_ohm = "10k"        # extra series resistor into the pin, Ω
+# pin_f = "100n"           # capacitor from the pin to ground, F (0 = none): with a divider above
+                            #   ~10 kΩ, fit one of at least 14 pF · 2^(bits+1) (29 nF at 10 bits)
+                            #   so the converter's sampling takes no visible charge; it slows the
+                            #   pin to τ = (top ∥ bottom + series) · pin_f
 # gain = 1.0                # calibration gain (default 1)
 # offset_v = 0.0            # calibration offset at the node, V (default 0)
 
@@ -151,5 +155,6 @@ window_azimuth_deg = 180    # where the window faces, degrees clockwise from nor
 window_tilt_deg = 90        # 90 = upright window (default 90)
 diffuse_fraction = 0.25     # share of the light that is diffuse, 0..1 (default 0.2)
 cloud_seed = 3              # passing clouds; 0 = a clear day
-# For a steady light instead:  kind = "constant"  and  irradiance_w_m2 = 300
+# For a steady light instead:  kind = "constant"  and  irradiance_w_m2 = 300 (W/m², 0 to 1500);
+# "profile check" then says what the cell gives at on_v in it, and whether it can ever fire.
 `

@@ -2,6 +2,7 @@ package report
 
 import (
 	"bytes"
+	"capcycle/analyze/analysis"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -10,8 +11,6 @@ import (
 	"path/filepath"
 
 	"github.com/gocarina/gocsv"
-
-	"capcycle/analyze"
 )
 
 // Bundle names the files WriteBundle wrote.
@@ -53,7 +52,7 @@ func (e *PathError) Unwrap() error { return e.Err }
 // written to a temporary name and renamed into place, so a failure leaves no half file.
 // It never writes over r.Source.Path, and it replaces existing files only when
 // opts.Overwrite is set; it checks all three names before it writes any.
-func WriteBundle(dir, base string, r *analyze.Result, opts *Options) (Bundle, error) {
+func WriteBundle(dir, base string, r *analysis.Result, opts *Options) (Bundle, error) {
 	if r == nil {
 		return Bundle{}, ErrNoResult
 	}
@@ -159,7 +158,7 @@ type CycleRow struct {
 
 // CycleRows turns the Result's cycles into CSV rows, with the predicted charge times
 // when the analysis has them.
-func CycleRows(r *analyze.Result) []CycleRow {
+func CycleRows(r *analysis.Result) []CycleRow {
 	nom := map[int]*float64{}
 	fit := map[int]*float64{}
 	if r.Prediction != nil {
@@ -175,14 +174,14 @@ func CycleRows(r *analyze.Result) []CycleRow {
 	rows := make([]CycleRow, len(r.Cycles))
 	for i, c := range r.Cycles {
 		rows[i] = CycleRow{Index: c.Index, FireS: c.FireS, FireV: c.FireV, ResetS: c.ResetS, ResetV: c.ResetV,
-			ChargeS: c.ChargeS, PulseS: c.PulseS, EnergyJ: c.EnergyJ, Kind: c.Kind, LightA: c.LightA,
+			ChargeS: c.ChargeS, PulseS: c.PulseS, EnergyJ: c.EnergyJ, Kind: string(c.Kind), LightA: c.LightA,
 			NominalChargeS: nom[c.Index], FittedChargeS: fit[c.Index]}
 	}
 	return rows
 }
 
 // WriteCycles writes the cycle CSV (a header row, then one row per cycle) to w.
-func WriteCycles(w io.Writer, r *analyze.Result) error {
+func WriteCycles(w io.Writer, r *analysis.Result) error {
 	rows := CycleRows(r)
 	if len(rows) == 0 {
 		// gocsv writes nothing for an empty slice; keep the header so the file says what it is.

@@ -2,6 +2,7 @@ package report
 
 import (
 	"bytes"
+	"capcycle/analyze/analysis"
 	"encoding/csv"
 	"encoding/json"
 	"errors"
@@ -10,8 +11,6 @@ import (
 	"testing"
 
 	"github.com/gocarina/gocsv"
-
-	"capcycle/analyze"
 )
 
 func TestWriteBundleRoundTrips(t *testing.T) {
@@ -29,7 +28,7 @@ func TestWriteBundleRoundTrips(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	var back analyze.Result
+	var back analysis.Result
 	if err := json.Unmarshal(raw, &back); err != nil {
 		t.Fatal(err)
 	}

@@ -1,6 +1,8 @@
 package report
 
 import (
+	"capcycle/analyze/analysis"
+	"capcycle/analyze/stats"
 	"fmt"
 	"html/template"
 	"io"
@@ -9,8 +11,6 @@ import (
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
-
-	"capcycle/analyze"
 )
 
 // Compare writes one HTML page that sets two analysed captures side by side, typically
@@ -18,7 +18,7 @@ import (
 // their differences, the cycles of both overlaid at the fire, and the period and energy
 // per pulse. Options.LabelA and LabelB name the captures ("before", "after" by default).
 // Like Write, it is built from the two Results alone; opts may be nil.
-func Compare(w io.Writer, a, b *analyze.Result, opts *Options) error {
+func Compare(w io.Writer, a, b *analysis.Result, opts *Options) error {
 	if a == nil || b == nil {
 		return ErrNoResult
 	}
@@ -28,7 +28,7 @@ func Compare(w io.Writer, a, b *analyze.Result, opts *Options) error {
 	return render(w, comparePage(a, b, opts))
 }
 
-func comparePage(a, b *analyze.Result, o *Options) *page {
+func comparePage(a, b *analysis.Result, o *Options) *page {
 	la, lb := o.labels()
 	p := &page{Title: o.Title, CSS: template.CSS(pageCSS)}
 	if p.Title == "" {
@@ -69,7 +69,7 @@ func comparePage(a, b *analyze.Result, o *Options) *page {
 }
 
 // compareParams lists the found values of both captures with the change between them.
-func compareParams(a, b *analyze.Result, la, lb string) *table {
+func compareParams(a, b *analysis.Result, la, lb string) *table {
 	t := &table{Class: "params", Head: []string{"quantity", la, lb, "change", "judgement"}}
 	ra, rb := paramRows(a), paramRows(b)
 	for i := range ra {
@@ -106,7 +106,7 @@ func compareParams(a, b *analyze.Result, la, lb string) *table {
 	return t
 }
 
-func estCell(e *analyze.Estimate, unit string) cell {
+func estCell(e *analysis.Estimate, unit string) cell {
 	if e == nil {
 		return cell{Text: "not determined", Class: "num muted"}
 	}
@@ -120,10 +120,10 @@ type cycleStats struct {
 	recordedH, energySum               float64
 }
 
-func statsOf(r *analyze.Result) cycleStats {
+func statsOf(r *analysis.Result) cycleStats {
 	var s cycleStats
 	for _, c := range r.Cycles {
-		if c.Kind == "chatter" {
+		if c.Kind == analysis.CycleChatter {
 			continue
 		}
 		s.n++
@@ -142,25 +142,20 @@ func statsOf(r *analyze.Result) cycleStats {
 	return s
 }
 
+// meanSD is the mean and sample SD of v (SD 0 for one value); ok is false for none.
 func meanSD(v []float64) (m, sd float64, ok bool) {
 	if len(v) == 0 {
 		return 0, 0, false
 	}
-	for _, x := range v {
-		m += x
-	}
-	m /= float64(len(v))
-	if len(v) > 1 {
-		for _, x := range v {
-			sd += (x - m) * (x - m)
-		}
-		sd = math.Sqrt(sd / float64(len(v)-1))
+	m, sd = stats.MeanSD(v)
+	if len(v) < 2 {
+		sd = 0
 	}
 	return m, sd, true
 }
 
 // compareCycles is the table of period, pulse and energy figures for both captures.
-func compareCycles(a, b *analyze.Result, la, lb string) *table {
+func compareCycles(a, b *analysis.Result, la, lb string) *table {
 	sa, sb := statsOf(a), statsOf(b)
 	t := &table{Class: "compare", Head: []string{"figure", la, lb, "change"}}
 	type fig struct {
@@ -192,7 +187,7 @@ func compareCycles(a, b *analyze.Result, la, lb string) *table {
 		case unit == "":
 			return cell{Text: fmt.Sprint(int(v)), Class: "num"}
 		case sd > 0:
-			return cell{Text: estimate(&analyze.Estimate{Value: v, SD: &sd}, unit), Class: "num"}
+			return cell{Text: estimate(&analysis.Estimate{Value: v, SD: &sd}, unit), Class: "num"}
 		}
 		return cell{Text: quantity(v, unit), Class: "num"}
 	}
@@ -215,12 +210,12 @@ func compareCycles(a, b *analyze.Result, la, lb string) *table {
 
 // energyFigure plots each full cycle's energy per pulse against its charge time, for
 // both captures (circles and triangles).
-func energyFigure(a, b *analyze.Result, la, lb string) (figure, string) {
+func energyFigure(a, b *analysis.Result, la, lb string) (figure, string) {
 	type pts struct{ x, y []float64 }
-	get := func(r *analyze.Result) pts {
+	get := func(r *analysis.Result) pts {
 		var p pts
 		for _, c := range r.Cycles {
-			if c.Kind != "chatter" && c.ChargeS != nil && c.EnergyJ != nil {
+			if c.Kind != analysis.CycleChatter && c.ChargeS != nil && c.EnergyJ != nil {
 				p.x = append(p.x, *c.ChargeS)
 				p.y = append(p.y, *c.EnergyJ)
 			}

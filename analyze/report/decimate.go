@@ -1,10 +1,9 @@
 package report
 
 import (
+	"capcycle/analyze/analysis"
 	"math"
 	"sort"
-
-	"capcycle/analyze"
 )
 
 // MinMax decimates the series (x, y) to at most n points while keeping its extremes:
@@ -60,9 +59,9 @@ func MinMax(x, y []float64, n int) (dx, dy []float64) {
 // covers, at the mean of their times. It never merges across a break: a step between
 // bins longer than three times the median step (a gap in the capture) starts a new run.
 // Bins with non-finite numbers are dropped.
-func MergeEnvelope(env []analyze.EnvelopePt, n int) []analyze.EnvelopePt {
+func MergeEnvelope(env []analysis.EnvelopePt, n int) []analysis.EnvelopePt {
 	n = max(n, 1)
-	var in []analyze.EnvelopePt
+	var in []analysis.EnvelopePt
 	for _, e := range env {
 		if finite(e.TS) && finite(e.MinV) && finite(e.MaxV) {
 			in = append(in, e)
@@ -73,7 +72,7 @@ func MergeEnvelope(env []analyze.EnvelopePt, n int) []analyze.EnvelopePt {
 	}
 	k := (len(in) + n - 1) / n // bins per output bin
 	brk := breakStep(in)
-	out := make([]analyze.EnvelopePt, 0, n+len(in)/k)
+	out := make([]analysis.EnvelopePt, 0, n+len(in)/k)
 	for i := 0; i < len(in); {
 		j := i + 1
 		acc := in[i]
@@ -92,7 +91,7 @@ func MergeEnvelope(env []analyze.EnvelopePt, n int) []analyze.EnvelopePt {
 
 // breakStep is the time step between envelope bins above which the bins are not
 // neighbours: three times the median step (+Inf for fewer than three bins).
-func breakStep(env []analyze.EnvelopePt) float64 {
+func breakStep(env []analysis.EnvelopePt) float64 {
 	if len(env) < 3 {
 		return math.Inf(1)
 	}

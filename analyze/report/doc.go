@@ -1,4 +1,4 @@
-// Package report turns an analysis (analyze.Result) into one HTML page that a builder
+// Package report turns an analysis (analysis.Result) into one HTML page that a builder
 // can read on screen, offline, or on paper, and writes the files that go beside it.
 //
 // # Built from the analysis alone

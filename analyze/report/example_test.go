@@ -3,7 +3,7 @@ package report_test
 import (
 	"fmt"
 
-	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/report"
 )
 
@@ -20,12 +20,12 @@ func ExampleMinMax() {
 func ExampleVerdict() {
 	on, off := 2.7132, 1.5207
 	charge := 41.0
-	r := &analyze.Result{Samples: 36000, DurationS: 3600,
-		Cycles: []analyze.Cycle{{Index: 0, Kind: "full"}, {Index: 1, Kind: "full", ChargeS: &charge}},
-		Fit: analyze.Fit{Trigger: analyze.TriggerFit{
-			OnV:     &analyze.Estimate{Value: on},
-			OffV:    &analyze.Estimate{Value: off},
-			PeriodS: &analyze.Estimate{Value: 41.3},
+	r := &analysis.Result{Samples: 36000, DurationS: 3600,
+		Cycles: []analysis.Cycle{{Index: 0, Kind: "full"}, {Index: 1, Kind: "full", ChargeS: &charge}},
+		Fit: analysis.Fit{Trigger: analysis.TriggerFit{
+			OnV:     &analysis.Estimate{Value: on},
+			OffV:    &analysis.Estimate{Value: off},
+			PeriodS: &analysis.Estimate{Value: 41.3},
 		}}}
 	v := report.Verdict(r)
 	fmt.Println(v)

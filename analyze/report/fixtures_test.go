@@ -6,16 +6,15 @@ package report
 // the real thing, nothing more.
 
 import (
+	"capcycle/analyze/analysis"
 	"math"
 	"math/rand/v2"
-
-	"capcycle/analyze"
 )
 
 func f64(v float64) *float64 { return &v }
 
-func est(v, sd float64, origin string) *analyze.Estimate {
-	e := &analyze.Estimate{Value: v, Origin: origin}
+func est(v, sd float64, origin analysis.Origin) *analysis.Estimate {
+	e := &analysis.Estimate{Value: v, Origin: origin}
 	if sd > 0 {
 		e.SD = f64(sd)
 		e.Lo95, e.Hi95 = f64(v-1.96*sd), f64(v+1.96*sd)
@@ -49,16 +48,16 @@ func windowsill(tS float64) float64 {
 
 // simDay steps the circuit for durS seconds and fills a Result the way the analysis
 // would: envelope, cycles, traces, segments, light.
-func simDay(c simCircuit, durS float64, gap [2]float64, seed uint64) *analyze.Result {
+func simDay(c simCircuit, durS float64, gap [2]float64, seed uint64) *analysis.Result {
 	rng := rand.New(rand.NewPCG(seed, 7))
-	r := &analyze.Result{Schema: analyze.Schema, DurationS: durS}
+	r := &analysis.Result{Schema: analysis.Schema, DurationS: durS}
 	const binS = 30.0
 	v, on := 0.4, false
 	var lastReset float64 = -1
 	var fireT, fireV float64
 	binMin, binMax, binT0 := math.Inf(1), math.Inf(-1), 0.0
 	var samples int
-	var trace *analyze.Trace
+	var trace *analysis.Trace
 	var traceFire float64
 	traceWant := map[int]bool{}
 	for i := 3; i < 400; i += 31 {
@@ -87,7 +86,7 @@ func simDay(c simCircuit, durS float64, gap [2]float64, seed uint64) *analyze.Re
 			on, fireT, fireV = true, t, v
 		} else if on && v <= c.offV {
 			on = false
-			cy := analyze.Cycle{Index: len(r.Cycles), FireS: fireT, FireV: fireV, ResetS: t, ResetV: v,
+			cy := analysis.Cycle{Index: len(r.Cycles), FireS: fireT, FireV: fireV, ResetS: t, ResetV: v,
 				PulseS: t - fireT, Kind: "full", EnergyJ: f64(0.5 * c.capF * (fireV*fireV - v*v))}
 			if lastReset >= 0 {
 				cy.ChargeS = f64(fireT - lastReset)
@@ -102,7 +101,7 @@ func simDay(c simCircuit, durS float64, gap [2]float64, seed uint64) *analyze.Re
 		samples++
 		binMin, binMax = math.Min(binMin, noisy), math.Max(binMax, noisy)
 		if t-binT0 >= binS {
-			r.Envelope = append(r.Envelope, analyze.EnvelopePt{TS: binT0 + binS/2, MinV: binMin, MaxV: binMax})
+			r.Envelope = append(r.Envelope, analysis.EnvelopePt{TS: binT0 + binS/2, MinV: binMin, MaxV: binMax})
 			binMin, binMax, binT0 = math.Inf(1), math.Inf(-1), t
 		}
 		// Traces: keep a rolling minute of points; start a trace at a wanted fire.
@@ -113,7 +112,7 @@ func simDay(c simCircuit, durS float64, gap [2]float64, seed uint64) *analyze.Re
 			}
 		}
 		if trace == nil && on && t == fireT && traceWant[len(r.Cycles)] {
-			trace = &analyze.Trace{Label: "cycle"}
+			trace = &analysis.Trace{Label: "cycle"}
 			traceFire = fireT
 			for k := 0; k+1 < len(pending); k += 2 {
 				if lastReset >= 0 && pending[k] >= lastReset {
@@ -132,25 +131,25 @@ func simDay(c simCircuit, durS float64, gap [2]float64, seed uint64) *analyze.Re
 	}
 	r.Samples = samples
 	if gap[1] > gap[0] {
-		r.Segments = append(r.Segments, analyze.Segment{Kind: "gap", StartS: gap[0], EndS: gap[1]})
+		r.Segments = append(r.Segments, analysis.Segment{Kind: "gap", StartS: gap[0], EndS: gap[1]})
 		r.Source.GapsS = gap[1] - gap[0]
 	}
 	for h := 0.25; h*3600 < durS; h += 0.25 {
-		r.Light = append(r.Light, analyze.LightPt{TS: h * 3600, Level: c.light(h * 3600)})
+		r.Light = append(r.Light, analysis.LightPt{TS: h * 3600, Level: c.light(h * 3600)})
 	}
 	return r
 }
 
 // segmentsFromCycles fills charging and firing segments between the cycles.
-func segmentsFromCycles(r *analyze.Result) {
+func segmentsFromCycles(r *analysis.Result) {
 	prev := 0.0
 	for _, c := range r.Cycles {
 		if c.FireS-prev > 200*3600 { // never in the fixtures
 			continue
 		}
 		r.Segments = append(r.Segments,
-			analyze.Segment{Kind: "charging", StartS: prev, EndS: c.FireS, StartV: c.ResetV, EndV: c.FireV},
-			analyze.Segment{Kind: "firing", StartS: c.FireS, EndS: c.ResetS, StartV: c.FireV, EndV: c.ResetV})
+			analysis.Segment{Kind: "charging", StartS: prev, EndS: c.FireS, StartV: c.ResetV, EndV: c.FireV},
+			analysis.Segment{Kind: "firing", StartS: c.FireS, EndS: c.ResetS, StartV: c.FireV, EndV: c.ResetV})
 		prev = c.ResetS
 	}
 }
@@ -173,17 +172,17 @@ var wrenCircuit = simCircuit{capF: 0.033, onV: 2.71, offV: 1.52, loadOhm: 18, le
 	iscA: 2.2e-3, vocV: 5.1, nVt: 0.33, light: windowsill}
 
 // wrenResult is the invented analysis of a day of "Wren", the rover on the sunny sill.
-func wrenResult() *analyze.Result {
+func wrenResult() *analysis.Result {
 	c := wrenCircuit
 	r := simDay(c, 24*3600, [2]float64{15.2 * 3600, 15.7 * 3600}, 1)
-	r.Source = analyze.Source{Path: "captures/wren-sill.csv", Profile: "wren.toml", StartRFC: "2026-06-21T00:00:00+01:00",
+	r.Source = analysis.Source{Path: "captures/wren-sill.csv", Profile: "wren.toml", StartRFC: "2026-06-21T00:00:00+01:00",
 		GapsS: r.Source.GapsS, Lost: 212, Meta: map[string]string{"board": "test fixture"}}
 	segmentsFromCycles(r)
-	r.Segments = append(r.Segments, analyze.Segment{Kind: "dark-decay", StartS: 20.5 * 3600, EndS: 24 * 3600, StartV: 2.3, EndV: 1.9})
-	r.Noise = &analyze.Noise{RMSV: 0.0031, StepV: 0.00488}
-	r.Capacitance = &analyze.Capacity{F: analyze.Estimate{Value: 0.0298, SD: f64(0.0006), Origin: "measured"}, Tol: "M"}
-	r.Declared = &analyze.Declared{CapF: f64(0.033), CapTol: "M", OnV: f64(2.70), OffV: f64(1.55), LoadOhm: f64(15),
-		ProbeOhm: f64(1.0e6), QuiescentA: f64(1e-6), VocV: f64(5.0), IscA: f64(5e-3)}
+	r.Segments = append(r.Segments, analysis.Segment{Kind: "dark-decay", StartS: 20.5 * 3600, EndS: 24 * 3600, StartV: 2.3, EndV: 1.9})
+	r.Noise = &analysis.Noise{RMSV: 0.0031, StepV: 0.00488}
+	r.Capacitance = &analysis.Capacity{F: analysis.Estimate{Value: 0.0298, SD: f64(0.0006), Origin: "measured"}, Tol: "M"}
+	r.Declared = &analysis.Declared{CapF: 0.033, CapTol: "M", OnV: 2.70, OffV: 1.55, LoadOhm: 15,
+		ProbeOhm: 1.0e6, QuiescentA: 1e-6, VocV: 5.0, IscA: 5e-3}
 	var charge, pulse []float64
 	for _, cy := range r.Cycles {
 		if cy.ChargeS != nil && *cy.ChargeS < 600 {
@@ -191,22 +190,22 @@ func wrenResult() *analyze.Result {
 		}
 		pulse = append(pulse, cy.PulseS)
 	}
-	r.Fit = analyze.Fit{
-		Trigger: analyze.TriggerFit{Kind: "voltage", OnV: est(2.7132, 0.0041, "fitted"), OffV: est(1.5207, 0.0063, "fitted"),
+	r.Fit = analysis.Fit{
+		Trigger: analysis.TriggerFit{Kind: "voltage", OnV: est(2.7132, 0.0041, "fitted"), OffV: est(1.5207, 0.0063, "fitted"),
 			OnDriftVPerH: est(0.0021, 0.0009, "fitted"), PeriodS: est(mean(charge)+mean(pulse), 3.1, "fitted"),
 			PulseS: est(mean(pulse), 0.004, "fitted")},
-		Load: analyze.LoadFit{TauS: est(0.541, 0.012, "fitted"), Ohm: est(18.2, 0.6, "fitted"), Resistive: new(bool),
+		Load: analysis.LoadFit{TauS: est(0.541, 0.012, "fitted"), Ohm: est(18.2, 0.6, "fitted"), Resistive: new(bool),
 			StartOhm: est(9.4, 0.5, "fitted"), EndOhm: est(24.8, 0.9, "fitted"), RMSResidV: f64(0.018)},
-		Leak: analyze.LeakFit{TauS: est(3580, 95, "fitted"), Ohm: est(121e3, 4e3, "fitted"), QuiescentA: est(1.07e-6, 0.08e-6, "fitted"),
+		Leak: analysis.LeakFit{TauS: est(3580, 95, "fitted"), Ohm: est(121e3, 4e3, "fitted"), QuiescentA: est(1.07e-6, 0.08e-6, "fitted"),
 			ProbeOhm: est(1.0e6, 0, "declared"), Method: "dark-decay"},
 	}
 	iv, mv, mw := cellIV(c, 0.8)
-	r.Fit.Cell = analyze.CellFit{IscA: est(c.iscA*0.8, 0.00008, "fitted"), VocV: est(c.vocV+c.nVt*math.Log(0.8), 0.03, "fitted"),
+	r.Fit.Cell = analysis.CellFit{IscA: est(c.iscA*0.8, 0.00008, "fitted"), VocV: est(c.vocV+c.nVt*math.Log(0.8), 0.03, "fitted"),
 		I0A: est(8.1e-10, 2e-10, "fitted"), N: est(12.8, 0.4, "fitted"), RsOhm: est(14.5, 2.1, "fitted"), RshOhm: est(41e3, 6e3, "fitted"),
 		MppV: f64(mv), MppW: f64(mw), IV: iv}
 	// Model trace: the same circuit, noiseless, one cycle at the brightest stretch.
 	if len(r.Traces) > 0 {
-		m := analyze.Trace{Label: "fitted model"}
+		m := analysis.Trace{Label: "fitted model"}
 		for k, ts := range r.Traces[len(r.Traces)/2].TS {
 			if k%3 == 0 {
 				m.TS = append(m.TS, ts)
@@ -225,7 +224,7 @@ func wrenResult() *analyze.Result {
 		r.ModelTrace = &m
 	}
 	// Leak trace: the evening dark decay.
-	lt, lm := analyze.Trace{Label: "dark decay"}, analyze.Trace{Label: "fit"}
+	lt, lm := analysis.Trace{Label: "dark decay"}, analysis.Trace{Label: "fit"}
 	for k := 0; k < 4000; k++ {
 		ts := 20.5*3600 + float64(k)*3
 		vv := 2.31 * math.Exp(-(ts-20.5*3600)/40000)
@@ -237,7 +236,7 @@ func wrenResult() *analyze.Result {
 	r.LeakTrace, r.LeakModel = &lt, &lm
 	// Prediction: nominal with a bias (the declared parts are off), fitted close.
 	rng := rand.New(rand.NewPCG(2, 9))
-	p := &analyze.Prediction{}
+	p := &analysis.Prediction{}
 	var nomAbs, fitAbs []float64
 	for _, cy := range r.Cycles {
 		if cy.ChargeS == nil {
@@ -246,19 +245,19 @@ func wrenResult() *analyze.Result {
 		m := *cy.ChargeS
 		n := m * (1.09 + 0.03*rng.NormFloat64())
 		fv := m * (1 + 0.025*rng.NormFloat64())
-		p.Cycles = append(p.Cycles, analyze.PredictedCycle{Index: cy.Index,
-			Measured: analyze.CycleFigs{ChargeS: f64(m), PulseS: f64(cy.PulseS), FireV: f64(cy.FireV), ResetV: f64(cy.ResetV), EnergyJ: cy.EnergyJ},
-			Nominal:  &analyze.CycleFigs{ChargeS: f64(n)},
-			Fitted:   &analyze.CycleFigs{ChargeS: f64(fv)}})
+		p.Cycles = append(p.Cycles, analysis.PredictedCycle{Index: cy.Index,
+			Measured: analysis.CycleFigs{ChargeS: f64(m), PulseS: f64(cy.PulseS), FireV: f64(cy.FireV), ResetV: f64(cy.ResetV), EnergyJ: cy.EnergyJ},
+			Nominal:  &analysis.CycleFigs{ChargeS: f64(n)},
+			Fitted:   &analysis.CycleFigs{ChargeS: f64(fv)}})
 		nomAbs = append(nomAbs, math.Abs(n-m)/m*100)
 		fitAbs = append(fitAbs, math.Abs(fv-m)/m*100)
 	}
-	p.Nominal = &analyze.ErrorSummary{N: len(nomAbs), BiasPct: f64(9.02), MAPEPct: f64(mean(nomAbs)), RMSS: f64(4.4), Within10Pct: f64(0.61),
+	p.Nominal = &analysis.ErrorSummary{N: len(nomAbs), BiasPct: f64(9.02), MAPEPct: f64(mean(nomAbs)), RMSS: f64(4.4), Within10Pct: f64(0.61),
 		PulseMAPEPct: f64(21.3), EnergyMAPEPct: f64(12.8)}
-	p.Fitted = &analyze.ErrorSummary{N: len(fitAbs), BiasPct: f64(-0.31), MAPEPct: f64(mean(fitAbs)), RMSS: f64(1.2), Within10Pct: f64(0.998),
+	p.Fitted = &analysis.ErrorSummary{N: len(fitAbs), BiasPct: f64(-0.31), MAPEPct: f64(mean(fitAbs)), RMSS: f64(1.2), Within10Pct: f64(0.998),
 		PulseMAPEPct: f64(3.9), EnergyMAPEPct: f64(2.2)}
 	r.Prediction = p
-	r.Findings = []analyze.Finding{
+	r.Findings = []analysis.Finding{
 		{Code: "motor-load", Severity: "info", Message: "The discharge is not exponential: the load behaves like a motor spinning up.",
 			Numbers: map[string]float64{"start_ohm": 9.4, "end_ohm": 24.8}},
 		{Code: "cap-below-nominal", Severity: "warn", Message: "The storage capacitor measures 9.7 % below its declared value.",
@@ -270,12 +269,12 @@ func wrenResult() *analyze.Result {
 
 // wrenAfterResult is Wren after a part change: a 47 mF capacitor in place of the 33 mF
 // one, recorded from 10:00 to 16:00. Only what the comparison page uses is filled in.
-func wrenAfterResult() *analyze.Result {
+func wrenAfterResult() *analysis.Result {
 	c := wrenCircuit
 	c.capF = 0.047
 	c.light = func(tS float64) float64 { return windowsill(tS + 10*3600) }
 	r := simDay(c, 6*3600, [2]float64{}, 5)
-	r.Source = analyze.Source{Path: "captures/wren-sill-47m.csv", Profile: "wren-47m.toml"}
+	r.Source = analysis.Source{Path: "captures/wren-sill-47m.csv", Profile: "wren-47m.toml"}
 	var charge, pulse []float64
 	for _, cy := range r.Cycles {
 		if cy.ChargeS != nil {
@@ -283,15 +282,15 @@ func wrenAfterResult() *analyze.Result {
 		}
 		pulse = append(pulse, cy.PulseS)
 	}
-	r.Capacitance = &analyze.Capacity{F: analyze.Estimate{Value: 0.0452, SD: f64(0.0009), Origin: "measured"}, Tol: "M"}
-	r.Fit = analyze.Fit{
-		Trigger: analyze.TriggerFit{Kind: "voltage", OnV: est(2.7118, 0.0045, "fitted"), OffV: est(1.5231, 0.0060, "fitted"),
+	r.Capacitance = &analysis.Capacity{F: analysis.Estimate{Value: 0.0452, SD: f64(0.0009), Origin: "measured"}, Tol: "M"}
+	r.Fit = analysis.Fit{
+		Trigger: analysis.TriggerFit{Kind: "voltage", OnV: est(2.7118, 0.0045, "fitted"), OffV: est(1.5231, 0.0060, "fitted"),
 			PeriodS: est(mean(charge)+mean(pulse), 2.2, "fitted"), PulseS: est(mean(pulse), 0.005, "fitted")},
-		Load: analyze.LoadFit{TauS: est(0.823, 0.015, "fitted"), Ohm: est(18.0, 0.5, "fitted")},
-		Leak: analyze.LeakFit{TauS: est(5350, 150, "fitted"), Ohm: est(118e3, 4e3, "fitted"), QuiescentA: est(1.12e-6, 0.09e-6, "fitted")},
+		Load: analysis.LoadFit{TauS: est(0.823, 0.015, "fitted"), Ohm: est(18.0, 0.5, "fitted")},
+		Leak: analysis.LeakFit{TauS: est(5350, 150, "fitted"), Ohm: est(118e3, 4e3, "fitted"), QuiescentA: est(1.12e-6, 0.09e-6, "fitted")},
 	}
-	r.Fit.Cell = analyze.CellFit{IscA: est(2.01e-3, 0.00009, "fitted"), VocV: est(5.05, 0.03, "fitted")}
-	r.Findings = []analyze.Finding{}
+	r.Fit.Cell = analysis.CellFit{IscA: est(2.01e-3, 0.00009, "fitted"), VocV: est(5.05, 0.03, "fitted")}
+	r.Findings = []analysis.Finding{}
 	return r
 }
 
@@ -302,23 +301,23 @@ var fernCircuit = simCircuit{capF: 0.1, onV: 2.70, offV: 1.6, loadOhm: 40, leakO
 
 // fernResult is the invented analysis of "Fern", the chime in the shaded north window:
 // it charges and stalls below its trigger.
-func fernResult() *analyze.Result {
+func fernResult() *analysis.Result {
 	c := fernCircuit
 	r := simDay(c, 12*3600, [2]float64{}, 3)
-	r.Source = analyze.Source{Path: "captures/fern-north.csv", Profile: "fern.toml", StartRFC: "2026-11-02T06:00:00Z"}
-	r.Segments = append(r.Segments, analyze.Segment{Kind: "charging", StartS: 0, EndS: 3 * 3600, StartV: 0.4, EndV: 2.29},
-		analyze.Segment{Kind: "plateau", StartS: 3 * 3600, EndS: 12 * 3600, StartV: 2.29, EndV: 2.31})
-	r.Noise = &analyze.Noise{RMSV: 0.0028, StepV: 0.00488}
-	r.Declared = &analyze.Declared{CapF: f64(0.1), CapTol: "Z", OnV: f64(2.70), OffV: f64(1.6), VocV: f64(4.4), IscA: f64(1e-3)}
-	r.Capacitance = &analyze.Capacity{F: analyze.Estimate{Value: 0.1, Origin: "declared"}, Tol: "Z"}
+	r.Source = analysis.Source{Path: "captures/fern-north.csv", Profile: "fern.toml", StartRFC: "2026-11-02T06:00:00Z"}
+	r.Segments = append(r.Segments, analysis.Segment{Kind: "charging", StartS: 0, EndS: 3 * 3600, StartV: 0.4, EndV: 2.29},
+		analysis.Segment{Kind: "plateau", StartS: 3 * 3600, EndS: 12 * 3600, StartV: 2.29, EndV: 2.31})
+	r.Noise = &analysis.Noise{RMSV: 0.0028, StepV: 0.00488}
+	r.Declared = &analysis.Declared{CapF: 0.1, CapTol: "Z", OnV: 2.70, OffV: 1.6, VocV: 4.4, IscA: 1e-3}
+	r.Capacitance = &analysis.Capacity{F: analysis.Estimate{Value: 0.1, Origin: "declared"}, Tol: "Z"}
 	r.EquilibriumV = est(2.314, 0.006, "fitted")
-	r.Equilibrium = &analyze.Settling{Within1PctS: f64(2.6 * 3600), TauS: est(2050, 80, "fitted")}
+	r.Equilibrium = &analysis.Settling{Within1PctS: f64(2.6 * 3600), TauS: est(2050, 80, "fitted")}
 	r.Fit.Trigger.Kind = "unknown"
-	r.Fit.Leak = analyze.LeakFit{TauS: est(2050, 80, "fitted"), Ohm: est(20.5e3, 0.8e3, "fitted"), QuiescentA: est(1.4e-6, 0.3e-6, "fitted"), Method: "plateau"}
+	r.Fit.Leak = analysis.LeakFit{TauS: est(2050, 80, "fitted"), Ohm: est(20.5e3, 0.8e3, "fitted"), QuiescentA: est(1.4e-6, 0.3e-6, "fitted"), Method: "plateau"}
 	iv, mv, mw := cellIV(c, 0.33)
-	r.Fit.Cell = analyze.CellFit{IscA: est(c.iscA*0.33, 0.000004, "fitted"), VocV: est(c.vocV+c.nVt*math.Log(0.33), 0.04, "fitted"),
+	r.Fit.Cell = analysis.CellFit{IscA: est(c.iscA*0.33, 0.000004, "fitted"), VocV: est(c.vocV+c.nVt*math.Log(0.33), 0.04, "fitted"),
 		MppV: f64(mv), MppW: f64(mw), IV: iv}
-	lt, lm := analyze.Trace{Label: "plateau approach"}, analyze.Trace{Label: "fit"}
+	lt, lm := analysis.Trace{Label: "plateau approach"}, analysis.Trace{Label: "fit"}
 	for k := 0; k < 1080; k++ {
 		ts := 1800 + float64(k)*10
 		vv := 2.314 - 1.6*math.Exp(-(ts-1800)/2050)
@@ -329,7 +328,7 @@ func fernResult() *analyze.Result {
 	}
 	r.LeakTrace, r.LeakModel = &lt, &lm
 	r.Notes = []string{"no fire: the trigger's on and off voltages and the load cannot be fitted"}
-	r.Findings = []analyze.Finding{{Code: "never-reaches-trigger", Severity: "fault",
+	r.Findings = []analysis.Finding{{Code: "never-reaches-trigger", Severity: "fault",
 		Message:    "The voltage levels off at 2.31 V, 0.39 V short of the 2.70 V trigger, so the chime never fires.",
 		Suggestion: "Give the cell more light, or cut the leakage: at this light the 20.5 kΩ leak takes 113 µA at the plateau, more than the cell gives above 2.3 V.",
 		Numbers:    map[string]float64{"equilibrium_v": 2.314, "on_v": 2.70, "leak_ohm": 20.5e3}}}
@@ -337,9 +336,9 @@ func fernResult() *analyze.Result {
 }
 
 // sparseResult has samples and nothing else: every section must say its data is absent.
-func sparseResult() *analyze.Result {
-	return &analyze.Result{Schema: analyze.Schema, Samples: 1200, DurationS: 600,
-		Source: analyze.Source{Path: "captures/short.csv"}}
+func sparseResult() *analysis.Result {
+	return &analysis.Result{Schema: analysis.Schema, Samples: 1200, DurationS: 600,
+		Source: analysis.Source{Path: "captures/short.csv"}}
 }
 
 func mean(v []float64) float64 {

@@ -6,7 +6,7 @@ import (
 	"strconv"
 	"strings"
 
-	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/units"
 )
 
@@ -138,7 +138,7 @@ func unitOfKey(key string) (name, unit string) {
 // two significant digits and the value to the same last decimal: "2.7132 ± 0.0041 V",
 // "29.80 ± 0.60 mF", "541 ± 12 ms". Without an error it is quantity(v, unit); nil reads
 // "not determined".
-func estimate(e *analyze.Estimate, unit string) string {
+func estimate(e *analysis.Estimate, unit string) string {
 	if e == nil {
 		return "not determined"
 	}

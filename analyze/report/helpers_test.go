@@ -13,7 +13,7 @@ import (
 
 	"golang.org/x/net/html"
 
-	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/units"
 )
 
@@ -25,8 +25,8 @@ var (
 )
 
 // fixtures are the test Results by name (invented data, see fixtures_test.go).
-func fixtures() map[string]*analyze.Result {
-	return map[string]*analyze.Result{"wren": wrenOnce(), "fern": fernOnce(), "sparse": sparseResult()}
+func fixtures() map[string]*analysis.Result {
+	return map[string]*analysis.Result{"wren": wrenOnce(), "fern": fernOnce(), "sparse": sparseResult()}
 }
 
 // pageCache keeps rendered pages of the shared fixtures: each test looks at the same
@@ -34,12 +34,12 @@ func fixtures() map[string]*analyze.Result {
 var pageCache sync.Map // key: pageKey, value: []byte
 
 type pageKey struct {
-	r    *analyze.Result
+	r    *analysis.Result
 	o    Options
 	none bool
 }
 
-func renderPage(t testing.TB, r *analyze.Result, o *Options) []byte {
+func renderPage(t testing.TB, r *analysis.Result, o *Options) []byte {
 	t.Helper()
 	k := pageKey{r: r, none: o == nil}
 	if o != nil {
@@ -53,7 +53,7 @@ func renderPage(t testing.TB, r *analyze.Result, o *Options) []byte {
 	return page
 }
 
-func renderFresh(t testing.TB, r *analyze.Result, o *Options) []byte {
+func renderFresh(t testing.TB, r *analysis.Result, o *Options) []byte {
 	t.Helper()
 	var b bytes.Buffer
 	if err := Write(&b, r, o); err != nil {
@@ -134,10 +134,10 @@ func textOf(n *html.Node) string {
 	return strings.Join(strings.Fields(b.String()), " ")
 }
 
-var jsonDocs sync.Map // *analyze.Result -> any
+var jsonDocs sync.Map // *analysis.Result -> any
 
 // jsonDoc is r as the generic JSON tree a script reading the analysis would see.
-func jsonDoc(r *analyze.Result) (any, error) {
+func jsonDoc(r *analysis.Result) (any, error) {
 	if d, ok := jsonDocs.Load(r); ok {
 		return d, nil
 	}
@@ -158,7 +158,7 @@ var spaced = map[string]bool{"dt": true, "dd": true, "td": true, "th": true, "li
 
 // jsonValue looks up path in the JSON form of r: dotted keys ("fit.trigger.on_v.value"),
 // "len(list)" or "count(list.key=value)".
-func jsonValue(r *analyze.Result, path string) (float64, error) {
+func jsonValue(r *analysis.Result, path string) (float64, error) {
 	doc, err := jsonDoc(r)
 	if err != nil {
 		return 0, err

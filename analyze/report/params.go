@@ -1,10 +1,9 @@
 package report
 
 import (
+	"capcycle/analyze/analysis"
 	"fmt"
 	"math"
-
-	"capcycle/analyze"
 )
 
 // tolerance is a capacitor tolerance code's band, in percent below and above nominal.
@@ -24,17 +23,17 @@ type paramRow struct {
 	name     string
 	unit     string
 	declared *float64
-	fitted   *analyze.Estimate
+	fitted   *analysis.Estimate
 	tolCode  string
 	needsC   bool // an absolute value that needs the capacitance
 }
 
-func paramRows(r *analyze.Result) []paramRow {
+func paramRows(r *analysis.Result) []paramRow {
 	d := r.Declared
 	if d == nil {
-		d = &analyze.Declared{}
+		d = &analysis.Declared{}
 	}
-	var capFit *analyze.Estimate
+	var capFit *analysis.Estimate
 	tol := d.CapTol
 	if r.Capacitance != nil {
 		c := r.Capacitance.F
@@ -45,26 +44,26 @@ func paramRows(r *analyze.Result) []paramRow {
 	}
 	f := r.Fit
 	return []paramRow{
-		{name: "storage capacitance", unit: "F", declared: d.CapF, fitted: capFit, tolCode: tol},
-		{name: "trigger on voltage", unit: "V", declared: d.OnV, fitted: f.Trigger.OnV},
-		{name: "trigger release voltage", unit: "V", declared: d.OffV, fitted: f.Trigger.OffV},
+		{name: "storage capacitance", unit: "F", declared: nonZero(d.CapF), fitted: capFit, tolCode: tol},
+		{name: "trigger on voltage", unit: "V", declared: nonZero(d.OnV), fitted: f.Trigger.OnV},
+		{name: "trigger release voltage", unit: "V", declared: nonZero(d.OffV), fitted: f.Trigger.OffV},
 		{name: "drift of the on voltage", unit: "V/h", fitted: f.Trigger.OnDriftVPerH},
 		{name: "mean period between fires", unit: "s", fitted: f.Trigger.PeriodS},
 		{name: "mean pulse width", unit: "s", fitted: f.Trigger.PulseS},
-		{name: "load resistance", unit: "Ω", declared: d.LoadOhm, fitted: f.Load.Ohm, needsC: true},
+		{name: "load resistance", unit: "Ω", declared: nonZero(d.LoadOhm), fitted: f.Load.Ohm, needsC: true},
 		{name: "load time constant", unit: "s", fitted: f.Load.TauS},
 		{name: "leakage resistance", unit: "Ω", fitted: f.Leak.Ohm, needsC: true},
 		{name: "leakage time constant", unit: "s", fitted: f.Leak.TauS},
-		{name: "quiescent current", unit: "A", declared: d.QuiescentA, fitted: f.Leak.QuiescentA, needsC: true},
-		{name: "probe divider resistance", unit: "Ω", declared: d.ProbeOhm, fitted: f.Leak.ProbeOhm},
-		{name: "cell open-circuit voltage", unit: "V", declared: d.VocV, fitted: f.Cell.VocV},
-		{name: "cell short-circuit current", unit: "A", declared: d.IscA, fitted: f.Cell.IscA, needsC: true},
+		{name: "quiescent current", unit: "A", declared: nonZero(d.QuiescentA), fitted: f.Leak.QuiescentA, needsC: true},
+		{name: "probe divider resistance", unit: "Ω", declared: nonZero(d.ProbeOhm), fitted: f.Leak.ProbeOhm},
+		{name: "cell open-circuit voltage", unit: "V", declared: nonZero(d.VocV), fitted: f.Cell.VocV},
+		{name: "cell short-circuit current", unit: "A", declared: nonZero(d.IscA), fitted: f.Cell.IscA, needsC: true},
 		{name: "settling voltage", unit: "V", fitted: r.EquilibriumV},
 	}
 }
 
 // paramSection is the table of declared against fitted values.
-func paramSection(r *analyze.Result) *section {
+func paramSection(r *analysis.Result) *section {
 	s := &section{ID: "parameters", Title: "Parameters: declared and found"}
 	s.Intro = []string{"Declared values come from the profile; found values from this capture, with one standard error. The difference is (found − declared) / declared. Where the profile gives a tolerance, the found value is judged against it; elsewhere, against twice the standard error."}
 	t := &table{Class: "params", Head: []string{"quantity", "declared", "found ± s.e.", "source", "difference", "tolerance", "agreement"}}
@@ -99,7 +98,7 @@ func paramCells(p paramRow) []cell {
 		if p.fitted.Lo95 != nil && p.fitted.Hi95 != nil {
 			found.Title = "95 % interval " + quantity(*p.fitted.Lo95, p.unit) + " to " + quantity(*p.fitted.Hi95, p.unit)
 		}
-		origin = cell{Text: p.fitted.Origin}
+		origin = cell{Text: string(p.fitted.Origin)}
 	}
 	diff, tolC, agree := cell{Text: "—", Class: "num muted"}, cell{Text: "—", Class: "muted"}, cell{Text: "—", Class: "muted"}
 	if p.tolCode != "" {
@@ -178,4 +177,12 @@ func joinList(s []string) string {
 		}
 	}
 	return out
+}
+
+// nonZero is a pointer to v, or nil for 0 (not declared).
+func nonZero(v float64) *float64 {
+	if v == 0 {
+		return nil
+	}
+	return &v
 }

@@ -1,19 +1,18 @@
 package report
 
 import (
+	"capcycle/analyze/analysis"
 	"math"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
-
-	"capcycle/analyze"
 )
 
 // cellFigure draws the cell's traced I-V curve and the power curve P = V·I beside it,
 // with the maximum-power point, the open-circuit voltage and the short-circuit current.
-func cellFigure(r *analyze.Result, o *Options) (figure, string) {
+func cellFigure(r *analysis.Result, o *Options) (figure, string) {
 	c := r.Fit.Cell
 	if len(c.IV) < 2 {
 		return figure{}, "The analysis carries no traced I-V curve for the cell (it needs the capacitance and a charging stretch that starts low)."
@@ -103,7 +102,7 @@ func cellFigure(r *analyze.Result, o *Options) (figure, string) {
 }
 
 // leakFigure draws the points the leakage fit used and the fitted curve over them.
-func leakFigure(r *analyze.Result, o *Options) (figure, string) {
+func leakFigure(r *analysis.Result, o *Options) (figure, string) {
 	if r.LeakTrace == nil || len(r.LeakTrace.TS) < 2 {
 		return figure{}, "The analysis carries no dark-decay or plateau stretch, so the leakage fit cannot be drawn."
 	}

@@ -1,6 +1,7 @@
 package report
 
 import (
+	"capcycle/analyze/analysis"
 	"fmt"
 	"image/color"
 	"math"
@@ -9,15 +10,13 @@ import (
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
-
-	"capcycle/analyze"
 )
 
 // traceSet is a group of traces drawn in one style, for one capture.
 type traceSet struct {
 	name   string // "" for a single capture, else the capture's label
-	traces []analyze.Trace
-	model  *analyze.Trace
+	traces []analysis.Trace
+	model  *analysis.Trace
 	col    color.Color
 	dash   []vg.Length
 }
@@ -30,7 +29,7 @@ func cyclesFigure(id string, sets []traceSet, pulseS float64, o *Options) (figur
 	var nTraces, dropped int
 	for i, s := range sets {
 		if len(s.traces) > maxTraces {
-			var keep []analyze.Trace
+			var keep []analysis.Trace
 			for _, k := range thin(len(s.traces), maxTraces, nil) {
 				keep = append(keep, s.traces[k])
 			}
@@ -166,7 +165,7 @@ func markFire(p *plot.Plot) {
 }
 
 // window returns the points of t inside win (all of them for a nil win), in time order.
-func window(t analyze.Trace, win func(float64) bool) (x, y []float64) {
+func window(t analysis.Trace, win func(float64) bool) (x, y []float64) {
 	n := min(len(t.TS), len(t.V))
 	for i := range n {
 		if win == nil || win(t.TS[i]) {

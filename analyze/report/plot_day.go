@@ -1,20 +1,19 @@
 package report
 
 import (
+	"capcycle/analyze/analysis"
 	"math"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
-
-	"capcycle/analyze"
 )
 
 // dayFigure is "the day at a glance": the voltage as a min/max band with the fires
 // marked and the gaps shaded, the light level, and the fires per hour, on one time axis.
 // It returns an empty figure and the reason when the Result has no envelope.
-func dayFigure(r *analyze.Result, o *Options) (figure, string) {
+func dayFigure(r *analysis.Result, o *Options) (figure, string) {
 	env := MergeEnvelope(r.Envelope, envelopeBins(r, o.maxBins()))
 	if len(env) < 2 {
 		return figure{}, "The analysis carries no voltage envelope, so the day cannot be drawn."
@@ -200,8 +199,8 @@ func dayFigure(r *analyze.Result, o *Options) (figure, string) {
 
 // envelopeRuns splits the envelope where bins are not neighbours: a step longer than brk,
 // or a gap segment between them.
-func envelopeRuns(env []analyze.EnvelopePt, segs []analyze.Segment, brk float64) [][]analyze.EnvelopePt {
-	var runs [][]analyze.EnvelopePt
+func envelopeRuns(env []analysis.EnvelopePt, segs []analysis.Segment, brk float64) [][]analysis.EnvelopePt {
+	var runs [][]analysis.EnvelopePt
 	start := 0
 	for i := 1; i <= len(env); i++ {
 		if i == len(env) || env[i].TS-env[i-1].TS > brk || gapBetween(segs, env[i-1].TS, env[i].TS) {
@@ -212,7 +211,7 @@ func envelopeRuns(env []analyze.EnvelopePt, segs []analyze.Segment, brk float64)
 	return runs
 }
 
-func gapBetween(segs []analyze.Segment, t0, t1 float64) bool {
+func gapBetween(segs []analysis.Segment, t0, t1 float64) bool {
 	for _, s := range segs {
 		if s.Kind == "gap" && s.StartS >= t0 && s.EndS <= t1 {
 			return true
@@ -223,7 +222,7 @@ func gapBetween(segs []analyze.Segment, t0, t1 float64) bool {
 
 // fireMarks bins the fires into n bins over span and returns one point per bin that
 // holds a fire: at the bin's first fire time and the highest fire voltage in it.
-func fireMarks(cycles []analyze.Cycle, span float64, n int) (x, y []float64) {
+func fireMarks(cycles []analysis.Cycle, span float64, n int) (x, y []float64) {
 	if span <= 0 || len(cycles) == 0 {
 		return nil, nil
 	}
@@ -254,7 +253,7 @@ type rateBin struct{ t0, t1, rate float64 }
 // captures, so that there are ten bins at least) and gives each bin's count as a rate per hour of recorded time: the
 // time inside gaps does not count, and a bin with less than a quarter of its length
 // recorded gets no rate.
-func firesPerHour(cycles []analyze.Cycle, segs []analyze.Segment, span float64) []rateBin {
+func firesPerHour(cycles []analysis.Cycle, segs []analysis.Segment, span float64) []rateBin {
 	if span <= 0 || len(cycles) == 0 {
 		return nil
 	}
@@ -269,7 +268,7 @@ func firesPerHour(cycles []analyze.Cycle, segs []analyze.Segment, span float64) 
 	n := int(math.Ceil(span / w))
 	counts := make([]int, n)
 	for _, c := range cycles {
-		if c.Kind == "chatter" {
+		if c.Kind == analysis.CycleChatter {
 			continue
 		}
 		i := int(c.FireS / w)
@@ -296,23 +295,23 @@ func firesPerHour(cycles []analyze.Cycle, segs []analyze.Segment, span float64) 
 
 // triggerOn returns the trigger's turn-on voltage: fitted when the analysis found it,
 // else declared in the profile.
-func triggerOn(r *analyze.Result) (v float64, origin string, ok bool) {
+func triggerOn(r *analysis.Result) (v float64, origin string, ok bool) {
 	if e := r.Fit.Trigger.OnV; e != nil {
 		return e.Value, "fitted", true
 	}
-	if r.Declared != nil && r.Declared.OnV != nil {
-		return *r.Declared.OnV, "declared", true
+	if r.Declared != nil && r.Declared.OnV != 0 {
+		return r.Declared.OnV, "declared", true
 	}
 	return 0, "", false
 }
 
 // triggerOff is triggerOn for the release voltage.
-func triggerOff(r *analyze.Result) (v float64, origin string, ok bool) {
+func triggerOff(r *analysis.Result) (v float64, origin string, ok bool) {
 	if e := r.Fit.Trigger.OffV; e != nil {
 		return e.Value, "fitted", true
 	}
-	if r.Declared != nil && r.Declared.OffV != nil {
-		return *r.Declared.OffV, "declared", true
+	if r.Declared != nil && r.Declared.OffV != 0 {
+		return r.Declared.OffV, "declared", true
 	}
 	return 0, "", false
 }
@@ -321,7 +320,7 @@ func triggerOff(r *analyze.Result) (v float64, origin string, ok bool) {
 // each bin spans two typical cycles or more. Bins about one period wide would catch a
 // full swing in one bin and half a swing in the next, and the band would show a moiré
 // that is not in the circuit; bins of several cycles show the swing as a solid band.
-func envelopeBins(r *analyze.Result, max int) int {
+func envelopeBins(r *analysis.Result, max int) int {
 	if e := r.Fit.Trigger.PeriodS; e != nil && e.Value > 0 && r.DurationS > 0 {
 		n := int(r.DurationS / (2 * e.Value))
 		return min(max, maxInt(n, 150))

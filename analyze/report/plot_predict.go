@@ -1,6 +1,7 @@
 package report
 
 import (
+	"capcycle/analyze/analysis"
 	"fmt"
 	"math"
 	"sort"
@@ -9,8 +10,6 @@ import (
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
-
-	"capcycle/analyze"
 )
 
 // predPoint is one cycle's measured and predicted charge time.
@@ -21,7 +20,7 @@ type predPoint struct {
 	nomErr, fitErr  float64 // (predicted - measured) / measured, percent; NaN when absent
 }
 
-func predPoints(r *analyze.Result) []predPoint {
+func predPoints(r *analysis.Result) []predPoint {
 	if r.Prediction == nil {
 		return nil
 	}
@@ -54,7 +53,7 @@ func predPoints(r *analyze.Result) []predPoint {
 
 // predictFigure draws measured against predicted charge time (with the 1:1 line and a
 // ±10 % band) and the prediction error over the day, for the nominal and the fitted model.
-func predictFigure(r *analyze.Result, o *Options) (figure, string) {
+func predictFigure(r *analysis.Result, o *Options) (figure, string) {
 	pts := predPoints(r)
 	if len(pts) == 0 {
 		return figure{}, "The analysis carries no per-cycle prediction, so measured and predicted cycles cannot be compared."

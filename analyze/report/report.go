@@ -2,14 +2,13 @@ package report
 
 import (
 	"bufio"
+	"capcycle/analyze/analysis"
 	"errors"
 	"fmt"
 	"html/template"
 	"io"
 	"path/filepath"
 	"time"
-
-	"capcycle/analyze"
 )
 
 // Options tunes a report. The zero value (or a nil *Options) gives the defaults below.
@@ -81,7 +80,7 @@ var ErrNoResult = errors.New("report: no analysis result")
 // The page is built from r alone, so a saved analysis JSON rebuilds the same report.
 // A part of r that is null gives its section a plain statement that the data is absent
 // rather than an empty plot. opts may be nil.
-func Write(w io.Writer, r *analyze.Result, opts *Options) error {
+func Write(w io.Writer, r *analysis.Result, opts *Options) error {
 	if r == nil {
 		return ErrNoResult
 	}
@@ -104,7 +103,7 @@ func render(w io.Writer, p *page) error {
 }
 
 // singlePage lays out the report of one capture.
-func singlePage(r *analyze.Result, o *Options) *page {
+func singlePage(r *analysis.Result, o *Options) *page {
 	p := &page{Title: o.Title, CSS: template.CSS(pageCSS)}
 	if p.Title == "" {
 		p.Title = "capcycle report: " + captureName(r)
@@ -130,7 +129,7 @@ func singlePage(r *analyze.Result, o *Options) *page {
 	return p
 }
 
-func captureName(r *analyze.Result) string {
+func captureName(r *analysis.Result) string {
 	if r.Source.Path == "" {
 		return "unnamed capture"
 	}

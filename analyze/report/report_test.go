@@ -2,6 +2,7 @@ package report
 
 import (
 	"bytes"
+	"capcycle/analyze/analysis"
 	"encoding/xml"
 	"errors"
 	"io"
@@ -10,8 +11,6 @@ import (
 	"testing"
 
 	"golang.org/x/net/html"
-
-	"capcycle/analyze"
 )
 
 var sectionIDs = []string{"verdict", "day", "cycles", "prediction", "cell", "leak", "parameters", "cycle-table", "methods", "safety"}
@@ -123,14 +122,14 @@ func TestNothingFromOutside(t *testing.T) {
 func TestVerdictNumbersMatchJSON(t *testing.T) {
 	cases := fixtures()
 	chat := sparseResult()
-	chat.Cycles = []analyze.Cycle{{Index: 0, FireS: 10, FireV: 2.7, ResetS: 10.01, ResetV: 2.65, PulseS: 0.01, Kind: "chatter"}}
+	chat.Cycles = []analysis.Cycle{{Index: 0, FireS: 10, FireV: 2.7, ResetS: 10.01, ResetV: 2.65, PulseS: 0.01, Kind: "chatter"}}
 	cases["chatter"] = chat
 	none := sparseResult()
 	none.Samples = 0
 	cases["empty"] = none
 	near := *fernOnce()
 	near.EquilibriumV = est(3.9986, 0.0004, "fitted")
-	near.Declared = &analyze.Declared{OnV: f64(4.0)}
+	near.Declared = &analysis.Declared{OnV: 4.0}
 	cases["near-trigger"] = &near
 	digit := regexp.MustCompile(`[0-9]`)
 	for name, r := range cases {
@@ -251,7 +250,7 @@ func TestDayLongReportStaysLight(t *testing.T) {
 	// predictions, a 100 000-point leak trace, a 50 000-point I-V curve.
 	for range 400 / len(r.Traces) {
 		for _, tr := range r.Traces {
-			long := analyze.Trace{}
+			long := analysis.Trace{}
 			for k := range 6000 {
 				long.TS = append(long.TS, tr.TS[0]+float64(k)*0.02)
 				long.V = append(long.V, tr.V[k%len(tr.V)])
@@ -259,16 +258,16 @@ func TestDayLongReportStaysLight(t *testing.T) {
 			big.Traces = append(big.Traces, long)
 		}
 	}
-	big.Cycles, big.Prediction = nil, &analyze.Prediction{Fitted: r.Prediction.Fitted}
+	big.Cycles, big.Prediction = nil, &analysis.Prediction{Fitted: r.Prediction.Fitted}
 	for k := range 40000 {
 		c := r.Cycles[k%len(r.Cycles)]
 		c.Index, c.FireS = k, float64(k)*2
 		big.Cycles = append(big.Cycles, c)
 		m := 30 + float64(k%17)
-		big.Prediction.Cycles = append(big.Prediction.Cycles, analyze.PredictedCycle{Index: k,
-			Measured: analyze.CycleFigs{ChargeS: f64(m)}, Nominal: &analyze.CycleFigs{ChargeS: f64(m * 1.1)}, Fitted: &analyze.CycleFigs{ChargeS: f64(m * 0.99)}})
+		big.Prediction.Cycles = append(big.Prediction.Cycles, analysis.PredictedCycle{Index: k,
+			Measured: analysis.CycleFigs{ChargeS: f64(m)}, Nominal: &analysis.CycleFigs{ChargeS: f64(m * 1.1)}, Fitted: &analysis.CycleFigs{ChargeS: f64(m * 0.99)}})
 	}
-	big.LeakTrace = &analyze.Trace{}
+	big.LeakTrace = &analysis.Trace{}
 	for k := range 100000 {
 		big.LeakTrace.TS = append(big.LeakTrace.TS, float64(k))
 		big.LeakTrace.V = append(big.LeakTrace.V, 2.3-float64(k)*1e-6)

@@ -1,16 +1,15 @@
 package report
 
 import (
+	"capcycle/analyze/analysis"
 	"fmt"
 	"math"
 	"sort"
 	"strings"
-
-	"capcycle/analyze"
 )
 
 // headerFacts are the capture's particulars, shown under the title.
-func headerFacts(r *analyze.Result) []fact {
+func headerFacts(r *analysis.Result) []fact {
 	f := []fact{{"capture", captureName(r)}}
 	if r.Source.Profile != "" {
 		f = append(f, fact{"profile", r.Source.Profile})
@@ -36,21 +35,21 @@ func headerFacts(r *analyze.Result) []fact {
 	return f
 }
 
-func originNote(o string) string {
+func originNote(o analysis.Origin) string {
 	if o == "" {
 		return ""
 	}
-	return " (" + o + ")"
+	return " (" + string(o) + ")"
 }
 
 var severityRank = map[string]int{"fault": 0, "warn": 1, "info": 2}
 
 // findingViews orders the findings by severity (faults first), keeping the analysis's
 // order within one severity.
-func findingViews(fs []analyze.Finding) []findingView {
+func findingViews(fs []analysis.Finding) []findingView {
 	out := make([]findingView, 0, len(fs))
 	for _, f := range fs {
-		v := findingView{Severity: f.Severity, Code: f.Code, Message: f.Message, Suggest: f.Suggestion}
+		v := findingView{Severity: string(f.Severity), Code: f.Code, Message: f.Message, Suggest: f.Suggestion}
 		switch f.Severity {
 		case "fault":
 			v.Badge = "FAULT"
@@ -59,7 +58,7 @@ func findingViews(fs []analyze.Finding) []findingView {
 		case "info":
 			v.Badge = "NOTE"
 		default:
-			v.Severity, v.Badge = "info", strings.ToUpper(f.Severity)
+			v.Severity, v.Badge = "info", strings.ToUpper(string(f.Severity))
 		}
 		keys := make([]string, 0, len(f.Numbers))
 		for k := range f.Numbers {
@@ -89,7 +88,7 @@ func bundleLinks(o *Options) []link {
 	return l
 }
 
-func daySection(r *analyze.Result, o *Options) *section {
+func daySection(r *analysis.Result, o *Options) *section {
 	s := &section{ID: "day", Title: "The day at a glance"}
 	fig, absent := dayFigure(r, o)
 	s.addFigure(fig, absent)
@@ -115,7 +114,7 @@ func (s *section) addFigure(f figure, absent string) {
 }
 
 // segmentTable sums the time the capture spent in each kind of segment.
-func segmentTable(r *analyze.Result) *table {
+func segmentTable(r *analysis.Result) *table {
 	if len(r.Segments) == 0 {
 		return nil
 	}
@@ -123,11 +122,12 @@ func segmentTable(r *analyze.Result) *table {
 	total := map[string]float64{}
 	count := map[string]int{}
 	for _, sg := range r.Segments {
-		if _, ok := total[sg.Kind]; !ok && !contains(order, sg.Kind) {
-			order = append(order, sg.Kind)
+		kind := string(sg.Kind)
+		if _, ok := total[kind]; !ok && !contains(order, kind) {
+			order = append(order, kind)
 		}
-		total[sg.Kind] += sg.EndS - sg.StartS
-		count[sg.Kind]++
+		total[kind] += sg.EndS - sg.StartS
+		count[kind]++
 	}
 	t := &table{Caption: "Where the time went", Class: "segments", Head: []string{"segment kind", "stretches", "time", "share of the capture"}}
 	for _, k := range order {
@@ -153,7 +153,7 @@ func contains(list []string, s string) bool {
 	return false
 }
 
-func cyclesSection(r *analyze.Result, o *Options) *section {
+func cyclesSection(r *analysis.Result, o *Options) *section {
 	s := &section{ID: "cycles", Title: "Every cycle, aligned at the fire"}
 	set := traceSet{traces: r.Traces, model: r.ModelTrace, col: colBlue}
 	fig, absent := cyclesFigure("cycles", []traceSet{set}, pulseOf(r), o)
@@ -168,13 +168,13 @@ func cyclesSection(r *analyze.Result, o *Options) *section {
 }
 
 // pulseOf is the typical pulse width: fitted, else the median of the cycles'.
-func pulseOf(r *analyze.Result) float64 {
+func pulseOf(r *analysis.Result) float64 {
 	if e := r.Fit.Trigger.PulseS; e != nil {
 		return e.Value
 	}
 	var p []float64
 	for _, c := range r.Cycles {
-		if c.Kind != "chatter" && c.PulseS > 0 {
+		if c.Kind != analysis.CycleChatter && c.PulseS > 0 {
 			p = append(p, c.PulseS)
 		}
 	}
@@ -186,7 +186,7 @@ func pulseOf(r *analyze.Result) float64 {
 }
 
 // loadTable describes the discharge through the load.
-func loadTable(r *analyze.Result) *table {
+func loadTable(r *analysis.Result) *table {
 	l := r.Fit.Load
 	if l.TauS == nil && l.Ohm == nil && l.Resistive == nil {
 		return nil
@@ -215,14 +215,14 @@ func loadTable(r *analyze.Result) *table {
 }
 
 // orNeedsC formats an absolute quantity, or says that it needs the capacitance.
-func orNeedsC(e *analyze.Estimate, unit string, r *analyze.Result) string {
+func orNeedsC(e *analysis.Estimate, unit string, r *analysis.Result) string {
 	if e == nil && r.Capacitance == nil {
 		return "not determined (needs the capacitance)"
 	}
 	return estimate(e, unit)
 }
 
-func predictSection(r *analyze.Result, o *Options) *section {
+func predictSection(r *analysis.Result, o *Options) *section {
 	s := &section{ID: "prediction", Title: "Measured against predicted"}
 	s.Intro = []string{"The nominal model is the circuit as the profile declares it; the fitted model uses the values recovered from this capture. Charge time is the headline figure: it is what the light and the parts set."}
 	fig, absent := predictFigure(r, o)
@@ -234,7 +234,7 @@ func predictSection(r *analyze.Result, o *Options) *section {
 }
 
 // errorTable sums up the prediction errors of each model.
-func errorTable(p *analyze.Prediction) *table {
+func errorTable(p *analysis.Prediction) *table {
 	if p == nil || (p.Nominal == nil && p.Fitted == nil && p.HeldOut == nil) {
 		return nil
 	}
@@ -242,7 +242,7 @@ func errorTable(p *analyze.Prediction) *table {
 		Head: []string{"model", "cycles", "bias", "mean abs. error", "RMS error", "within ±10 %", "pulse error", "energy error"}}
 	rows := []struct {
 		name string
-		e    *analyze.ErrorSummary
+		e    *analysis.ErrorSummary
 	}{{"nominal", p.Nominal}, {"fitted", p.Fitted}, {"fitted, held-out cycles", p.HeldOut}}
 	for _, row := range rows {
 		if row.e == nil {
@@ -292,7 +292,7 @@ func signedPct(v *float64) string {
 	return num(*v, "%")
 }
 
-func cellSection(r *analyze.Result, o *Options) *section {
+func cellSection(r *analysis.Result, o *Options) *section {
 	s := &section{ID: "cell", Title: "The solar cell"}
 	fig, absent := cellFigure(r, o)
 	s.addFigure(fig, absent)
@@ -327,7 +327,7 @@ func cellSection(r *analyze.Result, o *Options) *section {
 	return s
 }
 
-func leakSection(r *analyze.Result, o *Options) *section {
+func leakSection(r *analysis.Result, o *Options) *section {
 	s := &section{ID: "leak", Title: "Leakage"}
 	fig, absent := leakFigure(r, o)
 	s.addFigure(fig, absent)
@@ -339,7 +339,7 @@ func leakSection(r *analyze.Result, o *Options) *section {
 	t := &table{Caption: "The slow drains on the storage node", Class: "kv", Head: []string{"quantity", "value"}}
 	add := func(name string, v string) { t.Rows = append(t.Rows, []cell{{Text: name}, {Text: v, Class: "num"}}) }
 	if l.Method != "" {
-		add("fitted from", l.Method)
+		add("fitted from", string(l.Method))
 	}
 	add("time constant", estimate(l.TauS, "s"))
 	add("leakage resistance (probe excluded)", orNeedsC(l.Ohm, "Ω", r))
@@ -362,7 +362,7 @@ func leakSection(r *analyze.Result, o *Options) *section {
 	return s
 }
 
-func cycleTableSection(r *analyze.Result, o *Options) *section {
+func cycleTableSection(r *analysis.Result, o *Options) *section {
 	s := &section{ID: "cycle-table", Title: "The cycles"}
 	if len(r.Cycles) == 0 {
 		s.Absent = append(s.Absent, "The capture holds no fires, so there are no cycles to list.")
@@ -389,7 +389,7 @@ func cycleTableSection(r *analyze.Result, o *Options) *section {
 		row := []cell{{Text: fmt.Sprint(c.Index), Class: "num"}, {Text: clock(c.FireS), Class: "num"},
 			{Text: num(c.FireV, "V"), Class: "num"}, {Text: num(c.ResetV, "V"), Class: "num"},
 			{Text: optDurOr(c.ChargeS, "first"), Class: "num"}, {Text: dur(c.PulseS), Class: "num"},
-			{Text: optNumOr(c.EnergyJ, "J", "C unknown"), Class: "num"}, {Text: c.Kind}}
+			{Text: optNumOr(c.EnergyJ, "J", "C unknown"), Class: "num"}, {Text: string(c.Kind)}}
 		if len(pred) > 0 {
 			row = append(row, cell{Text: optDurOr(pred[c.Index], "n/a"), Class: "num"})
 		}

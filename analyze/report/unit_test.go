@@ -1,13 +1,12 @@
 package report
 
 import (
+	"capcycle/analyze/analysis"
 	"encoding/csv"
 	"math"
 	"os"
 	"strconv"
 	"testing"
-
-	"capcycle/analyze"
 )
 
 func TestEstimateFormat(t *testing.T) {
@@ -26,7 +25,7 @@ func TestEstimateFormat(t *testing.T) {
 		{2.3, 0, "V", "2.30 V"}, // no error: three digits
 	}
 	for _, tt := range tests {
-		e := &analyze.Estimate{Value: tt.v}
+		e := &analysis.Estimate{Value: tt.v}
 		if tt.sd > 0 {
 			e.SD = &tt.sd
 		}
@@ -95,13 +94,13 @@ func TestMinMaxKeepsSpikes(t *testing.T) {
 }
 
 func TestMergeEnvelopeKeepsExtremesAndGaps(t *testing.T) {
-	var env []analyze.EnvelopePt
+	var env []analysis.EnvelopePt
 	for i := range 3000 {
 		ts := float64(i) * 30
 		if i >= 1500 {
 			ts += 1800 // a half-hour gap
 		}
-		env = append(env, analyze.EnvelopePt{TS: ts, MinV: 1.5 + float64(i%7)/100, MaxV: 2.7 - float64(i%5)/100})
+		env = append(env, analysis.EnvelopePt{TS: ts, MinV: 1.5 + float64(i%7)/100, MaxV: 2.7 - float64(i%5)/100})
 	}
 	env[1234].MinV, env[2345].MaxV = 0.2, 3.9
 	out := MergeEnvelope(env, 500)
@@ -185,7 +184,7 @@ func TestAgreement(t *testing.T) {
 		{"tolerance beats s.e.", "K", 1.0, 1.05, &sd, "ok"},
 	}
 	for _, tt := range tests {
-		p := paramRow{unit: "F", tolCode: tt.tol, fitted: &analyze.Estimate{Value: tt.found, SD: tt.sd}}
+		p := paramRow{unit: "F", tolCode: tt.tol, fitted: &analysis.Estimate{Value: tt.found, SD: tt.sd}}
 		if c := agreement(p, tt.declared, tt.found); c.Class != tt.want {
 			t.Errorf("%s: %+v, want class %s", tt.name, c, tt.want)
 		}

@@ -1,11 +1,10 @@
 package report
 
 import (
+	"capcycle/analyze/analysis"
 	"fmt"
 	"html/template"
 	"strings"
-
-	"capcycle/analyze"
 )
 
 // Sentence is the report's one-sentence verdict, kept as parts so that every number in
@@ -65,19 +64,19 @@ func (s *sentence) count(path string, n int) {
 //   - "Chatters": fires, but none of them a full cycle;
 //   - "Stalls": no fire at all; the settling voltage follows when it is known;
 //   - "No data": no samples.
-func Verdict(r *analyze.Result) Sentence { return verdict(r, " below") }
+func Verdict(r *analysis.Result) Sentence { return verdict(r, " below") }
 
 // Summary is Verdict worded for use away from the report (a terminal, a log): it points
 // to the findings "in the report" rather than "below".
-func Summary(r *analyze.Result) Sentence { return verdict(r, " in the report") }
+func Summary(r *analysis.Result) Sentence { return verdict(r, " in the report") }
 
 // verdict is Verdict with the words that point to the findings ("below", or " in its
 // report" on the comparison page, which does not list them).
-func verdict(r *analyze.Result, where string) Sentence {
+func verdict(r *analysis.Result, where string) Sentence {
 	var s sentence
 	full, chatter := 0, 0
 	for _, c := range r.Cycles {
-		if c.Kind == "chatter" {
+		if c.Kind == analysis.CycleChatter {
 			chatter++
 		} else {
 			full++

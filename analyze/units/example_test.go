@@ -60,3 +60,14 @@ func ExampleValue() {
 	// Output:
 	// 0.0022 2.20 mF
 }
+
+func ExampleDuration() {
+	for _, s := range []float64{0.085, 1.2, 207, 86400} {
+		fmt.Println(units.Duration(s))
+	}
+	// Output:
+	// 85.0 ms
+	// 1.20 s
+	// 3.45 min
+	// 24 h
+}

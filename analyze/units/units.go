@@ -350,3 +350,21 @@ func Format(v float64, unit string) string {
 	}
 	return join(sign+num, prefix)
 }
+
+// Duration formats a span of seconds as a person reads it: three significant digits in
+// hours from two hours up ("24 h", "3.27 h"), in minutes from two minutes up ("3.27 min"), else
+// in seconds with an SI prefix ("1.20 s", "85.0 ms"). Never kiloseconds.
+func Duration(s float64) string {
+	a := math.Abs(s)
+	switch {
+	case math.IsNaN(s):
+		return "n/a"
+	case math.IsInf(s, 0):
+		return Format(s, Second)
+	case a >= 7200:
+		return fmt.Sprintf("%.3g h", s/3600)
+	case a >= 120:
+		return fmt.Sprintf("%.3g min", s/60)
+	}
+	return Format(s, Second)
+}

@@ -1,7 +1,9 @@
 package whatif
 
 import (
+	"errors"
 	"fmt"
+	"math"
 	"sort"
 	"strings"
 
@@ -15,40 +17,41 @@ type Part struct {
 	Unit   string // unit symbol for parsing and printing ("F", "Ω", "V", "A", "W/m²")
 	Series string // E-series its standard values come from ("E6" for capacitors, "E12" for resistors; "" for none)
 	Doc    string
+	field  string // the model's field, for messages ("Trigger.OffV")
 	get    func(c *model.Circuit) float64
 	set    func(c *model.Circuit, v float64)
 }
 
 // parts lists every part by name.
 var parts = map[string]*Part{
-	"cap": {Name: "cap", Unit: "F", Series: "E6", Doc: "storage capacitance",
+	"cap": {Name: "cap", field: "Storage.CapF", Unit: "F", Series: "E6", Doc: "storage capacitance",
 		get: func(c *model.Circuit) float64 { return c.Storage.CapF },
 		set: func(c *model.Circuit, v float64) { c.Storage.CapF = v }},
-	"hold": {Name: "hold", Unit: "F", Series: "E6", Doc: "hold capacitance of a hold-capacitor trigger",
+	"hold": {Name: "hold", field: "Trigger.HoldF", Unit: "F", Series: "E6", Doc: "hold capacitance of a hold-capacitor trigger",
 		get: func(c *model.Circuit) float64 { return c.Trigger.HoldF },
 		set: func(c *model.Circuit, v float64) { c.Trigger.HoldF = v }},
-	"on": {Name: "on", Unit: "V", Doc: "trigger turn-on voltage",
+	"on": {Name: "on", field: "Trigger.OnV", Unit: "V", Doc: "trigger turn-on voltage",
 		get: func(c *model.Circuit) float64 { return c.Trigger.OnV },
 		set: func(c *model.Circuit, v float64) { c.Trigger.OnV = v }},
-	"off": {Name: "off", Unit: "V", Doc: "trigger release voltage (node, or hold voltage for a hold trigger)",
+	"off": {Name: "off", field: "Trigger.OffV", Unit: "V", Doc: "trigger release voltage (node, or hold voltage for a hold trigger)",
 		get: func(c *model.Circuit) float64 { return c.Trigger.OffV },
 		set: func(c *model.Circuit, v float64) { c.Trigger.OffV = v }},
-	"load": {Name: "load", Unit: "Ω", Series: "E12", Doc: "load resistance (motor: armature resistance)",
+	"load": {Name: "load", field: "Load.Ohm", Unit: "Ω", Series: "E12", Doc: "load resistance (motor: armature resistance)",
 		get: func(c *model.Circuit) float64 { return c.Load.Ohm },
 		set: func(c *model.Circuit, v float64) { c.Load.Ohm = v }},
-	"leak": {Name: "leak", Unit: "Ω", Doc: "capacitor leakage resistance",
+	"leak": {Name: "leak", field: "Storage.LeakOhm", Unit: "Ω", Doc: "capacitor leakage resistance",
 		get: func(c *model.Circuit) float64 { return c.Storage.LeakOhm },
 		set: func(c *model.Circuit, v float64) { c.Storage.LeakOhm = v }},
-	"probe": {Name: "probe", Unit: "Ω", Series: "E12", Doc: "probe divider total resistance",
+	"probe": {Name: "probe", field: "ProbeOhm", Unit: "Ω", Series: "E12", Doc: "probe divider total resistance",
 		get: func(c *model.Circuit) float64 { return c.ProbeOhm },
 		set: func(c *model.Circuit, v float64) { c.ProbeOhm = v }},
-	"iq": {Name: "iq", Unit: "A", Doc: "supervisor quiescent current",
+	"iq": {Name: "iq", field: "Supervisor.QuiescentA", Unit: "A", Doc: "supervisor quiescent current",
 		get: func(c *model.Circuit) float64 { return c.Supervisor.QuiescentA },
 		set: func(c *model.Circuit, v float64) { c.Supervisor.QuiescentA = v }},
-	"period": {Name: "period", Unit: "s", Doc: "timer period",
+	"period": {Name: "period", field: "Trigger.PeriodS", Unit: "s", Doc: "timer period",
 		get: func(c *model.Circuit) float64 { return c.Trigger.PeriodS },
 		set: func(c *model.Circuit, v float64) { c.Trigger.PeriodS = v }},
-	"pulse": {Name: "pulse", Unit: "s", Doc: "timer pulse length",
+	"pulse": {Name: "pulse", field: "Trigger.PulseS", Unit: "s", Doc: "timer pulse length",
 		get: func(c *model.Circuit) float64 { return c.Trigger.PulseS },
 		set: func(c *model.Circuit, v float64) { c.Trigger.PulseS = v }},
 }
@@ -127,9 +130,14 @@ func ParseChange(s string) (Change, error) {
 }
 
 // Apply returns a copy of c with the changes made, and the irradiance g with any light
-// change made.
+// change made. A change of the trigger's turn-on voltage without one of its release
+// moves the release with it, keeping the hysteresis (on − off) the part has, as a
+// supervisor of another threshold would (common practice, no source); where that would
+// leave the release at or below 0 V, half the new turn-on voltage at most. Changes that
+// leave an unusable circuit are refused in the parts' own names.
 func Apply(c *model.Circuit, g float64, chs []Change) (*model.Circuit, float64, error) {
 	cc := *c
+	setOn, setOff := false, false
 	for _, ch := range chs {
 		if ch.Part == lightPart {
 			g = ch.Value
@@ -140,9 +148,55 @@ func Apply(c *model.Circuit, g float64, chs []Change) (*model.Circuit, float64, 
 			return nil, 0, err
 		}
 		p.set(&cc, ch.Value)
+		setOn = setOn || p.Name == "on"
+		setOff = setOff || p.Name == "off"
+	}
+	if setOn && !setOff {
+		if k := cc.Trigger.Kind; k == model.TriggerVoltage || k == model.TriggerHold {
+			delta := c.Trigger.OnV - c.Trigger.OffV
+			cc.Trigger.OffV = cc.Trigger.OnV - math.Min(delta, 0.5*cc.Trigger.OnV)
+		}
 	}
 	if err := cc.Validate(); err != nil {
-		return nil, 0, fmt.Errorf("whatif: after %v: %w", chs, err)
+		return nil, 0, &ChangeError{Changes: chs, Reason: inPartNames(err, &cc)}
 	}
 	return &cc, g, nil
+}
+
+// ChangeError refuses changes that leave a circuit that cannot be built, in the words
+// of the parts.
+type ChangeError struct {
+	Changes []Change
+	Reason  string // e.g. "off (4.40 V) must be below on (4.00 V)"
+}
+
+func (e *ChangeError) Error() string {
+	s := make([]string, len(e.Changes))
+	for i, ch := range e.Changes {
+		s[i] = ch.String()
+	}
+	return fmt.Sprintf("whatif: with %s: %s", strings.Join(s, ", "), e.Reason)
+}
+
+// inPartNames says what is wrong with a changed circuit in the names --set uses.
+func inPartNames(err error, c *model.Circuit) string {
+	var fe *model.FieldError
+	if !errors.As(err, &fe) {
+		return err.Error()
+	}
+	name := func(field string) string {
+		for _, p := range parts {
+			if p.field == field {
+				return fmt.Sprintf("%s (%s)", p.Name, units.Format(p.get(c), p.Unit))
+			}
+		}
+		return field
+	}
+	reason := fe.Reason
+	for _, p := range parts {
+		if p.field != "" && strings.Contains(reason, p.field) {
+			reason = strings.ReplaceAll(reason, p.field, name(p.field))
+		}
+	}
+	return name(fe.Field) + " " + reason
 }

@@ -1,6 +1,7 @@
 package whatif
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -40,6 +41,15 @@ func Evaluate(c *model.Circuit, g, sunHours float64) (Answer, error) {
 type Target struct {
 	Figure string
 	Value  float64
+}
+
+// String writes the target as ParseTarget reads it ("pulse=500 ms").
+func (t Target) String() string {
+	unit := units.Second
+	if t.Figure == "energy" {
+		unit = "J"
+	}
+	return t.Figure + "=" + units.Format(t.Value, unit)
 }
 
 // ParseTarget reads "pulse=0.5s", "period=30s", "charge=20s" or "energy=5mJ".
@@ -107,11 +117,17 @@ type Proposal struct {
 // present one reaches the target.
 var ErrUnreachable = errors.New("whatif: target not reachable")
 
+// ErrNeverFires is returned (wrapped) when the circuit fires for no value of the part
+// the search tried: the target is out of reach because of the light or the drains, not
+// because of the part.
+var ErrNeverFires = errors.New("whatif: the circuit never fires")
+
 // Search finds the value of part that makes the figure reach the target for c at
 // irradiance g, by bisection on a logarithmic scale within four decades of the present
 // value (the figure must change monotonically with the part there). It returns the exact
-// value and the neighbouring standard values of the part's E-series, each predicted.
-func Search(c *model.Circuit, g, sunHours float64, t Target, partName string) ([]Proposal, error) {
+// value and the neighbouring standard values of the part's E-series, each predicted. It
+// stops with ctx's error when ctx is done.
+func Search(ctx context.Context, c *model.Circuit, g, sunHours float64, t Target, partName string) ([]Proposal, error) {
 	p, err := LookupPart(partName)
 	if err != nil {
 		return nil, err
@@ -121,6 +137,9 @@ func Search(c *model.Circuit, g, sunHours float64, t Target, partName string) ([
 		return nil, fmt.Errorf("whatif: %s is %g in this circuit; set it first with --set", p.Name, x0)
 	}
 	eval := func(x float64) (float64, error) {
+		if err := ctx.Err(); err != nil {
+			return math.NaN(), err
+		}
 		cc := *c
 		p.set(&cc, x)
 		f, err := predict.Steady(&cc, g, nil)
@@ -136,19 +155,32 @@ func Search(c *model.Circuit, g, sunHours float64, t Target, partName string) ([
 		return nil, err
 	}
 	lo, hi, flo, found := 0.0, 0.0, 0.0, false
+	fired := !math.IsNaN(f0)
 	for _, dir := range []float64{+1, -1} {
 		px, pf := math.Log(x0), f0
 		for k := 1; k <= 14 && !found; k++ { // 2^14 ≈ 1.6e4: four decades
 			x := math.Log(x0) + dir*float64(k)*math.Ln2
 			fx, err := eval(math.Exp(x))
+			if ctx.Err() != nil {
+				return nil, ctx.Err()
+			}
 			if err != nil || math.IsNaN(fx) {
 				continue
 			}
+			fired = true
 			if !math.IsNaN(pf) && fx*pf <= 0 {
 				lo, hi, flo, found = px, x, pf, true
 			}
 			px, pf = x, fx
 		}
+	}
+	if !found && !fired {
+		why := ""
+		if f, err := predict.Steady(c, g, nil); err == nil && !math.IsNaN(f.EquilibriumV) {
+			why = fmt.Sprintf(": it settles at %s, below the trigger; more light, less drain or a lower trigger first", units.Format(f.EquilibriumV, units.Volt))
+		}
+		return nil, fmt.Errorf("%w at %.3g W/m² with any %s from %s to %s%s", ErrNeverFires, g, p.Name,
+			units.Format(x0/16384, p.Unit), units.Format(x0*16384, p.Unit), why)
 	}
 	if !found {
 		return nil, fmt.Errorf("%w by %s within ×1/16000…×16000 of %s", ErrUnreachable, p.Name, units.Format(x0, p.Unit))

@@ -1,8 +1,10 @@
 package whatif
 
 import (
+	"context"
 	"errors"
 	"math"
+	"strings"
 	"testing"
 
 	"capcycle/analyze/eseries"
@@ -76,7 +78,7 @@ func TestEvaluateDoubleCap(t *testing.T) {
 // table that bracket it.
 func TestSearchPeriod(t *testing.T) {
 	c := rc()
-	props, err := Search(c, 1000, 8, Target{"period", 30}, "cap")
+	props, err := Search(context.Background(), c, 1000, 8, Target{"period", 30}, "cap")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -116,7 +118,7 @@ func TestSearchHoldForPulse(t *testing.T) {
 	if part != "hold" {
 		t.Fatalf("default part for a hold trigger's pulse is %q", part)
 	}
-	props, err := Search(sc.Circuit, 600, 8, tg, part)
+	props, err := Search(context.Background(), sc.Circuit, 600, 8, tg, part)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -129,8 +131,38 @@ func TestSearchUnreachable(t *testing.T) {
 	c := rc()
 	// The pulse of this circuit is set by the load; no capacitance makes it a day long
 	// within four decades.
-	_, err := Search(c, 1000, 8, Target{"pulse", 86400}, "cap")
+	_, err := Search(context.Background(), c, 1000, 8, Target{"pulse", 86400}, "cap")
 	if !errors.Is(err, ErrUnreachable) {
 		t.Fatalf("err = %v, want ErrUnreachable", err)
+	}
+}
+
+// A circuit that fires for no value of the part says so, instead of calling the target
+// unreachable by that part.
+func TestSearchNeverFires(t *testing.T) {
+	c := rc()
+	c.Storage.LeakOhm = 1e6 // at 0.001 W/m² the cell gives 5 nA: it settles near 5 mV
+	_, err := Search(context.Background(), c, 0.001, 8, Target{Figure: "period", Value: 30}, "cap")
+	if !errors.Is(err, ErrNeverFires) {
+		t.Fatalf("error %v, want ErrNeverFires", err)
+	}
+}
+
+// Lowering the trigger below its release moves the release with it, keeping the
+// hysteresis; a change that leaves no valid circuit is refused in the parts' names.
+func TestApplyKeepsHysteresis(t *testing.T) {
+	c := rc()
+	on, off := c.Trigger.OnV, c.Trigger.OffV
+	cc, _, err := Apply(c, 100, []Change{{Part: "on", Value: off - 0.1}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got, want := cc.Trigger.OnV-cc.Trigger.OffV, math.Min(on-off, 0.5*(off-0.1)); math.Abs(got-want) > 1e-12 {
+		t.Errorf("hysteresis %v, want %v", got, want)
+	}
+	_, _, err = Apply(c, 100, []Change{{Part: "off", Value: on + 1}})
+	var ce *ChangeError
+	if !errors.As(err, &ce) || !strings.Contains(ce.Reason, "off (") || !strings.Contains(ce.Reason, "on (") {
+		t.Errorf("error %v: want the parts named", err)
 	}
 }

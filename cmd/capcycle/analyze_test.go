@@ -2,6 +2,7 @@ package main
 
 import (
 	"bytes"
+	"capcycle/analyze/analysis"
 	"context"
 	"encoding/json"
 	"os"
@@ -9,8 +10,6 @@ import (
 	"strconv"
 	"strings"
 	"testing"
-
-	"capcycle/analyze"
 )
 
 const wrenCapture = "../../testdata/captures/wren-rc-10min.csv"
@@ -29,11 +28,11 @@ func TestAnalyzeJSON(t *testing.T) {
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
-	var res analyze.Result
+	var res analysis.Result
 	if err := json.Unmarshal([]byte(out), &res); err != nil {
 		t.Fatal(err)
 	}
-	if res.Schema != analyze.Schema || len(res.Cycles) == 0 || res.Capacitance == nil || res.Capacitance.F.Origin != "flag" {
+	if res.Schema != analysis.Schema || len(res.Cycles) == 0 || res.Capacitance == nil || res.Capacitance.F.Origin != "flag" {
 		t.Fatalf("result: schema %q, %d cycles, capacitance %+v", res.Schema, len(res.Cycles), res.Capacitance)
 	}
 	if res.Cycles[0].EnergyJ == nil {
@@ -99,7 +98,7 @@ func TestAnalyzeForeignColumns(t *testing.T) {
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
-	var res analyze.Result
+	var res analysis.Result
 	if err := json.Unmarshal([]byte(out), &res); err != nil {
 		t.Fatal(err)
 	}
@@ -122,14 +121,14 @@ func TestAnalyzeProfileAndFlagOverride(t *testing.T) {
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
-	var res analyze.Result
+	var res analysis.Result
 	if err := json.Unmarshal([]byte(out), &res); err != nil {
 		t.Fatal(err)
 	}
 	if res.Capacitance == nil || res.Capacitance.F.Value != 0.1 || res.Capacitance.F.Origin != "flag" {
 		t.Errorf("capacitance %+v, want the flag's 0.1 F", res.Capacitance)
 	}
-	if res.Declared == nil || res.Declared.OnV == nil || res.Declared.ProbeOhm == nil || res.Source.Profile == "" {
+	if res.Declared == nil || res.Declared.OnV == 0 || res.Declared.ProbeOhm == 0 || res.Source.Profile == "" {
 		t.Errorf("declared %+v, profile %q: the profile's values are missing", res.Declared, res.Source.Profile)
 	}
 }

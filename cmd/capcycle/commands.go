@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"io"
+	"strings"
 	"text/tabwriter"
 )
 
@@ -33,13 +34,39 @@ func commands() []*command {
 	}
 }
 
+// aliases are other spellings of command names that are accepted as they are.
+var aliases = map[string]string{
+	"analyse": "analyze",
+}
+
 func lookup(name string) *command {
+	if a, ok := aliases[name]; ok {
+		name = a
+	}
 	for _, c := range commands() {
 		if c.name == name {
 			return c
 		}
 	}
 	return nil
+}
+
+// find is lookup with an error for an unknown name, suggesting the nearest command.
+func find(name string) (*command, error) {
+	if c := lookup(name); c != nil {
+		return c, nil
+	}
+	var names []string
+	for _, c := range commands() {
+		names = append(names, c.name)
+	}
+	if strings.HasPrefix(name, "-") {
+		return nil, usageErrorf("%s before a command: flags go after it (run \"capcycle help\")", name)
+	}
+	if s := suggest(name, names); s != "" {
+		return nil, usageErrorf("unknown command %q; did you mean %q? (run \"capcycle help\")", name, s)
+	}
+	return nil, usageErrorf("unknown command %q (run \"capcycle help\")", name)
 }
 
 func printHelp(w io.Writer) {
@@ -58,7 +85,8 @@ func printHelp(w io.Writer) {
 	}
 	tw.Flush()
 	fmt.Fprintln(w)
-	fmt.Fprintln(w, "Run \"capcycle COMMAND -h\" for a command's flags and examples.")
+	fmt.Fprintln(w, "Run \"capcycle COMMAND -h\" for a command's flags and examples; flags may come")
+	fmt.Fprintln(w, "before or after the arguments. \"capcycle --version\" prints the version.")
 	fmt.Fprintln(w, "Exit codes: 0 ok, 1 the work failed, 2 bad usage or bad input.")
 }
 

@@ -13,12 +13,14 @@ import (
 	"time"
 
 	"capcycle/analyze"
+	"capcycle/analyze/analysis"
+	"capcycle/analyze/model"
 	"capcycle/analyze/profile"
 	htmlreport "capcycle/analyze/report"
 	"capcycle/cmd/capcycle/demodata"
 	"capcycle/firmware-protocol/virtualboard"
+	"capcycle/firmware-protocol/wire"
 	"capcycle/logger"
-	"capcycle/logger/capture"
 )
 
 // demoCommand is "capcycle demo".
@@ -50,7 +52,7 @@ const (
 
 // demoThr is the burst threshold in counts at the board's oversampled resolution:
 // half of on_v - off_v at the storage node, through ADC0's divider; at least 8 counts.
-func demoThr(p *profile.Profile, rig *robotRig, ebits int) int {
+func demoThr(p *profile.Profile, rig *model.Rig, ebits int) int {
 	swing := p.Trigger.OnV - p.Trigger.OffV
 	if !(swing > 0) || !(rig.RefV > 0) {
 		return 8
@@ -77,7 +79,7 @@ type demoOutcome struct {
 	name     string
 	capture  string
 	bundle   htmlreport.Bundle
-	result   *analyze.Result
+	result   *analysis.Result
 	summary  *logger.Summary
 	verdict  string
 	finding  string // the first finding's message, or ""
@@ -86,12 +88,12 @@ type demoOutcome struct {
 }
 
 func runDemo(ctx context.Context, args []string, e *env) error {
-	fs := newFlags("demo", "[--out DIR] [--hours 24] [--board virtual|emulated] [--keep]", e.stderr,
+	fs := newFlags("demo", "[--out DIR] [--hours H] [--start HH:MM] [--board virtual|emulated] [--keep] [--speed X] [--seed N] [--scenario wren,fern]", e.stderr,
 		"capcycle demo",
 		"capcycle demo --out /tmp/demo --keep",
-		"capcycle demo --board emulated --hours 1 --start 10:00")
+		"capcycle demo --board emulated --hours 0.25 --start 10:00")
 	o := demoOptions{}
-	fs.StringVar(&o.out, "out", "capcycle-demo", "directory for the reports (an earlier demo's files there are replaced)")
+	outVar(fs, &o.out, "capcycle-demo", "directory for the reports (an earlier demo's files there are replaced)")
 	fs.Float64Var(&o.hours, "hours", 24, "model time to record per scenario, hours")
 	fs.StringVar(&o.start, "start", "00:00", "time of day (solar time, HH:MM) at which the robot is put on the sill, its storage empty")
 	fs.StringVar(&o.board, "board", "virtual", "the board that measures the model: virtual (in-process) or emulated (the firmware in simavr)")
@@ -184,7 +186,7 @@ func printOutcome(w io.Writer, out *demoOutcome, keep bool) {
 	r := out.result
 	full := 0
 	for _, c := range r.Cycles {
-		if c.Kind == "full" {
+		if c.Kind == analysis.CycleFull {
 			full++
 		}
 	}
@@ -213,7 +215,7 @@ func demoScenario(ctx context.Context, name string, o *demoOptions, capDir strin
 	if err != nil {
 		return nil, workErrorf("built-in profile: %w", err)
 	}
-	rig, err := rigFromProfile(p)
+	rig, err := model.RigFromProfile(p, wire.MaxChannels)
 	if err != nil {
 		return nil, workErrorf("%s: %w", name, err)
 	}
@@ -231,11 +233,7 @@ func demoScenario(ctx context.Context, name string, o *demoOptions, capDir strin
 	out.recordS = time.Since(t0).Seconds()
 
 	t1 := time.Now()
-	ebits := min(16, rig.Bits+demoExtraBits)
-	if emu != nil {
-		ebits = emulatedEBits
-	}
-	res, err := analyseDemo(p, rig, ebits, out.capture)
+	res, err := analyseDemo(ctx, p, out.capture)
 	if err != nil {
 		return nil, err
 	}
@@ -256,19 +254,10 @@ func demoScenario(ctx context.Context, name string, o *demoOptions, capDir strin
 	return out, nil
 }
 
-// analyseDemo runs the analysis and the later stages on a capture with the profile. (The
-// ADC step comes from the capture's channel line, so the night's hours at 0 V need no
-// help.)
-func analyseDemo(p *profile.Profile, rig *robotRig, ebits int, path string) (*analyze.Result, error) {
-	opts := &analyze.Options{Path: path, Profile: p.Name}
-	fromProfile(opts, p)
-	opts.Post = laterStages(p, opts, path, nil)
-	f, err := os.Open(path)
-	if err != nil {
-		return nil, workErrorf("%w", err)
-	}
-	defer f.Close()
-	res, err := analyze.Run(capture.NewReader(f, path), opts)
+// analyseDemo analyses a demo capture with its profile. (The ADC step comes from the
+// capture's channel line, so the night's hours at 0 V need no help.)
+func analyseDemo(ctx context.Context, p *profile.Profile, path string) (*analysis.Result, error) {
+	res, err := analyze.File(ctx, path, &analyze.Options{Profile: p, Declared: analyze.Declare(p)})
 	if err != nil {
 		return nil, workErrorf("%s: analysis: %w", p.Name, err)
 	}
@@ -284,8 +273,8 @@ func demoFlaws(seed uint64) boardFlaws {
 // recordVirtual runs the model behind a virtual board on a pseudo-terminal and records
 // it with the logger over the real serial stack until the model time is over and every
 // byte the board wrote has been read.
-func recordVirtual(ctx context.Context, rig *robotRig, p *profile.Profile, o *demoOptions, path string) (*logger.Summary, error) {
-	src, err := newModelSource(rig, o.hours*3600, demoFastHz)
+func recordVirtual(ctx context.Context, rig *model.Rig, p *profile.Profile, o *demoOptions, path string) (*logger.Summary, error) {
+	src, err := model.NewRigSource(rig, o.hours*3600, demoFastHz)
 	if err != nil {
 		return nil, workErrorf("%s: %w", rig.Name, err)
 	}
@@ -297,6 +286,9 @@ func recordVirtual(ctx context.Context, rig *robotRig, p *profile.Profile, o *de
 	bcfg.TxQueue = 4096
 	var written counter
 	bcfg.Tap = &written
+	if demoBoardHook != nil {
+		demoBoardHook(bcfg)
+	}
 	b, err := virtualboard.Open(bcfg)
 	if err != nil {
 		return nil, workErrorf("%s: %w", rig.Name, err)

@@ -11,6 +11,7 @@ import (
 	"strconv"
 	"time"
 
+	"capcycle/analyze/model"
 	"capcycle/analyze/profile"
 	"capcycle/firmware-protocol/emulator"
 	"capcycle/logger"
@@ -53,7 +54,7 @@ func prepareEmulated(ctx context.Context, status io.Writer) (*emulatedBoards, er
 // recordEmulated writes the model's node voltages as a waveform file, runs the real
 // firmware in simavr driven by it, and records the emulated board with the logger over
 // the real serial stack until the waveform ends.
-func recordEmulated(ctx context.Context, emu *emulatedBoards, rig *robotRig, p *profile.Profile, o *demoOptions, path string) (*logger.Summary, error) {
+func recordEmulated(ctx context.Context, emu *emulatedBoards, rig *model.Rig, p *profile.Profile, o *demoOptions, path string) (*logger.Summary, error) {
 	wave := filepath.Join(emu.dir, rig.Name+".wave")
 	if err := writeWaveform(wave, rig, o.hours*3600); err != nil {
 		return nil, workErrorf("%s: waveform: %w", rig.Name, err)
@@ -101,8 +102,8 @@ const waveTolV = 2e-3
 // writeWaveform samples the model of rig at the demo's fast rate and writes the points
 // a piecewise-linear waveform needs to stay within waveTolV of every sample (and at
 // least one a minute), in the emulator's format: time, then volts per input.
-func writeWaveform(path string, rig *robotRig, durationS float64) error {
-	src, err := newModelSource(rig, durationS, demoFastHz)
+func writeWaveform(path string, rig *model.Rig, durationS float64) error {
+	src, err := model.NewRigSource(rig, durationS, demoFastHz)
 	if err != nil {
 		return err
 	}

@@ -18,7 +18,7 @@ import (
 
 	"golang.org/x/net/html"
 
-	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/firmware-protocol/emulator"
 	"capcycle/logger/capture"
 )
@@ -39,7 +39,7 @@ func TestDemo(t *testing.T) {
 	}
 	t.Logf("demo printed:\n%s", stdout.String())
 
-	results := map[string]*analyze.Result{}
+	results := map[string]*analysis.Result{}
 	for _, name := range []string{"wren", "fern"} {
 		t.Run(name+"/capture", func(t *testing.T) {
 			rows, span := demoReadCapture(t, filepath.Join(dir, name+".capture.csv"))
@@ -52,7 +52,7 @@ func TestDemo(t *testing.T) {
 		if err != nil {
 			t.Fatalf("analysis JSON: %v", err)
 		}
-		var r analyze.Result
+		var r analysis.Result
 		if err := json.Unmarshal(raw, &r); err != nil {
 			t.Fatalf("%s.analysis.json does not parse: %v", name, err)
 		}
@@ -293,7 +293,7 @@ func TestDemoEmulated(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		var r analyze.Result
+		var r analysis.Result
 		if err := json.Unmarshal(raw, &r); err != nil {
 			t.Fatal(err)
 		}

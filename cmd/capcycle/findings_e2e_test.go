@@ -21,7 +21,7 @@ import (
 	"strings"
 	"testing"
 
-	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/model"
 	"capcycle/analyze/profile"
 )
@@ -31,7 +31,7 @@ const adcStepV = 5.0 / 1024 / 0.5
 
 // wantFinding returns the finding with the code, failing the test when it is absent or its
 // severity differs.
-func wantFinding(t *testing.T, res *analyze.Result, code, sev string) analyze.Finding {
+func wantFinding(t *testing.T, res *analysis.Result, code string, sev analysis.Severity) analysis.Finding {
 	t.Helper()
 	f, ok := findingsOf(res)[code]
 	if !ok {
@@ -48,7 +48,7 @@ func wantFinding(t *testing.T, res *analyze.Result, code, sev string) analyze.Fi
 }
 
 // onlyProblems fails when a warn or fault finding other than the allowed codes is raised.
-func onlyProblems(t *testing.T, res *analyze.Result, allowed ...string) {
+func onlyProblems(t *testing.T, res *analysis.Result, allowed ...string) {
 	t.Helper()
 	ok := map[string]bool{}
 	for _, a := range allowed {
@@ -62,7 +62,7 @@ func onlyProblems(t *testing.T, res *analyze.Result, allowed ...string) {
 }
 
 // num returns a finding's number, failing when it is missing.
-func numOf(t *testing.T, f analyze.Finding, key string) float64 {
+func numOf(t *testing.T, f analysis.Finding, key string) float64 {
 	t.Helper()
 	v, ok := f.Numbers[key]
 	if !ok {

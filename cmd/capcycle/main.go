@@ -16,6 +16,7 @@ import (
 	"io"
 	"os"
 	"os/signal"
+	"strings"
 )
 
 func main() {
@@ -40,26 +41,32 @@ func run(ctx context.Context, args []string, e *env) int {
 		return exitUsage
 	}
 	name := args[0]
-	if name == "help" || name == "-h" || name == "--help" || name == "-help" {
+	switch name {
+	case "help", "-h", "--help", "-help":
 		if len(args) > 1 {
-			if c := lookup(args[1]); c != nil {
-				return report(e, c.name, c.run(ctx, []string{"-h"}, e))
+			c, err := find(args[1])
+			if err != nil {
+				fmt.Fprintf(e.stderr, "capcycle: %v\n", err)
+				return exitUsage
 			}
-			fmt.Fprintf(e.stderr, "capcycle: unknown command %q (run \"capcycle help\")\n", args[1])
-			return exitUsage
+			return report(e, c.name, c.run(ctx, []string{"-h"}, e))
 		}
 		printHelp(e.stdout)
 		return exitOK
+	case "--version", "-version":
+		name, args = "version", args[:1]
 	}
-	c := lookup(name)
-	if c == nil {
-		fmt.Fprintf(e.stderr, "capcycle: unknown command %q (run \"capcycle help\")\n", name)
+	c, err := find(name)
+	if err != nil {
+		fmt.Fprintf(e.stderr, "capcycle: %v\n", err)
 		return exitUsage
 	}
 	return report(e, c.name, c.run(ctx, args[1:], e))
 }
 
 // report prints err as one line on stderr and returns the exit code it stands for.
+// The line starts "capcycle NAME: " once: a message that starts with the command's name
+// already (a package's own prefix, "analyze: ...") does not repeat it.
 func report(e *env, name string, err error) int {
 	if err == nil {
 		return exitOK
@@ -68,6 +75,14 @@ func report(e *env, name string, err error) int {
 	if code == exitOK { // -h / --help
 		return exitOK
 	}
-	fmt.Fprintf(e.stderr, "capcycle %s: %v\n", name, err)
+	fmt.Fprintf(e.stderr, "capcycle %s: %s\n", name, trimPrefix(err.Error(), name))
 	return code
+}
+
+// trimPrefix removes every leading "name: " from msg.
+func trimPrefix(msg, name string) string {
+	for strings.HasPrefix(msg, name+": ") {
+		msg = msg[len(name)+2:]
+	}
+	return msg
 }

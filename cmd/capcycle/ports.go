@@ -22,7 +22,7 @@ func portsCommand() *command {
 var listPorts = logger.Ports
 
 func runPorts(ctx context.Context, args []string, e *env) error {
-	fs := newFlags("ports", "[--probe]", e.stderr,
+	fs := newFlags("ports", "[--probe] [--baud N]", e.stderr,
 		"capcycle ports",
 		"capcycle ports --probe")
 	probe := fs.Bool("probe", false, "ask each USB port for a board identity (opening a port may reset its board)")

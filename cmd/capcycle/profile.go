@@ -11,6 +11,7 @@ import (
 	"strings"
 	"text/tabwriter"
 
+	"capcycle/analyze/model"
 	"capcycle/analyze/profile"
 	"capcycle/analyze/units"
 )
@@ -25,7 +26,7 @@ func profileCommand() *command {
 	}
 }
 
-const profileUsage = `usage: capcycle profile init [--kind voltage|timer|plateau] [-o FILE] [--force]
+const profileUsage = `usage: capcycle profile init [--kind voltage|timer|plateau] [--out FILE] [--force]
        capcycle profile check FILE
 
 A bench profile (TOML) describes one robot and its probe: the storage capacitor, the
@@ -41,7 +42,7 @@ take numbers or engineering notation ("4700u", "1meg", "2.7V").
 Run "capcycle profile init -h" or "capcycle profile check -h" for their flags.
 
 examples:
-  capcycle profile init --kind voltage -o wren.toml
+  capcycle profile init --kind voltage --out wren.toml
   capcycle profile check wren.toml
 `
 
@@ -64,17 +65,17 @@ func runProfile(ctx context.Context, args []string, e *env) error {
 }
 
 func profileInit(args []string, e *env) error {
-	fs := newFlags("profile init", "[--kind voltage|timer|plateau] [-o FILE] [--force]", e.stderr,
+	fs := newFlags("profile init", "[--kind voltage|timer|plateau] [--out FILE] [--force]", e.stderr,
 		"capcycle profile init > wren.toml",
-		"capcycle profile init --kind timer -o timer-rover.toml")
+		"capcycle profile init --kind timer --out timer-rover.toml")
 	kind := fs.String("kind", "voltage", "trigger kind of the template: "+strings.Join(profile.TemplateKinds, ", "))
-	out := fs.String("o", "-", "file to write; - is standard output")
+	out := outFlag(fs, "-", "file to write; - is standard output")
 	force := fs.Bool("force", false, "overwrite FILE if it exists")
 	if err := parseFlags(fs, args); err != nil {
 		return err
 	}
 	if fs.NArg() > 0 {
-		return usageErrorf("init takes no arguments, got %q (use -o FILE)", fs.Arg(0))
+		return usageErrorf("init takes no arguments, got %q (use --out FILE)", fs.Arg(0))
 	}
 	text := profile.Template(*kind)
 	if text == "" {
@@ -125,8 +126,39 @@ func profileCheck(args []string, e *env) error {
 		}
 		return inputError(err)
 	}
-	printProfile(e.stdout, fs.Arg(0), p, profile.Derive(p))
+	d := profile.Derive(p)
+	if g, at, ok := dayPeak(p); ok {
+		if w := profile.NeverFires(p, d, g, fmt.Sprintf("even at the windowsill day's brightest, %.3g W/m² at %s solar time (the [light] table),", g, clock(at))); w != "" {
+			d.Warnings = append(d.Warnings, w)
+		}
+	}
+	printProfile(e.stdout, fs.Arg(0), p, d)
 	return nil
+}
+
+// dayPeak returns the brightest irradiance of a windowsill [light] day (W/m²) and its
+// time (seconds from midnight, solar time), from the circuit model's light sampled every
+// minute; ok is false for any other light.
+func dayPeak(p *profile.Profile) (g, atS float64, ok bool) {
+	if p.Light == nil || p.Light.Kind != profile.Windowsill {
+		return 0, 0, false
+	}
+	_, light, err := model.FromProfile(p)
+	if err != nil || light == nil {
+		return 0, 0, false
+	}
+	for t := 0.0; t < 86400; t += 60 {
+		if x := light.IrradianceWm2(t); x > g {
+			g, atS = x, t
+		}
+	}
+	return g, atS, true
+}
+
+// clock formats seconds from midnight as HH:MM.
+func clock(s float64) string {
+	m := int(s / 60)
+	return fmt.Sprintf("%02d:%02d", m/60, m%60)
 }
 
 // printProfile writes the checked profile and its derived figures.
@@ -161,9 +193,13 @@ func printProfile(w io.Writer, file string, p *profile.Profile, d profile.Derive
 				F(ch.ShuntOhm, units.Ohm), ch.AmpGain, F(ch.VoltsPerAmp(), "V"), F(c.FullScaleA, "A"), F(c.LSBA, "A"), F(c.ExpectedA, "A"))
 			continue
 		}
-		row(fmt.Sprintf("channel %d: %s", c.ADC, c.Node), "ratio %.4g (%s / %s), full scale %s, %s per count, draws %s at %s",
+		pin := ""
+		if ch.PinF > 0 {
+			pin = fmt.Sprintf(", pin capacitor %s (the pin follows with τ %s)", F(ch.PinF, "F"), duration(c.PinTauS))
+		}
+		row(fmt.Sprintf("channel %d: %s", c.ADC, c.Node), "ratio %.4g (%s / %s), full scale %s, %s per count, draws %s at %s%s",
 			c.Ratio, F(ch.TopOhm, units.Ohm), F(ch.BottomOhm, units.Ohm), F(c.FullScaleV, "V"), F(c.LSBV, "V"),
-			F(c.LoadA, "A"), F(c.ExpectedV, "V"))
+			F(c.LoadA, "A"), F(c.ExpectedV, "V"), pin)
 	}
 	row("probe load on vcap", "%s at %s (%s across the capacitor; alone it would drain it with τ %s)",
 		F(d.ProbeLoadA, "A"), F(d.ProbeAtV, "V"), F(d.ProbeLoadOhm, units.Ohm), duration(d.ProbeTauS))
@@ -183,6 +219,7 @@ func printProfile(w io.Writer, file string, p *profile.Profile, d profile.Derive
 	row("first charge", "%s", orWhy(d.FirstChargeMinS, "s", "needs on_v", " at least, from 0 V at the rated Isc without losses"))
 	row("recharge", "%s", orWhy(d.RechargeMinS, "s", "needs on_v and off_v", " at least, from release at the rated Isc without losses"))
 	row("drain at on_v", "%s", orWhy(d.DrainAtOnA, "A", "needs on_v", " besides the load: probe, quiescent current, measured leakage"))
+	row("light", "%s", describeLight(p, d))
 	tw.Flush()
 	if len(d.Warnings) > 0 {
 		fmt.Fprintln(w, "\nworth a second look:")
@@ -223,6 +260,31 @@ func describeTrigger(t profile.Trigger) string {
 		fmt.Fprintf(&b, ", draws %s", F(t.QuiescentA, "A"))
 	}
 	return b.String()
+}
+
+// describeLight says what the [light] table gives the cell.
+func describeLight(p *profile.Profile, d profile.Derived) string {
+	F := units.Format
+	l := p.Light
+	switch {
+	case l == nil:
+		return "no [light] table (the virtual robot of robot and demo needs one)"
+	case l.Kind == profile.Windowsill:
+		s := fmt.Sprintf("a windowsill day, %s at %g°, the window facing %g°", l.Date, l.LatitudeDeg, l.AzimuthDeg)
+		if g, at, ok := dayPeak(p); ok {
+			voc, atOn, _ := profile.CellInLight(p, g)
+			s += fmt.Sprintf(": brightest %.3g W/m² at %s solar time, cell open-circuit voltage then about %s", g, clock(at), F(voc, "V"))
+			if !math.IsNaN(atOn) {
+				s += fmt.Sprintf(", at most %s at on_v", F(atOn, "A"))
+			}
+		}
+		return s
+	}
+	s := fmt.Sprintf("constant %g W/m²: cell open-circuit voltage about %s", l.IrradianceWm2, F(d.LightVocV, "V"))
+	if !math.IsNaN(d.LightCellA) {
+		s += fmt.Sprintf(", at most %s at on_v", F(d.LightCellA, "A"))
+	}
+	return s
 }
 
 func describeLoad(l profile.LoadSpec) string {

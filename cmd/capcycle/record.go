@@ -56,7 +56,7 @@ func newRecordFlags(w io.Writer) (*flag.FlagSet, *recordFlags) {
 	fs.IntVar(&f.baud, "baud", 115200, "serial speed, bits per second")
 	fs.BoolVar(&f.noDTR, "no-dtr", false, "open with DTR and RTS low (boards that should not reset on open)")
 	fs.StringVar(&f.profile, "profile", "", "bench profile (TOML): name, dividers, ADC reference")
-	fs.StringVar(&f.out, "out", "", "capture file (default: PROFILE-YYYYMMDD-HHMM.csv in the current directory)")
+	outVar(fs, &f.out, "", "capture file (default: PROFILE-YYYYMMDD-HHMM.csv in the current directory)")
 	fs.BoolVar(&f.force, "force", false, "replace an existing capture file")
 	fs.BoolVar(&f.append, "append", false, "continue an existing capture file (repairs a torn last line)")
 	fs.DurationVar(&f.duration, "duration", 0, "stop after this long (e.g. 90m, 8h); 0: until Ctrl-C")

@@ -10,7 +10,9 @@ import (
 	"testing"
 	"time"
 
+	"capcycle/analyze/model"
 	"capcycle/analyze/profile"
+	"capcycle/firmware-protocol/wire"
 	"capcycle/logger"
 	"capcycle/logger/loggertest"
 )
@@ -164,14 +166,14 @@ func TestRigCurrentInput(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	rig, err := rigFromProfile(p)
+	rig, err := model.RigFromProfile(p, wire.MaxChannels)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(rig.Nodes) != 2 || rig.Nodes[1] != nodeIload || rig.Div[1] != 1 || len(rig.VPerA) != 2 || rig.VPerA[1] != 20 {
+	if len(rig.Nodes) != 2 || rig.Nodes[1] != model.NodeIload || rig.Div[1] != 1 || len(rig.VPerA) != 2 || rig.VPerA[1] != 20 {
 		t.Fatalf("nodes %v div %v volts per amp %v; want [vcap iload], [0.5 1], [0 20]", rig.Nodes, rig.Div, rig.VPerA)
 	}
-	src, err := newModelSource(rig, 30, 500)
+	src, err := model.NewRigSource(rig, 30, 500)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -12,9 +12,8 @@ import (
 	"strings"
 
 	"capcycle/analyze"
-	"capcycle/analyze/profile"
+	"capcycle/analyze/analysis"
 	htmlreport "capcycle/analyze/report"
-	"capcycle/logger/capture"
 )
 
 // reportCommand is "capcycle report".
@@ -27,39 +26,16 @@ func reportCommand() *command {
 	}
 }
 
-// analyseCapture runs the analysis on a capture file, with the circuit's declared values
-// from the profile when one is given (the same merge as "capcycle analyze"). It is the
-// one place the report command reaches into the analysis pipeline.
-func analyseCapture(ctx context.Context, path, profilePath string) (*analyze.Result, error) {
-	opts := &analyze.Options{Path: path}
-	var p *profile.Profile
-	if profilePath != "" {
-		var err error
-		if p, err = profile.Load(profilePath); err != nil {
-			return nil, inputError(err)
-		}
-		fromProfile(opts, p)
-		opts.Profile = p.Name
-	}
-	// The later stages (prediction, held-out check, the model's cycle, findings): the
-	// same hook the other commands use. Without a profile it makes the findings that
-	// need no declared circuit, and the prediction stays null.
-	opts.Post = laterStages(p, opts, path, nil)
-	in, err := os.Open(path)
+// analyseCapture analyses a capture file, with the circuit's declared values from the
+// profile when one is given (as "capcycle analyze" does).
+func analyseCapture(ctx context.Context, path, profilePath string) (*analysis.Result, error) {
+	opts, err := analysisOptions(profilePath)
 	if err != nil {
-		return nil, inputError(fmt.Errorf("report: %w", err))
+		return nil, err
 	}
-	defer in.Close()
-	res, err := analyze.Run(capture.NewReader(in, path), opts)
+	res, err := analyze.File(ctx, path, opts)
 	if err != nil {
-		var pe *capture.ParseError
-		if errors.As(err, &pe) {
-			return nil, inputError(err)
-		}
-		return nil, workErrorf("report: %w", err)
-	}
-	if err := ctx.Err(); err != nil {
-		return nil, workErrorf("report: %w", err)
+		return nil, analysisError(err)
 	}
 	return res, nil
 }
@@ -67,12 +43,14 @@ func analyseCapture(ctx context.Context, path, profilePath string) (*analyze.Res
 func runReport(ctx context.Context, args []string, e *env) error {
 	fs := newFlags("report", "CAPTURE [B] [flags]  |  --from-json A.json [B.json] [flags]", e.stderr,
 		"capcycle report wren.csv --profile wren.toml",
-		"capcycle report wren.csv -o out/wren.html --force",
+		"capcycle report wren.csv --out wren-report.html --force",
 		"capcycle report --from-json wren.analysis.json",
-		"capcycle report before.csv after.csv -o compare.html",
-		"capcycle report --from-json before.analysis.json after.analysis.json -o compare.html")
-	out := fs.String("o", "", "the HTML file to write (default: beside the first input, named after it); for one input the analysis JSON and the cycle CSV are written beside it")
-	profile := fs.String("profile", "", "the bench profile (TOML) describing the circuit, for a capture")
+		"capcycle report before.csv after.csv --out compare.html",
+		"capcycle report wren.csv fern.csv --profile wren.toml --profile fern.toml --label-a Wren --label-b Fern",
+		"capcycle report --from-json before.analysis.json after.analysis.json --out compare.html")
+	out := outFlag(fs, "", "the HTML file to write (default: beside the first input, named after it); for one input the analysis JSON and the cycle CSV are written beside it")
+	profiles := &perInputFlag{Name: "profile"}
+	fs.Var(profiles, "profile", "the bench profile (TOML) describing the circuit, for a capture; for two captures give one for both or one each, in order")
 	force := fs.Bool("force", false, "replace report files that exist already (the capture is never written)")
 	fromJSON := fs.Bool("from-json", false, "the inputs are saved analysis JSON files (capcycle analyze --json), not captures")
 	labelA := fs.String("label-a", "before", "for two inputs: the name of the first")
@@ -88,12 +66,15 @@ func runReport(ctx context.Context, args []string, e *env) error {
 	default:
 		return usageErrorf("give one input for a report or two for a comparison, not %d", len(inputs))
 	}
-	results := make([]*analyze.Result, len(inputs))
+	if err := profiles.Check(len(inputs)); err != nil {
+		return err
+	}
+	results := make([]*analysis.Result, len(inputs))
 	for i, in := range inputs {
 		if *fromJSON {
 			results[i], err = readSavedAnalysis(in)
 		} else {
-			results[i], err = analyseCapture(ctx, in, *profile)
+			results[i], err = analyseCapture(ctx, in, profiles.ForInput(i))
 		}
 		if err != nil {
 			return err
@@ -107,32 +88,21 @@ func runReport(ctx context.Context, args []string, e *env) error {
 }
 
 // parseInterleaved parses flags that may come before, between or after the inputs
-// ("capcycle report A B -o compare.html") and returns the inputs in order.
+// ("capcycle report A B --out compare.html") and returns the inputs in order.
 func parseInterleaved(fs *flag.FlagSet, args []string) ([]string, error) {
-	var inputs []string
-	for {
-		if err := parseFlags(fs, args); err != nil {
-			return nil, err
-		}
-		rest := fs.Args()
-		if len(rest) == 0 {
-			return inputs, nil
-		}
-		if rest[0] == "--" {
-			return append(inputs, rest[1:]...), nil
-		}
-		inputs = append(inputs, rest[0])
-		args = rest[1:]
+	if err := parseFlags(fs, args); err != nil {
+		return nil, err
 	}
+	return fs.Args(), nil
 }
 
 // readSavedAnalysis reads a saved analysis JSON and checks its schema.
-func readSavedAnalysis(path string) (*analyze.Result, error) {
+func readSavedAnalysis(path string) (*analysis.Result, error) {
 	raw, err := os.ReadFile(path)
 	if err != nil {
 		return nil, inputError(fmt.Errorf("report: %w", err))
 	}
-	var r analyze.Result
+	var r analysis.Result
 	dec := json.NewDecoder(bytes.NewReader(raw))
 	if err := dec.Decode(&r); err != nil {
 		var se *json.SyntaxError
@@ -142,21 +112,21 @@ func readSavedAnalysis(path string) (*analyze.Result, error) {
 		}
 		return nil, inputError(fmt.Errorf("report: %s: not an analysis JSON: %w", path, err))
 	}
-	if r.Schema != analyze.Schema {
-		return nil, inputError(fmt.Errorf("report: %s: schema is %q, want %q (is it a capcycle analysis?)", path, r.Schema, analyze.Schema))
+	if r.Schema != analysis.Schema {
+		return nil, inputError(fmt.Errorf("report: %s: schema is %q, want %q (is it a capcycle analysis?)", path, r.Schema, analysis.Schema))
 	}
 	return &r, nil
 }
 
 // writeOne writes the report bundle of one input.
-func writeOne(e *env, input string, r *analyze.Result, out string, fromJSON bool, opts *htmlreport.Options) error {
+func writeOne(e *env, input string, r *analysis.Result, out string, fromJSON bool, opts *htmlreport.Options) error {
 	dir, base, err := bundleName(input, out, fromJSON)
 	if err != nil {
 		return err
 	}
 	b := htmlreport.BundlePaths(dir, base)
 	if fromJSON && samePath(b.JSON, input) {
-		return usageErrorf("the analysis JSON would be written over its own input %s; choose another -o", input)
+		return usageErrorf("the analysis JSON would be written over its own input %s; choose another --out", input)
 	}
 	if b, err = htmlreport.WriteBundle(dir, base, r, opts); err != nil {
 		var pe *htmlreport.PathError
@@ -164,7 +134,7 @@ func writeOne(e *env, input string, r *analyze.Result, out string, fromJSON bool
 		case errors.As(err, &pe) && errors.Is(err, htmlreport.ErrExists):
 			return usageErrorf("%s exists; use --force to replace it", pe.Path)
 		case errors.As(err, &pe):
-			return usageErrorf("%s is the capture itself: it is never written over; choose another -o", pe.Path)
+			return usageErrorf("%s is the capture itself: it is never written over; choose another --out", pe.Path)
 		}
 		return workErrorf("%w", err)
 	}
@@ -178,7 +148,7 @@ func writeOne(e *env, input string, r *analyze.Result, out string, fromJSON bool
 func bundleName(input, out string, fromJSON bool) (dir, base string, err error) {
 	if out != "" {
 		if !strings.HasSuffix(out, ".html") {
-			return "", "", usageErrorf("-o %s: the report's name must end in .html", out)
+			return "", "", usageErrorf("--out %s: the report's name must end in .html", out)
 		}
 		return filepath.Dir(out), strings.TrimSuffix(filepath.Base(out), ".html"), nil
 	}
@@ -192,18 +162,18 @@ func bundleName(input, out string, fromJSON bool) (dir, base string, err error) 
 }
 
 // writeComparison writes the comparison page of two inputs.
-func writeComparison(e *env, inputs []string, rs []*analyze.Result, out string, opts *htmlreport.Options) error {
+func writeComparison(e *env, inputs []string, rs []*analysis.Result, out string, opts *htmlreport.Options) error {
 	if out == "" {
 		a := strings.TrimSuffix(filepath.Base(inputs[0]), filepath.Ext(inputs[0]))
 		b := strings.TrimSuffix(filepath.Base(inputs[1]), filepath.Ext(inputs[1]))
 		out = filepath.Join(filepath.Dir(inputs[0]), a+"-vs-"+b+".html")
 	}
 	if !strings.HasSuffix(out, ".html") {
-		return usageErrorf("-o %s: the comparison's name must end in .html", out)
+		return usageErrorf("--out %s: the comparison's name must end in .html", out)
 	}
 	for i, in := range inputs {
 		if samePath(out, in) || samePath(out, rs[i].Source.Path) {
-			return usageErrorf("-o %s would write over the input %s", out, in)
+			return usageErrorf("--out %s would write over the input %s", out, in)
 		}
 	}
 	if _, err := os.Lstat(out); err == nil && !opts.Overwrite {

@@ -6,6 +6,8 @@ import (
 	"flag"
 	"fmt"
 	"io"
+	"math"
+	"strconv"
 	"strings"
 	"time"
 
@@ -14,6 +16,7 @@ import (
 	"capcycle/analyze/units"
 	"capcycle/cmd/capcycle/demodata"
 	"capcycle/firmware-protocol/virtualboard"
+	"capcycle/firmware-protocol/wire"
 )
 
 // robotCommand is "capcycle robot": the virtual robot on a pseudo-terminal.
@@ -29,7 +32,9 @@ func robotCommand() *command {
 // robotFlags are the flags of "capcycle robot"; the demo fills the same struct.
 type robotFlags struct {
 	scenario, profile string
-	speed, hours      float64
+	speed             speedValue
+	hours             float64
+	baud              int
 	seed              uint64
 	bits, ebits       int
 	noiseV            *units.Value
@@ -44,13 +49,14 @@ type robotFlags struct {
 func newRobotFlags(w io.Writer) (*flag.FlagSet, *robotFlags) {
 	fs := newFlags("robot", "[--scenario wren|fern | --profile P] [flags]", w,
 		"capcycle robot",
-		"capcycle robot --scenario fern --speed 1000 --hours 8",
+		"capcycle robot --scenario fern --hours 8 --start 08:00",
 		"capcycle robot --profile testdata/profiles/wren.toml --noise-v 5m --seed 4",
 		"capcycle robot --link /tmp/ttyWREN --start 10:00 &  capcycle record --port /tmp/ttyWREN --duration 5m")
-	f := &robotFlags{noiseV: units.NewValue(2e-3, units.Volt, units.NonNegative)}
+	f := &robotFlags{noiseV: units.NewValue(2e-3, units.Volt, units.NonNegative), speed: speedValue{auto: true}}
 	fs.StringVar(&f.scenario, "scenario", "", "built-in scenario: "+strings.Join(model.ScenarioNames(), " or ")+" (default wren when no --profile)")
 	fs.StringVar(&f.profile, "profile", "", "bench profile (TOML) whose circuit, light, ADC and channels the robot takes")
-	fs.Float64Var(&f.speed, "speed", 100, "how many times faster than real time the model runs; 0 runs as fast as the host reads (nothing is lost)")
+	fs.Var(&f.speed, "speed", "how many times faster than real time the model runs: auto is the fastest the serial link carries whatever the board sends; 0 runs as fast as the host reads (nothing is lost)")
+	fs.IntVar(&f.baud, "baud", 115200, "the emulated serial link's bits per second (8N1); at a speed above what it carries, the board drops frames and counts them")
 	fs.Float64Var(&f.hours, "hours", 24, "model time to run, hours")
 	fs.Uint64Var(&f.seed, "seed", 1, "seed of the board's noise and divider errors")
 	fs.IntVar(&f.bits, "bits", 0, "converter resolution, bits (default: the profile's, else 10)")
@@ -68,7 +74,7 @@ func newRobotFlags(w io.Writer) (*flag.FlagSet, *robotFlags) {
 }
 
 // rig picks the rig the flags ask for.
-func (f *robotFlags) rig() (*robotRig, error) {
+func (f *robotFlags) rig() (*model.Rig, error) {
 	if f.scenario != "" && f.profile != "" {
 		return nil, usageErrorf("give --scenario or --profile, not both")
 	}
@@ -77,7 +83,7 @@ func (f *robotFlags) rig() (*robotRig, error) {
 		if err != nil {
 			return nil, inputError(err)
 		}
-		rig, err := rigFromProfile(p)
+		rig, err := model.RigFromProfile(p, wire.MaxChannels)
 		if err != nil {
 			return nil, inputError(fmt.Errorf("%s: %w", f.profile, err))
 		}
@@ -91,7 +97,7 @@ func (f *robotFlags) rig() (*robotRig, error) {
 	if err != nil {
 		return nil, usageErrorf("--scenario: %v", err)
 	}
-	rig := rigFromScenario(sc)
+	rig := model.RigFromScene(sc)
 	// The board is wired as in the scenario's demo profile (Wren's vcell input, Fern's
 	// divider), when there is one.
 	if raw, err := demodata.Profile(strings.ToLower(name)); err == nil {
@@ -99,11 +105,11 @@ func (f *robotFlags) rig() (*robotRig, error) {
 		if err != nil {
 			return nil, workErrorf("built-in profile: %w", err)
 		}
-		w, err := rigFromProfile(p)
+		w, err := model.RigFromProfile(p, wire.MaxChannels)
 		if err != nil {
 			return nil, workErrorf("built-in profile: %w", err)
 		}
-		rig.Nodes, rig.Div, rig.VPerA, rig.Bits, rig.Ref, rig.RefV = w.Nodes, w.Div, w.VPerA, w.Bits, w.Ref, w.RefV
+		rig.Nodes, rig.Div, rig.VPerA, rig.Bits, rig.RefInternal, rig.RefV = w.Nodes, w.Div, w.VPerA, w.Bits, w.RefInternal, w.RefV
 	}
 	return rig, nil
 }
@@ -111,8 +117,8 @@ func (f *robotFlags) rig() (*robotRig, error) {
 // check rejects impossible values.
 func (f *robotFlags) check() error {
 	switch {
-	case f.speed < 0:
-		return usageErrorf("--speed %g: must not be negative", f.speed)
+	case f.baud <= 0:
+		return usageErrorf("--baud %d: must be more than zero", f.baud)
 	case !(f.hours > 0):
 		return usageErrorf("--hours %g: must be more than zero", f.hours)
 	case f.bits != 0 && (f.bits < 8 || f.bits > 16):
@@ -130,8 +136,9 @@ func (f *robotFlags) check() error {
 }
 
 // open makes the model source and the virtual board for the flags; the board is
-// open (its path exists) but not running.
-func (f *robotFlags) open(rig *robotRig) (*modelSource, *virtualboard.Board, error) {
+// open (its path exists) but not running. It returns the speed the board runs at (the
+// link's budget when --speed is auto) and the link budget of its boot settings.
+func (f *robotFlags) open(rig *model.Rig) (*model.RigSource, *virtualboard.Board, float64, virtualboard.LinkBudget, error) {
 	if f.bits != 0 {
 		rig.Bits = f.bits
 	}
@@ -139,25 +146,98 @@ func (f *robotFlags) open(rig *robotRig) (*modelSource, *virtualboard.Board, err
 	if rate == 0 {
 		rate = float64(f.fastHz)
 	}
-	src, err := newModelSource(rig, f.hours*3600, rate)
+	src, err := model.NewRigSource(rig, f.hours*3600, rate)
 	if err != nil {
-		return nil, nil, inputError(fmt.Errorf("robot %s: %w", rig.Name, err))
+		return nil, nil, 0, virtualboard.LinkBudget{}, inputError(fmt.Errorf("robot %s: %w", rig.Name, err))
 	}
 	ebits := f.ebits
 	if ebits == 0 {
 		ebits = min(16, rig.Bits+2)
 	}
 	cfg := boardConfig(rig, src, boardFlaws{EBits: ebits, NoiseV: f.noiseV.V, RefError: f.refError, DivTol: f.divTol, Seed: f.seed})
-	cfg.Speed, cfg.SlowHz, cfg.FastHz, cfg.Link = f.speed, f.slowHz, f.fastHz, f.link
-	// A deeper transmit queue than the board's default rides out a busy host for a
-	// tenth of a second at 100x real time and 100 Hz bursts; what overflows it is
-	// still dropped and counted, as on a real link.
+	cfg.SlowHz, cfg.FastHz, cfg.Link, cfg.Baud = f.slowHz, f.fastHz, f.link, f.baud
+	// A deeper transmit queue than the board's default holds a burst's pre-trigger
+	// ring whole; what the link cannot carry beyond it is dropped and counted.
 	cfg.TxQueue = 1024
+	lb, err := virtualboard.Budget(cfg)
+	if err != nil {
+		return nil, nil, 0, lb, usageErrorf("robot: %v", err)
+	}
+	cfg.Speed = f.speed.v
+	if f.speed.auto {
+		cfg.Speed = autoSpeed(lb.MaxSpeed)
+	}
 	b, err := virtualboard.Open(cfg)
 	if err != nil {
-		return nil, nil, usageErrorf("robot: %v", err)
+		return nil, nil, 0, lb, usageErrorf("robot: %v", err)
 	}
-	return src, b, nil
+	return src, b, cfg.Speed, lb, nil
+}
+
+// autoSpeed is the speed --speed auto picks: the link's highest, rounded down to two
+// significant digits.
+func autoSpeed(maxSpeed float64) float64 {
+	if !(maxSpeed > 0) || math.IsInf(maxSpeed, 0) {
+		return 1
+	}
+	p := math.Pow(10, math.Floor(math.Log10(maxSpeed))-1)
+	// Two digits, without the binary fraction's tail (2.3, not 2.3000000000000003).
+	v, _ := strconv.ParseFloat(strconv.FormatFloat(math.Floor(maxSpeed/p)*p, 'g', 2, 64), 64)
+	return v
+}
+
+// speedValue is the --speed flag: "auto" or a factor of real time, 0 or more.
+type speedValue struct {
+	auto bool
+	v    float64
+}
+
+func (s *speedValue) String() string {
+	if s == nil || s.auto {
+		return "auto"
+	}
+	return strconv.FormatFloat(s.v, 'g', -1, 64)
+}
+
+func (s *speedValue) Set(x string) error {
+	if strings.EqualFold(x, "auto") {
+		*s = speedValue{auto: true}
+		return nil
+	}
+	v, err := strconv.ParseFloat(x, 64)
+	if err != nil || v < 0 || math.IsNaN(v) || math.IsInf(v, 0) {
+		return fmt.Errorf("want auto or a factor of real time, 0 or more")
+	}
+	*s = speedValue{v: v}
+	return nil
+}
+
+// robotPace says how fast the robot runs and, when the link cannot carry what the
+// board may send at that speed, plainly what is lost.
+func robotPace(speed float64, auto bool, baud int, lb virtualboard.LinkBudget) []string {
+	if speed == 0 {
+		return []string{"as fast as the host reads (nothing is lost)"}
+	}
+	pace := fmt.Sprintf("%gx real time", speed)
+	if auto {
+		pace += fmt.Sprintf(" (the most a %d-baud link carries)", baud)
+	}
+	out := []string{pace}
+	if speed > lb.MaxSpeed {
+		out = append(out, fmt.Sprintf("at %gx real time the %d-baud link carries %s a model second, and the board can send %s a model second in a burst: "+
+			"frames the link cannot carry are dropped (counted below as dropped, and in the board's status frames; a recorder counts them as lost samples). "+
+			"--speed %g or lower carries every frame; --speed 0 runs as fast as the host reads",
+			speed, baud, robotBytes(lb.LinkBytesPerS/speed), robotBytes(lb.PeakBytesPerS), autoSpeed(lb.MaxSpeed)))
+	}
+	return out
+}
+
+// robotBytes prints a byte count.
+func robotBytes(n float64) string {
+	if n >= 1000 {
+		return fmt.Sprintf("%.3g kB", n/1000)
+	}
+	return fmt.Sprintf("%.3g bytes", n)
 }
 
 func runRobot(ctx context.Context, args []string, e *env) error {
@@ -178,7 +258,7 @@ func runRobot(ctx context.Context, args []string, e *env) error {
 	if rig.StartS, err = clockSeconds(f.start); err != nil {
 		return usageErrorf("--start: %v", err)
 	}
-	src, b, err := f.open(rig)
+	src, b, speed, lb, err := f.open(rig)
 	if err != nil {
 		return err
 	}
@@ -186,12 +266,12 @@ func runRobot(ctx context.Context, args []string, e *env) error {
 
 	// The path alone on stdout, so that a script can read one line.
 	fmt.Fprintln(e.stdout, b.Path())
-	pace := fmt.Sprintf("%gx real time", f.speed)
-	if f.speed == 0 {
-		pace = "as fast as the host reads"
-	}
+	pace := robotPace(speed, f.speed.auto, f.baud, lb)
 	fmt.Fprintf(e.stderr, "capcycle robot: %s on %s, %s, %g h of model time from %s; Ctrl-C stops\n",
-		rig.Name, b.Path(), pace, f.hours, f.start)
+		rig.Name, b.Path(), pace[0], f.hours, f.start)
+	for _, w := range pace[1:] {
+		fmt.Fprintf(e.stderr, "capcycle robot: %s\n", w)
+	}
 
 	runCtx, stop := context.WithCancel(ctx)
 	defer stop()
@@ -233,6 +313,11 @@ func runRobot(ctx context.Context, args []string, e *env) error {
 		}
 	}
 }
+
+// demoBoardHook, when a test sets it, adjusts the demo's virtual board configuration
+// just before the board opens: the test injects stalls into the board's clock and
+// source to show that the demo's verdicts do not depend on how busy the machine is.
+var demoBoardHook func(*virtualboard.Config)
 
 // robotStatusEvery is how often the status is shown: four times a second in place on a
 // terminal, every ten seconds as a plain line elsewhere.

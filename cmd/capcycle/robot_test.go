@@ -6,6 +6,7 @@ import (
 	"bufio"
 	"bytes"
 	"context"
+	"fmt"
 	"io"
 	"math"
 	"os"
@@ -30,17 +31,17 @@ func TestModelSourceFollowsModel(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	rig := rigFromScenario(sc)
-	rig.Nodes = []robotNode{nodeVcap, nodeVcell, nodeNone}
+	rig := model.RigFromScene(sc)
+	rig.Nodes = []model.Node{model.NodeVcap, model.NodeVcell, model.NodeNone}
 	rig.StartS = 12 * 3600 // noon: the sun is on the window and it fires
 	const dur, rate = 120.0, 20.0
-	src, err := newModelSource(rig, dur, rate)
+	src, err := model.NewRigSource(rig, dur, rate)
 	if err != nil {
 		t.Fatal(err)
 	}
 	// The same run through the plain simulator, sampled at the same rate.
 	var want []model.Sample
-	if _, err := model.Simulate(rig.Circuit, shiftLight(rig.Light, rig.StartS),
+	if _, err := model.Simulate(rig.Circuit, model.ShiftLight(rig.Light, rig.StartS),
 		&model.Options{DurationS: dur, RateHz: rate, StartV: rig.StartV, OnSample: func(s model.Sample) { want = append(want, s) }}); err != nil {
 		t.Fatal(err)
 	}
@@ -60,7 +61,7 @@ func TestModelSourceFollowsModel(t *testing.T) {
 			t.Fatalf("at %g s: got %g V, want the mean %g V", mid, v[0], m)
 		}
 	}
-	_, _, fires := src.progress()
+	_, _, fires := src.Progress()
 	if fires == 0 {
 		t.Error("no fire counted in two minutes of noon sun")
 	}
@@ -75,22 +76,22 @@ func TestRigFromProfile(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	rig, err := rigFromProfile(p)
+	rig, err := model.RigFromProfile(p, wire.MaxChannels)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(rig.Nodes) != 2 || rig.Nodes[0] != nodeVcap || rig.Nodes[1] != nodeVcell {
+	if len(rig.Nodes) != 2 || rig.Nodes[0] != model.NodeVcap || rig.Nodes[1] != model.NodeVcell {
 		t.Errorf("nodes %v, want [vcap vcell]", rig.Nodes)
 	}
 	// 1 MΩ over 1 MΩ on both channels (wren.toml).
 	if len(rig.Div) != 2 || rig.Div[0] != 0.5 || rig.Div[1] != 0.5 {
 		t.Errorf("dividers %v, want [0.5 0.5]", rig.Div)
 	}
-	if rig.Bits != 10 || rig.RefV != 5 || rig.Ref != wire.RefAVcc {
-		t.Errorf("ADC %d bits, %g V %s; want 10 bits, 5 V avcc", rig.Bits, rig.RefV, rig.Ref)
+	if rig.Bits != 10 || rig.RefV != 5 || rig.RefInternal {
+		t.Errorf("ADC %d bits, %g V, internal reference %v; want 10 bits, 5 V AVcc", rig.Bits, rig.RefV, rig.RefInternal)
 	}
 	p.Light = nil
-	if _, err := rigFromProfile(p); err == nil || !strings.Contains(err.Error(), "[light]") {
+	if _, err := model.RigFromProfile(p, wire.MaxChannels); err == nil || !strings.Contains(err.Error(), "[light]") {
 		t.Errorf("a profile without light: %v, want an error naming the [light] table", err)
 	}
 }
@@ -99,7 +100,7 @@ func TestRigFromProfile(t *testing.T) {
 // ADC0's divider. 10 bits on 5 V through a divider of 0.5: one LSB is 5/1024/0.5 =
 // 9.765625 mV at the node, so 2 mV rms is 0.2048 LSB.
 func TestBoardConfigNoise(t *testing.T) {
-	rig := &robotRig{Nodes: []robotNode{nodeVcap}, Div: []float64{0.5}, Bits: 10, Ref: wire.RefAVcc, RefV: 5}
+	rig := &model.Rig{Nodes: []model.Node{model.NodeVcap}, Div: []float64{0.5}, Bits: 10, RefV: 5}
 	cfg := boardConfig(rig, nil, boardFlaws{NoiseV: 2e-3})
 	if math.Abs(cfg.NoiseLSB-0.2048) > 1e-12 {
 		t.Errorf("NoiseLSB = %g, want 0.2048", cfg.NoiseLSB)
@@ -205,6 +206,8 @@ func TestRobotFlags(t *testing.T) {
 		{"robot", "--scenario", "nosuch"},
 		{"robot", "--hours", "0"},
 		{"robot", "--speed", "-1"},
+		{"robot", "--speed", "fast"},
+		{"robot", "--baud", "0"},
 		{"robot", "--start", "25:00"},
 		{"robot", "extra"},
 	} {
@@ -220,11 +223,11 @@ func TestRobotFlags(t *testing.T) {
 func TestScenarioWiring(t *testing.T) {
 	for _, c := range []struct {
 		name  string
-		nodes []robotNode
+		nodes []model.Node
 		div0  float64
 	}{
-		{"wren", []robotNode{nodeVcap, nodeVcell}, 0.5},
-		{"fern", []robotNode{nodeVcap}, 1.0 / 3.2},
+		{"wren", []model.Node{model.NodeVcap, model.NodeVcell}, 0.5},
+		{"fern", []model.Node{model.NodeVcap}, 1.0 / 3.2},
 	} {
 		f := &robotFlags{scenario: c.name}
 		rig, err := f.rig()
@@ -237,5 +240,108 @@ func TestScenarioWiring(t *testing.T) {
 		if math.Abs(rig.Div[0]-c.div0) > 1e-12 {
 			t.Errorf("%s: ADC0 divider %g, want %g", c.name, rig.Div[0], c.div0)
 		}
+	}
+}
+
+// TestRobotSpeedAuto: by default the robot runs at the fastest speed its serial link
+// carries at the board's boot settings, and says so; a speed above it is said plainly
+// to drop frames.
+func TestRobotSpeedAuto(t *testing.T) {
+	fs, f := newRobotFlags(io.Discard)
+	if err := parseFlags(fs, []string{"--scenario", "wren"}); err != nil {
+		t.Fatal(err)
+	}
+	rig, err := f.rig()
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, b, speed, lb, err := f.open(rig)
+	if err != nil {
+		t.Fatal(err)
+	}
+	b.Close()
+	// Wren's board: 2 channels at 12 bits (10 + 2 oversampled), 100 Hz fast, 10 Hz
+	// slow. A burst's S frame is at most 41 bytes ("!S 4294967295 4294967295 4095
+	// 4095 *XXXX\n"), so 4100 bytes a model second from the bursts alone, and a
+	// 115200-baud 8N1 link carries 11520 bytes a second: below 2.81x real time.
+	if !f.speed.auto || lb.LinkBytesPerS != 11520 || lb.PeakBytesPerS < 4100 {
+		t.Fatalf("auto %v, budget %+v", f.speed.auto, lb)
+	}
+	if speed > lb.MaxSpeed || speed < 0.9*lb.MaxSpeed || lb.MaxSpeed > 11520.0/4100 {
+		t.Errorf("auto speed %g; the link carries up to %g", speed, lb.MaxSpeed)
+	}
+	if p := robotPace(speed, true, 115200, lb); len(p) != 1 || !strings.Contains(p[0], "the most a 115200-baud link carries") {
+		t.Errorf("pace at the auto speed: %q", p)
+	}
+	p := robotPace(100, false, 115200, lb)
+	if len(p) != 2 || !strings.Contains(p[1], "dropped") || !strings.Contains(p[1], fmt.Sprintf("--speed %g or lower", speed)) {
+		t.Errorf("pace at 100x says %q; want a plain word on the dropped frames and the speed that carries them", p)
+	}
+	for _, c := range []struct{ in, want float64 }{{2.81, 2.8}, {0.347, 0.34}, {57.9, 57}, {1234, 1200}} {
+		if got := autoSpeed(c.in); got != c.want {
+			t.Errorf("autoSpeed(%g) = %g, want %g", c.in, got, c.want)
+		}
+	}
+}
+
+// TestRobotTooFastSaysWhatItDrops runs the robot at 100x real time, well above what
+// its link carries, with the recorder on the port: the robot says at start that frames
+// will be dropped, counts them in its last status line, and the recorder counts the
+// dropped samples as lost.
+func TestRobotTooFastSaysWhatItDrops(t *testing.T) {
+	stdoutR, stdoutW := io.Pipe()
+	stderr := &loggertest.Buffer{}
+	ctx, cancel := context.WithTimeout(context.Background(), time.Minute) // a guard against a hang
+	defer cancel()
+	args := []string{"robot", "--scenario", "wren", "--speed", "100", "--hours", "0.05", "--start", "12:00", "--linger", "300ms"}
+	code := make(chan int, 1)
+	go func() {
+		code <- run(ctx, args, &env{stdin: strings.NewReader(""), stdout: stdoutW, stderr: stderr})
+		stdoutW.Close()
+	}()
+	line, err := bufio.NewReader(stdoutR).ReadString('\n')
+	if err != nil {
+		t.Fatalf("no path on stdout: %v; stderr: %s", err, stderr.String())
+	}
+	go io.Copy(io.Discard, stdoutR)
+	out := filepath.Join(t.TempDir(), "robot.csv")
+	recCtx, stopRec := context.WithCancel(ctx)
+	defer stopRec()
+	type rec struct {
+		s   *logger.Summary
+		err error
+	}
+	recDone := make(chan rec, 1)
+	go func() {
+		s, err := logger.Record(recCtx, &logger.Config{Port: strings.TrimSpace(line), Out: out, Channels: 2})
+		recDone <- rec{s, err}
+	}()
+	if c := <-code; c != 0 {
+		t.Fatalf("robot: exit %d: %s", c, stderr.String())
+	}
+	stopRec()
+	r := <-recDone
+	if r.err != nil {
+		t.Fatalf("record: %v", r.err)
+	}
+	msg := stderr.String()
+	if !strings.Contains(msg, "frames the link cannot carry are dropped") {
+		t.Errorf("the robot did not say that 100x drops frames:\n%s", msg)
+	}
+	lines := strings.Split(strings.TrimSpace(msg), "\n")
+	var last string
+	for _, l := range lines {
+		if strings.Contains(l, " frames") && strings.Contains(l, "model ") {
+			last = l
+		}
+	}
+	var dropped int
+	if i := strings.Index(last, "("); i < 0 {
+		t.Fatalf("the last status line %q counts no dropped frames", last)
+	} else if _, err := fmt.Sscanf(last[i:], "(%d dropped", &dropped); err != nil || dropped == 0 {
+		t.Fatalf("the last status line %q: want a count of dropped frames (%v)", last, err)
+	}
+	if r.s.Stats.Lost == 0 || r.s.Stats.Lost > int64(dropped) {
+		t.Errorf("the recorder counted %d lost samples; the board dropped %d frames", r.s.Stats.Lost, dropped)
 	}
 }

@@ -16,14 +16,14 @@ func BenchmarkModelSource(b *testing.B) {
 	if err != nil {
 		b.Fatal(err)
 	}
-	rig := rigFromScenario(sc)
-	rig.Nodes, rig.Div = []robotNode{nodeVcap, nodeVcell}, []float64{0.5, 0.5}
+	rig := model.RigFromScene(sc)
+	rig.Nodes, rig.Div = []model.Node{model.NodeVcap, model.NodeVcell}, []float64{0.5, 0.5}
 	rig.StartS = 12 * 3600
 	const dur, hz = 3600.0, 50.0
 	var base, adapted time.Duration
 	for b.Loop() {
 		t0 := time.Now()
-		sp, err := model.NewSampler(rig.Circuit, shiftLight(rig.Light, rig.StartS), &model.Options{DurationS: dur, RateHz: hz})
+		sp, err := model.NewSampler(rig.Circuit, model.ShiftLight(rig.Light, rig.StartS), &model.Options{DurationS: dur, RateHz: hz})
 		if err != nil {
 			b.Fatal(err)
 		}
@@ -33,7 +33,7 @@ func BenchmarkModelSource(b *testing.B) {
 			}
 		}
 		t1 := time.Now()
-		src, err := newModelSource(rig, dur, hz)
+		src, err := model.NewRigSource(rig, dur, hz)
 		if err != nil {
 			b.Fatal(err)
 		}

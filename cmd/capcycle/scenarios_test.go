@@ -6,6 +6,7 @@ package main
 // and findings) exactly as "capcycle analyze --profile" runs them.
 
 import (
+	"context"
 	"math"
 	"math/rand/v2"
 	"os"
@@ -15,6 +16,7 @@ import (
 	"time"
 
 	"capcycle/analyze"
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/model"
 	"capcycle/analyze/profile"
 	"capcycle/logger/capture"
@@ -125,29 +127,15 @@ func simulate(t *testing.T, c *model.Circuit, light model.Light, durS, rateHz, s
 	return r
 }
 
-// optionsFor fills the analysis options the way "capcycle analyze --profile" does, with
-// the later stages as the Post hook.
+// optionsFor fills the analysis options the way "capcycle analyze --profile" does.
 func optionsFor(p *profile.Profile) *analyze.Options {
-	o := &analyze.Options{Path: "generated"}
-	fromProfile(o, p)
-	o.Profile = p.Name
-	o.Post = laterStages(p, o, "", nil)
-	return o
+	return &analyze.Options{Path: "generated", Profile: p, Declared: analyze.Declare(p)}
 }
 
-// analyse runs the analysis and the later stages on the samples.
-func analyse(t *testing.T, p *profile.Profile, r *genRun) *analyze.Result {
+// analyse runs the whole analysis (with the later stages) on the samples.
+func analyse(t *testing.T, p *profile.Profile, r *genRun) *analysis.Result {
 	t.Helper()
-	o := optionsFor(p)
-	res := analyze.RunSamples(r.t, r.v, o)
-	// analyze.RunSamples does not call Options.Post (analyze.Run does); run the later
-	// stages here as Run would, once.
-	if res.Prediction == nil && len(res.Findings) == 0 {
-		if err := o.Post(res); err != nil {
-			t.Fatal(err)
-		}
-	}
-	return res
+	return analyze.RunSamples(r.t, r.v, optionsFor(p))
 }
 
 // captureGap is a stretch cut out of a capture file: the rows with FromS < t < ToS are not
@@ -206,19 +194,11 @@ func writeCapture(t *testing.T, p *profile.Profile, b board, r *genRun, gaps []c
 	return path
 }
 
-// analyseFile runs "capcycle analyze"'s own path: analyze.Run on the capture file, with the
-// later stages (the held-out check included, as the command does).
-func analyseFile(t *testing.T, p *profile.Profile, path string) *analyze.Result {
+// analyseFile runs "capcycle analyze"'s own path: analyze.File on the capture file (the
+// held-out check included).
+func analyseFile(t *testing.T, p *profile.Profile, path string) *analysis.Result {
 	t.Helper()
-	f, err := os.Open(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	o := optionsFor(p)
-	o.Path = path
-	o.Post = laterStages(p, o, path, nil)
-	res, err := analyze.Run(capture.NewReader(f, path), o)
+	res, err := analyze.File(context.Background(), path, optionsFor(p))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -226,8 +206,8 @@ func analyseFile(t *testing.T, p *profile.Profile, path string) *analyze.Result 
 }
 
 // findingsOf indexes the findings by code.
-func findingsOf(res *analyze.Result) map[string]analyze.Finding {
-	m := map[string]analyze.Finding{}
+func findingsOf(res *analysis.Result) map[string]analysis.Finding {
+	m := map[string]analysis.Finding{}
 	for _, f := range res.Findings {
 		m[f.Code] = f
 	}
@@ -269,7 +249,7 @@ func variant(t *testing.T, name, text string, pairs []string, extra string) *pro
 }
 
 // logFindings writes the findings to the test log (seen with -v or on failure).
-func logFindings(t *testing.T, res *analyze.Result) {
+func logFindings(t *testing.T, res *analysis.Result) {
 	t.Helper()
 	full := 0
 	for _, c := range res.Cycles {

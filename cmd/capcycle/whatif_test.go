@@ -1,19 +1,20 @@
 package main
 
 import (
+	"capcycle/analyze/whatif"
 	"encoding/json"
 	"math"
 	"strings"
 	"testing"
 )
 
-func whatifJSON(t *testing.T, args ...string) whatifAnswer {
+func whatifJSON(t *testing.T, args ...string) whatif.Report {
 	t.Helper()
 	code, out, errs := runCmd(t, append([]string{"whatif", "--json"}, args...)...)
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
-	var a whatifAnswer
+	var a whatif.Report
 	if err := json.Unmarshal([]byte(out), &a); err != nil {
 		t.Fatalf("%v\n%s", err, out)
 	}

@@ -66,12 +66,24 @@ type Config struct {
 
 	// Speed is how fast world time runs against the wall clock: 1 real time, 100 a
 	// hundred times faster. While no host has the port open, frames are lost as on a
-	// real link, and a full transmit queue drops frames (the ST drop count).
+	// real link; with Baud set, frames the link cannot carry are dropped (the ST drop
+	// count). The board paces itself by world time: it never drops a frame because
+	// the host or the machine is slow; it waits, and when it falls behind the wall
+	// clock by more than maxLag it lets world time slip (Stats.SlipS) rather than
+	// rush to catch up.
 	// 0 (the default) runs as fast as the host reads: nothing is lost, and the board
 	// waits while no host has the port open.
 	Speed float64
+	// Baud is the serial link's bits per second (8N1: 10 bits a byte) at Speed > 0:
+	// the link carries Baud/10 bytes a wall second, so Baud/(10*Speed) a world
+	// second, and a frame made while TxQueue frames wait for the line is dropped.
+	// Budget says up to which Speed nothing is. Default 0: a link of unlimited speed.
+	Baud int
 	// TxQueue is how many frames the transmit queue holds. Default 64.
 	TxQueue int
+	// Clock is the wall clock Speed > 0 paces against. Default the system clock; a
+	// test gives one that stalls or jumps.
+	Clock Clock
 	// BitErrorRate is the chance that a byte on the wire has one bit flipped. Default 0.
 	BitErrorRate float64
 
@@ -88,13 +100,31 @@ type Config struct {
 type Stats struct {
 	Frames    int64 // frames written to the pseudo-terminal (garbage excluded)
 	Samples   int64 // S and A frames made (sequence numbers used)
-	Dropped   int64 // frames not sent because the transmit queue was full
+	Dropped   int64 // frames not sent because the emulated link's transmit queue was full (Config.Baud)
 	Discarded int64 // frames lost because no host had the port open, or from before a reset
 	Corrupted int64 // frames sent with flipped bits
 	Bursts    int64
 	Boots     int64
 	Commands  int64 // commands received, bad ones included
+	// SlipS is the world time, in seconds, that the board let slip at Speed > 0
+	// because it had fallen behind the wall clock (a busy machine, a slow host).
+	SlipS float64
 }
+
+// Clock is a wall clock: what Speed > 0 paces against.
+type Clock interface {
+	Now() time.Time
+	Sleep(d time.Duration)
+}
+
+type systemClock struct{}
+
+func (systemClock) Now() time.Time        { return time.Now() }
+func (systemClock) Sleep(d time.Duration) { time.Sleep(d) }
+
+// maxLag is how far, in wall time, the board may fall behind its pace before it lets
+// world time slip instead of catching up.
+const maxLag = 100 * time.Millisecond
 
 // Board is a virtual capcycle ADC board on a pseudo-terminal.
 type Board struct {
@@ -119,6 +149,12 @@ type Board struct {
 	cmds   chan cmdItem
 	drop   uint32 // the ST drop counter, since boot
 	runGen uint64 // the generation Run is producing for (Run goroutine only)
+	// Run goroutine only: the world time of the event being made, the emulated
+	// link (nil: unlimited), and the current port's done channel.
+	curW    float64
+	link    *link
+	curDone <-chan struct{}
+	slip    atomic.Uint64 // math.Float64bits of Stats.SlipS
 
 	frames, samples, dropped, discarded, corrupted, commands, boots, bursts atomic.Int64
 	pending                                                                 atomic.Int64 // items queued and not yet written or lost
@@ -202,6 +238,9 @@ func (b *Board) defaults() error {
 	def(&c.Pre, 32)
 	def(&c.Post, 32)
 	def(&c.TxQueue, 64)
+	if c.Clock == nil {
+		c.Clock = systemClock{}
+	}
 	c.Thr, c.Pre = max(c.Thr, 0), max(c.Pre, 0)
 	if c.FastHz == 0 && c.Channels >= 1 && c.Channels <= wire.MaxChannels && c.EBits >= c.Bits && c.SlowHz > 0 {
 		// 500 Hz, or the fastest multiple of SlowHz the channels and bits allow.
@@ -226,8 +265,8 @@ func (b *Board) defaults() error {
 		return fmt.Errorf("virtualboard: Thr %d, Pre %d (<= %d), Post %d (>= 1) out of range", c.Thr, c.Pre, maxPre, c.Post)
 	case c.Ref != wire.RefAVcc && c.Ref != wire.RefInternal && c.Ref != wire.RefExternal:
 		return fmt.Errorf("virtualboard: unknown reference %q", c.Ref)
-	case c.Speed < 0 || c.BitErrorRate < 0 || c.BitErrorRate > 1 || c.NoiseLSB < 0 || c.DivTolerance < 0 || c.DivTolerance >= 1:
-		return errors.New("virtualboard: Speed, NoiseLSB, BitErrorRate and DivTolerance must not be negative")
+	case c.Speed < 0 || c.Baud < 0 || c.BitErrorRate < 0 || c.BitErrorRate > 1 || c.NoiseLSB < 0 || c.DivTolerance < 0 || c.DivTolerance >= 1:
+		return errors.New("virtualboard: Speed, Baud, NoiseLSB, BitErrorRate and DivTolerance must not be negative")
 	}
 	div := make([]float64, wire.MaxChannels)
 	for k := range div {
@@ -289,7 +328,7 @@ func (b *Board) Path() string {
 func (b *Board) Stats() Stats {
 	return Stats{Frames: b.frames.Load(), Samples: b.samples.Load(), Dropped: b.dropped.Load(),
 		Discarded: b.discarded.Load(), Corrupted: b.corrupted.Load(), Bursts: b.bursts.Load(),
-		Boots: b.boots.Load(), Commands: b.commands.Load()}
+		Boots: b.boots.Load(), Commands: b.commands.Load(), SlipS: math.Float64frombits(b.slip.Load())}
 }
 
 // Unplug pulls the USB cable: the pseudo-terminal closes (a host's open port fails
@@ -412,32 +451,37 @@ func (b *Board) send(f wire.Frame) {
 			}
 		}
 	}
+	if b.link != nil && !b.link.accept(b.curW, len(buf)) {
+		b.drop++
+		b.dropped.Add(1)
+		return
+	}
 	if flip {
 		b.corrupted.Add(1)
 	}
 	b.queue(txItem{gen: b.runGen, b: buf, frame: true})
 }
 
-// queue hands an item to the writer: at Speed 0 it waits for room (or the end of
-// Run), otherwise a full queue drops the item.
+// queue hands an item to the writer and waits for room (or the end of Run). At
+// Speed > 0 it also gives up when the port closes (the item is lost, as on a pulled
+// cable); what the emulated link cannot carry was dropped before, in world time.
 func (b *Board) queue(it txItem) {
 	b.pending.Add(1)
+	done := b.curDone
 	if b.cfg.Speed == 0 {
-		select {
-		case b.txq <- it:
-		case <-b.runCtx.Done():
-			b.pending.Add(-1)
-		case <-b.closedCh:
-			b.pending.Add(-1)
-		}
-		return
+		done = nil
 	}
 	select {
 	case b.txq <- it:
-	default:
+	case <-b.runCtx.Done():
 		b.pending.Add(-1)
-		b.drop++
-		b.dropped.Add(1)
+	case <-b.closedCh:
+		b.pending.Add(-1)
+	case <-done:
+		b.pending.Add(-1)
+		if it.frame {
+			b.discarded.Add(1)
+		}
 	}
 }
 

@@ -318,22 +318,29 @@ func TestResetAndFaults(t *testing.T) {
 }
 
 func TestRealTimePace(t *testing.T) {
-	if testing.Short() {
-		t.Skip("real-time run")
-	}
-	// At Speed 20, 4 world seconds take 0.2 s of wall time: 40 A frames.
-	b := startBoard(t, &Config{Source: constant(1, 1e6), Speed: 20})
-	h := openHost(t, b.Path())
-	start := time.Now()
+	// At Speed 20, 4 world seconds take 0.2 s of the board's wall clock: no frame
+	// reaches the host before its time, and the run ends when the clock has moved
+	// 0.2 s (within a round's sleep). The clock moves only when the board sleeps on
+	// it, so the test measures the pace, not the machine.
+	clk := newStallClock(0, 0)
+	t0 := clk.Now()
+	b, h, done := runBoard(t, &Config{Source: constant(1, 4), Speed: 20, Clock: clk})
 	n := 0
-	for n < 40 {
-		if _, ok := h.next().(wire.Average); ok {
-			n++
+	readAll(t, b, h, done, func(f wire.Frame) {
+		a, ok := f.(wire.Average)
+		if !ok {
+			return
 		}
-	}
-	// The host opened the port after boot, so some frames were lost; only the pace matters.
-	if el := time.Since(start); el < 150*time.Millisecond || el > 2*time.Second {
-		t.Errorf("40 A frames at Speed 20 took %v, want about 0.2 s", el)
+		n++
+		// The host reads after the board made the frame, so the clock must already
+		// be past the frame's last fast sample.
+		last := float64(a.TimeUS)/1e6 + float64(a.N-1)/500
+		if el := clk.Now().Sub(t0).Seconds(); el < last/20 {
+			t.Errorf("A seq %d (to %.3f s of world time) read at %.3f s of wall time: ahead of its pace", a.Seq, last, el)
+		}
+	})
+	if el := clk.Now().Sub(t0); n != 40 || el < 200*time.Millisecond || el > 200*time.Millisecond+2*tick {
+		t.Errorf("%d A frames, the clock moved %v; want 40 in 0.2 s", n, el)
 	}
 }
 
@@ -367,8 +374,12 @@ func TestFramesLostWithoutHost(t *testing.T) {
 	// At Speed > 0 frames made while no host has the port open are lost, as on a real
 	// link; the board counts them, and the Tap sees only what went out.
 	var tap syncBuffer
-	b := startBoard(t, &Config{Source: constant(1, 1e6), Speed: 50, Tap: &tap})
-	time.Sleep(200 * time.Millisecond) // 10 world seconds: about 100 A frames
+	// The board's clock moves only as it sleeps, so the board makes frames with no
+	// host however busy the machine; the test waits for 50 of them to be lost.
+	b := startBoard(t, &Config{Source: constant(1, 1e6), Speed: 50, Tap: &tap, Clock: newStallClock(0, 0)})
+	for b.Stats().Discarded < 50 {
+		time.Sleep(time.Millisecond)
+	}
 	h := openHost(t, b.Path())
 	fs := h.until(isTag("A"))
 	if st := b.Stats(); st.Discarded < 50 {
@@ -378,7 +389,7 @@ func TestFramesLostWithoutHost(t *testing.T) {
 		t.Errorf("first A the host saw has seq %d, want the ones before lost", a.Seq)
 	}
 	// The tap gets the bytes just after the pseudo-terminal took them.
-	for i := 0; i < 100 && tap.Len() == 0; i++ {
+	for tap.Len() == 0 {
 		time.Sleep(time.Millisecond)
 	}
 	d := wire.NewDecoder(&tap)

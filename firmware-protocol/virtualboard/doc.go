@@ -32,14 +32,24 @@
 // from its nominal ratio within DivTolerance (seeded). The source is read once per fast
 // sample; the conversions of one sample differ only by their noise.
 //
-// It does not emulate the serial line's speed: bytes reach the host as fast as the
-// pseudo-terminal carries them.
+// Bytes reach the host as fast as the pseudo-terminal carries them; at Speed > 0 with
+// Config.Baud set, the board drops what a serial line at that rate could not carry
+// (below).
 //
 // # Time
 //
 // Speed 1 runs in real time and Speed N N times faster; frames made while no host has
-// the port open are lost (as on a real link), and a full transmit queue drops frames
-// (counted in ST's drop). Speed 0 runs as fast as the host reads: the board waits for
+// the port open are lost (as on a real link). Every sample is taken at its own instant
+// of world time, never at the end of the round that makes it. The board paces itself
+// by world time: it never drops a frame because the host reads slowly or the machine
+// is busy; it waits, and when it has fallen behind the wall clock (Config.Clock) by
+// more than a tenth of a second it lets world time slip (Stats.SlipS) instead of
+// rushing through the backlog. With Config.Baud set, the serial line is emulated in
+// world time: a byte takes 10*Speed/Baud world seconds (8N1), a frame made while
+// TxQueue frames wait for the line is dropped (counted in ST's drop, so a host counts
+// the lost samples), and which frames those are depends on the signal and the
+// settings only. Budget gives the highest Speed at which the line carries whatever
+// the capture settings can make. Speed 0 runs as fast as the host reads: the board waits for
 // a host and for room in the queue, so nothing is lost, and while sampling is stopped
 // world time waits for a command. At Speed 0 the board runs ahead of the host by what
 // the queue (TxQueue frames) and the pseudo-terminal (a few kilobytes) hold, so the

@@ -45,7 +45,11 @@ func (b *Board) Run(ctx context.Context) error {
 		volts   [wire.MaxChannels]float64
 		counts  [wire.MaxChannels]uint16
 	)
-	wall := time.Now()
+	clk := b.cfg.Clock
+	origin := clk.Now() // the wall time at which world time 0 was due
+	b.link = newLink(&b.cfg)
+	closedPort := make(chan struct{})
+	close(closedPort)
 	every := uint64(math.Round(b.cfg.StatusEveryS * 1e6))
 	nowUS := func() uint64 { return uint64(math.Max(0, math.Round((w-ck.bootW)*1e6))) }
 	// After a settings change sample 0 comes one fast period after the command.
@@ -61,12 +65,26 @@ func (b *Board) Run(ctx context.Context) error {
 			return ErrClosed
 		default:
 		}
-		if b.cfg.Speed > 0 {
-			w = math.Max(w, time.Since(wall).Seconds()*b.cfg.Speed)
+		if sp := b.cfg.Speed; sp > 0 {
+			// Pace by world time: everything due up to w has been made. Having
+			// fallen behind the wall clock by more than maxLag (the machine was busy,
+			// the host slow to read), the board lets world time slip rather than
+			// make the backlog in a rush.
+			target := clk.Now().Sub(origin).Seconds() * sp
+			if lim := w + maxLag.Seconds()*sp; target > lim {
+				origin = origin.Add(time.Duration((target - lim) / sp * float64(time.Second)))
+				b.slip.Store(math.Float64bits(math.Float64frombits(b.slip.Load()) + target - lim))
+				target = lim
+			}
+			w = math.Max(w, target)
 		}
 		// Events from the test hooks: plug state, resets, garbage.
 		b.mu.Lock()
 		plugged := b.port != nil
+		b.curDone = closedPort
+		if plugged {
+			b.curDone = b.port.done
+		}
 		cause := b.pendingBoot
 		b.pendingBoot = ""
 		garbage := b.garbage
@@ -81,6 +99,10 @@ func (b *Board) Run(ctx context.Context) error {
 			powered = true
 			ck = clock{bootW: w, statusUS: every}
 			b.drop = 0
+			b.curW = w
+			if b.link != nil {
+				b.link.reset(w)
+			}
 			b.boots.Add(1)
 			b.dev.boot(cause)
 		}
@@ -95,6 +117,7 @@ func (b *Board) Run(ctx context.Context) error {
 				if c.gen != gen || !powered {
 					continue
 				}
+				b.curW = w
 				if b.command(c, uint32(nowUS())) {
 					restartClock()
 				}
@@ -114,11 +137,14 @@ func (b *Board) Run(ctx context.Context) error {
 					next, isSample = s, true
 				}
 			}
+			// The event's own instant: a sample is taken at its time, never at the
+			// end of the round that makes it.
 			wn := ck.bootW + float64(next)/1e6
 			if b.cfg.Speed > 0 && wn > w {
 				break
 			}
 			w = math.Max(w, wn)
+			b.curW = wn
 			n++
 			if !isSample {
 				b.dev.status(uint32(next / 1000000))
@@ -127,7 +153,7 @@ func (b *Board) Run(ctx context.Context) error {
 			}
 			v := volts[:set.nch]
 			clear(v)
-			if !b.cfg.Source.Sample(w, v) {
+			if !b.cfg.Source.Sample(wn, v) {
 				return b.finish(ctx)
 			}
 			vref := b.trueRef(set.ref)
@@ -138,7 +164,7 @@ func (b *Board) Run(ctx context.Context) error {
 			ck.j++
 		}
 		if b.cfg.Speed > 0 || !powered || idle {
-			time.Sleep(tick)
+			clk.Sleep(tick)
 		}
 	}
 }

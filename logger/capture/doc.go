@@ -26,6 +26,18 @@
 // and at a clean stop the trailer ("# end:", "# stats:", "# clock:" with the board's clock
 // drift). Any CSV with time_s and vcap_v columns is a capture too.
 //
+// # Reading
+//
+// A Reader returns the rows in batches into the caller's buffers and refuses bad input
+// with a *ParseError (file, line, column, what was expected): a cell that is not a finite
+// number, a time that does not increase, a row whose cells do not match the header row.
+// What it can read past is a warning instead (Warnings): a malformed start, gap or reset
+// line (not used), and a last line with no line end (a row cut short: dropped, never read
+// as a truncated number). Time stamps far from 0 (epoch seconds or milliseconds) lose no
+// resolution: from a first time stamp of 10^6 or more the reader subtracts its whole part
+// digit by digit and reports it as OriginS, so the times it returns are seconds from that
+// origin and Start is the start line plus the origin.
+//
 // # Writing
 //
 // A Writer writes the header block at creation, then rows with Row. It buffers, flushes

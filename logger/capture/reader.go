@@ -56,14 +56,38 @@ var (
 	ErrBinary        = errors.New("binary data, not a text CSV")
 	ErrLineTooLong   = errors.New("line too long")
 	ErrMissingColumn = errors.New("missing column")
-	ErrFieldCount    = errors.New("row has too few fields")
+	ErrFieldCount    = errors.New("row has the wrong number of fields")
 	ErrNotNumber     = errors.New("not a number")
 	ErrNotFinite     = errors.New("not a finite number (NaN or Inf)")
 	ErrEmptyCell     = errors.New("empty cell")
 	ErrBadTime       = errors.New("not a time")
 	ErrTimeBackwards = errors.New("time goes backwards")
 	ErrDuplicateTime = errors.New("duplicate time")
+	// ErrTimeRange: a time stamp whose whole part has more than 18 digits (in the time
+	// column's unit) cannot be held to the resolution of its own text.
+	ErrTimeRange = errors.New("time stamp too large to keep its resolution (more than 18 digits before the point)")
 )
+
+// Warnings a Reader reports (see Warnings), each inside a *ParseError that says where.
+// The reader goes on after a warning; what it could not use is named in the warning.
+var (
+	// ErrBadMeta: a "# start:", "# gap:" or "# reset:" line whose value is not what
+	// FORMAT.md says; the line is not used (a gap with a bad "lost" field is kept
+	// without it).
+	ErrBadMeta = errors.New("malformed metadata line")
+	// ErrTornLine: the last line of the file has no line end: a row (or metadata line)
+	// cut short by a writer that stopped mid-line. It is dropped, never read as a
+	// truncated number.
+	ErrTornLine = errors.New("last line has no line end (cut short): dropped")
+)
+
+// MaxWarnings is how many warnings a Reader keeps; WarningCount counts them all.
+const MaxWarnings = 100
+
+// originMin is the size of the first time stamp, in the time column's unit, from which
+// the reader subtracts a time origin (see Reader.OriginS). Below it a float64 holds a
+// time stamp to better than a nanosecond (2^-33 s at 10^6 s: 53 bits of mantissa).
+const originMin = 1e6
 
 // ParseError is bad input at a place in a file. Line and Column count from 1; Column is
 // the byte position of the field (0 when the whole line or file is at fault).
@@ -159,6 +183,17 @@ type Reader struct {
 	gaps    []Gap
 	resets  []Reset
 	lost    int64
+
+	gapText   [][2]string // the start_s and end_s text of each gap, to re-read at the origin
+	resetText []string    // the at_s text of each reset
+	originSet bool        // the first time stamp has been seen
+	origin    int64       // subtracted from the time column's whole part (its unit)
+	originS   float64     // origin in seconds
+	originW   int64       // origin in seconds: whole part (exact when the unit allows) ...
+	originF   float64     // ... and the rest
+	originX   bool        // originW and originF are exact
+	warnings  []*ParseError
+	nwarn     int
 }
 
 // NewReader returns a Reader on r; name is used in errors.
@@ -195,15 +230,53 @@ func (r *Reader) Line() int { return r.line }
 // Offset is the number of bytes read so far (for progress).
 func (r *Reader) Offset() int64 { return r.nbytes }
 
-// Torn reports that the last line had no line end and was dropped as a cut-short row.
+// Torn reports that the last line had no line end and was dropped as a cut-short row
+// (a warning with ErrTornLine says so too).
 func (r *Reader) Torn() bool { return r.torn }
 
-// Start returns the capture's start time: the "start" metadata, else the first RFC 3339
-// timestamp; ok is false when there is neither.
+// Warnings returns the problems seen so far that did not stop the reading, in file
+// order, each a *ParseError with the file, line and what was expected (errors.Is
+// ErrBadMeta or ErrTornLine): malformed "start", "gap" and "reset" lines, and a last
+// line cut short. At most MaxWarnings are kept; WarningCount counts them all. A caller
+// prints them; nothing in them was used as data.
+func (r *Reader) Warnings() []*ParseError { return r.warnings }
+
+// WarningCount is the number of warnings seen so far, including those beyond
+// MaxWarnings that were not kept.
+func (r *Reader) WarningCount() int { return r.nwarn }
+
+// OriginS is the time origin, in seconds, that the reader subtracted from every time
+// stamp (data rows, gap and reset lines): 0 unless the first time stamp is 10^6 or more
+// (in the time column's unit; e.g. epoch seconds or milliseconds). Then it is the whole
+// part of the first time stamp, subtracted digit by digit before the conversion to
+// float64, so that Read returns seconds from the origin with the resolution the file
+// was written with (a float64 of 10^15 s would hold only 1/8 s). Add OriginS back for
+// display; Start already includes it. Known after the first row.
+func (r *Reader) OriginS() float64 { return r.originS }
+
+func (r *Reader) warn(err error, text []byte) {
+	r.nwarn++
+	if len(r.warnings) >= MaxWarnings {
+		return
+	}
+	pe, _ := r.errf(0, text, err).(*ParseError)
+	r.warnings = append(r.warnings, pe)
+}
+
+// Start returns the wall-clock time of t = 0 as Read returns it: the "start" metadata
+// plus OriginS, else the first RFC 3339 timestamp; ok is false when there is neither (or
+// the sum is beyond the year 30000).
 func (r *Reader) Start() (time.Time, bool) {
 	if s, ok := r.meta[KeyStart]; ok {
 		if t, err := time.Parse(time.RFC3339Nano, s); err == nil {
-			return t, true
+			if r.originS == 0 {
+				return t, true
+			}
+			if math.Abs(r.originS) > 1e12 {
+				return time.Time{}, false
+			}
+			sec := math.Floor(r.originS)
+			return time.Unix(t.Unix()+int64(sec), int64(t.Nanosecond())+int64((r.originS-sec)*1e9)).UTC(), true
 		}
 	}
 	return r.t0, r.haveT0
@@ -269,25 +342,18 @@ func (r *Reader) comment(line []byte, header bool) {
 	}
 	switch key {
 	case KeyGap:
-		_, fs := ParseFields(value)
-		var g Gap
-		g.StartS = fieldFloat(fs, "start_s")
-		g.EndS = fieldFloat(fs, "end_s")
-		g.Reason, _ = Lookup(fs, "reason")
-		g.Lost = int64(fieldFloat(fs, "lost"))
-		r.lost += g.Lost
-		r.gaps = append(r.gaps, g)
+		r.gapLine(line, value)
 		return
 	case KeyReset:
-		_, fs := ParseFields(value)
-		var s Reset
-		s.AtS = fieldFloat(fs, "at_s")
-		s.Cause, _ = Lookup(fs, "cause")
-		s.Segment = int(fieldFloat(fs, "segment"))
-		r.resets = append(r.resets, s)
+		r.resetLine(line, value)
 		return
 	case KeyFormat:
 		r.ours = strings.HasPrefix(value, "capcycle.capture/")
+	case KeyStart:
+		if _, err := time.Parse(time.RFC3339Nano, value); err != nil {
+			r.warn(fmt.Errorf("%w: start: %q is not a time; want RFC 3339 in UTC, e.g. 2026-12-01T09:30:00.000000Z", ErrBadMeta, value), line)
+			return
+		}
 	}
 	if _, dup := r.meta[key]; !dup {
 		r.meta[key] = value
@@ -295,16 +361,116 @@ func (r *Reader) comment(line []byte, header bool) {
 	r.metaAll = append(r.metaAll, Field{key, value})
 }
 
-func fieldFloat(fs []Field, name string) float64 {
-	s, ok := Lookup(fs, name)
+const (
+	gapWant   = "want start_s=T0 end_s=T1 reason=R [lost=N]"
+	resetWant = "want at_s=T cause=C segment=N"
+)
+
+// gapLine reads a gap line; a malformed one is a warning and is not used.
+func (r *Reader) gapLine(line []byte, value string) {
+	_, fs := ParseFields(value)
+	st, _ := Lookup(fs, "start_s")
+	en, _ := Lookup(fs, "end_s")
+	var g Gap
+	var ok bool
+	if g.StartS, ok = r.eventTime(st); !ok {
+		r.warn(fmt.Errorf("%w: gap: start_s %q is not a time in seconds; %s", ErrBadMeta, st, gapWant), line)
+		return
+	}
+	if g.EndS, ok = r.eventTime(en); !ok {
+		r.warn(fmt.Errorf("%w: gap: end_s %q is not a time in seconds; %s", ErrBadMeta, en, gapWant), line)
+		return
+	}
+	if g.EndS < g.StartS {
+		r.warn(fmt.Errorf("%w: gap: end_s %s is before start_s %s; %s", ErrBadMeta, en, st, gapWant), line)
+		return
+	}
+	g.Reason, _ = Lookup(fs, "reason")
+	if g.Reason == "" {
+		r.warn(fmt.Errorf("%w: gap: no reason; %s (the gap is kept)", ErrBadMeta, gapWant), line)
+	}
+	if s, has := Lookup(fs, "lost"); has {
+		n, err := strconv.ParseInt(s, 10, 64)
+		if err != nil || n < 0 {
+			r.warn(fmt.Errorf("%w: gap: lost %q is not a count of samples; %s (the gap is kept without it)", ErrBadMeta, s, gapWant), line)
+		} else {
+			g.Lost = n
+			r.lost += n
+		}
+	}
+	r.gaps = append(r.gaps, g)
+	r.gapText = append(r.gapText, [2]string{st, en})
+}
+
+// resetLine reads a reset line; one without a readable at_s is a warning and is not used.
+func (r *Reader) resetLine(line []byte, value string) {
+	_, fs := ParseFields(value)
+	at, _ := Lookup(fs, "at_s")
+	var s Reset
+	var ok bool
+	if s.AtS, ok = r.eventTime(at); !ok {
+		r.warn(fmt.Errorf("%w: reset: at_s %q is not a time in seconds; %s", ErrBadMeta, at, resetWant), line)
+		return
+	}
+	s.Cause, _ = Lookup(fs, "cause")
+	if seg, has := Lookup(fs, "segment"); has {
+		n, err := strconv.Atoi(seg)
+		if err != nil || n < 1 {
+			r.warn(fmt.Errorf("%w: reset: segment %q is not a segment number (1, 2, ...); %s (the reset is kept without it)", ErrBadMeta, seg, resetWant), line)
+		} else {
+			s.Segment = n
+		}
+	}
+	r.resets = append(r.resets, s)
+	r.resetText = append(r.resetText, at)
+}
+
+// eventTime reads the seconds of a gap or reset field, less the time origin.
+func (r *Reader) eventTime(s string) (float64, bool) {
+	x, err := strconv.ParseFloat(s, 64)
+	if err != nil || math.IsNaN(x) || math.IsInf(x, 0) {
+		return 0, false
+	}
+	if r.origin == 0 {
+		return x, true
+	}
+	if r.originX {
+		if ip, frac, ok := splitDecimal([]byte(s), '.', x); ok {
+			return float64(ip-r.originW) + (frac - r.originF), true
+		}
+	}
+	return x - r.originS, true
+}
+
+// setOrigin fixes the time origin from the first time stamp (field g, value x in the
+// column's unit) and re-reads the events seen before it.
+func (r *Reader) setOrigin(g []byte, x float64, col int) error {
+	r.originSet = true
+	if math.Abs(x) < originMin {
+		return nil
+	}
+	ip, _, ok := splitDecimal(g, r.decimalFor(), x)
 	if !ok {
-		return 0
+		return r.errf(col, g, ErrTimeRange)
 	}
-	f, err := strconv.ParseFloat(s, 64)
-	if err != nil {
-		return 0
+	r.origin, r.originS = ip, float64(ip)*r.TimeScale
+	// The origin in whole seconds and a rest, exactly, for the events (in seconds):
+	// for a unit of a whole number of seconds or a power-of-ten fraction of one.
+	switch sc := r.TimeScale; {
+	case sc >= 1 && sc == math.Trunc(sc) && math.Abs(float64(ip))*sc < 9e18:
+		r.originW, r.originX = ip*int64(sc), true
+	case sc == 1e-3 || sc == 1e-6:
+		div := int64(math.Round(1 / sc))
+		r.originW, r.originF, r.originX = ip/div, float64(ip%div)*sc, true
 	}
-	return f
+	for i, tx := range r.gapText {
+		r.gaps[i].StartS, _ = r.eventTime(tx[0])
+		r.gaps[i].EndS, _ = r.eventTime(tx[1])
+	}
+	for i, tx := range r.resetText {
+		r.resets[i].AtS, _ = r.eventTime(tx)
+	}
+	return nil
 }
 
 // start reads the comment block and the header row and maps the columns.
@@ -552,6 +718,20 @@ func (r *Reader) read(t, v, cur []float64) (int, error) {
 			r.done = true
 			return n, err
 		}
+		if !complete && len(bytes.TrimSpace(line)) > 0 {
+			// The last line has no line end: cut short by a writer that stopped
+			// mid-line (killed, or a full disk). Whatever it holds may be a truncated
+			// number ("2.41" of "2.41513"), so it is dropped, with a warning. Our
+			// writer ends every line; a foreign file that omits the last line end
+			// loses that row, and the warning says so.
+			r.torn = true
+			if err := r.checkText(line); err != nil {
+				r.done = true
+				return n, err
+			}
+			r.warn(ErrTornLine, line)
+			continue
+		}
 		if len(line) == 0 || line[0] == '#' {
 			if err := r.checkText(line); err != nil {
 				r.done = true
@@ -560,11 +740,6 @@ func (r *Reader) read(t, v, cur []float64) (int, error) {
 			if len(line) > 0 {
 				r.comment(line, false)
 			}
-			continue
-		}
-		if !complete && r.ours {
-			// A row cut short by a killed writer (no line end): not part of the capture.
-			r.torn = true
 			continue
 		}
 		tt, vv, ii, err := r.row(line)
@@ -644,11 +819,15 @@ func (r *Reader) row(line []byte) (t, v, i float64, err error) {
 		pos = end + 1
 		k++
 	}
-	if k < need {
+	if nf := bytes.Count(line, []byte{r.Comma}) + 1; nf != r.ncol {
 		if err := r.checkText(line); err != nil {
 			return 0, 0, 0, err
 		}
-		return 0, 0, 0, r.errf(len(line)+1, nil, fmt.Errorf("%w: %d of at least %d", ErrFieldCount, k+1, need+1))
+		col := len(line) + 1
+		if nf > r.ncol {
+			col = r.fieldCol(line, r.ncol)
+		}
+		return 0, 0, 0, r.errf(col, nil, fmt.Errorf("%w: %d, the header row has %d (%s)", ErrFieldCount, nf, r.ncol, strings.Join(r.columns, string(r.Comma))))
 	}
 	t, err = r.timeField(tf, tc)
 	if err != nil {
@@ -681,7 +860,22 @@ func (r *Reader) timeField(f []byte, col int) (float64, error) {
 	}
 	if r.TimeFormat == TimeSeconds {
 		x, err := r.number(f, col)
-		return x * r.TimeScale, err
+		if err != nil {
+			return 0, err
+		}
+		if !r.originSet {
+			if err := r.setOrigin(trimField(f), x, col); err != nil {
+				return 0, err
+			}
+		}
+		if r.origin != 0 {
+			ip, frac, ok := splitDecimal(trimField(f), r.decimalFor(), x)
+			if !ok {
+				return 0, r.errf(col, trimField(f), ErrTimeRange)
+			}
+			return (float64(ip-r.origin) + frac) * r.TimeScale, nil
+		}
+		return x * r.TimeScale, nil
 	}
 	g := trimField(f)
 	s := string(g)

@@ -119,3 +119,87 @@ func parseExp(b []byte) (int, bool) {
 	}
 	return e, true
 }
+
+// splitDecimal splits the decimal number b (already read as x by parseNumber or
+// strconv) into its whole part ip, truncated toward zero, and the rest frac, each with
+// the sign of the number, straight from its digits: ip is exact, and frac is as exact as
+// a float64 of a number below one. So ip - origin + frac keeps every digit the text
+// has even when x itself, at 10^15, rounds to 1/8. ok is false when the whole part has
+// more than 18 digits (it would not fit an int64) or b is not a plain decimal.
+func splitDecimal(b []byte, decimal byte, x float64) (ip int64, frac float64, ok bool) {
+	i, n := 0, len(b)
+	neg := false
+	if n > 0 && (b[0] == '-' || b[0] == '+') {
+		neg = b[0] == '-'
+		i++
+	}
+	var digs [40]byte // significant digits; value = 0.d1d2d3... × 10^point
+	nd, point := 0, 0
+	seenPoint, any := false, false
+	for ; i < n; i++ {
+		c := b[i]
+		if c >= '0' && c <= '9' {
+			any = true
+			if nd == 0 && c == '0' {
+				if seenPoint {
+					point--
+				}
+				continue
+			}
+			if nd < len(digs) {
+				digs[nd] = c
+				nd++
+			} else if !seenPoint {
+				return 0, 0, false
+			}
+			if !seenPoint {
+				point++
+			}
+			continue
+		}
+		if (c == '.' || c == decimal) && !seenPoint {
+			seenPoint = true
+			continue
+		}
+		break
+	}
+	if !any {
+		return 0, 0, false
+	}
+	if i < n {
+		if c := b[i]; c != 'e' && c != 'E' {
+			return 0, 0, false
+		}
+		e, eok := parseExp(b[i+1:])
+		if !eok {
+			return 0, 0, false
+		}
+		point += e
+	}
+	if point > 18 {
+		return 0, 0, false
+	}
+	if point <= 0 {
+		return 0, x, true // no whole part: x is the fraction, as exact as it can be
+	}
+	for k := 0; k < point; k++ {
+		d := int64(0)
+		if k < nd {
+			d = int64(digs[k] - '0')
+		}
+		ip = ip*10 + d
+	}
+	var m uint64
+	k := 0
+	for j := point; j < nd && k < 19; j++ {
+		m = m*10 + uint64(digs[j]-'0')
+		k++
+	}
+	if k > 0 {
+		frac = float64(m) / pow10[k]
+	}
+	if neg {
+		ip, frac = -ip, -frac
+	}
+	return ip, frac, true
+}

@@ -51,6 +51,10 @@ var badFiles = []struct {
 	{"duplicate time", "time_s,vcap_v\n0,1\n0.1,1\n0.1,1.1\n", 4, 1, ErrDuplicateTime},
 	{"duplicate time after comment", "time_s,vcap_v\n0,1\n# gap: start_s=0 end_s=5\n0,1\n", 4, 1, ErrDuplicateTime},
 	{"too few fields", "time_s,vcap_v,vcell_v\n0,1,2\n0.1\n", 3, 4, ErrFieldCount},
+	{"missing cell of an unused column", "time_s,vcap_v,vcell_v\n0,1,2\n0.1,1\n", 3, 6, ErrFieldCount},
+	{"extra cell", "time_s,vcap_v\n0,1\n0.1,1,7\n", 3, 7, ErrFieldCount},
+	{"extra empty cell", "time_s,vcap_v\n0,1\n0.1,1,\n", 3, 7, ErrFieldCount},
+	{"time stamps beyond 18 digits", "time_s,vcap_v\n1e19,1\n", 2, 1, ErrTimeRange},
 	{"empty volt cell", "time_s,vcap_v\n0,1\n0.1,\n", 3, 5, ErrEmptyCell},
 	{"binary garbage", "\x7fELF\x02\x01\x01\x00\x00\x00", 1, 1, ErrBinary},
 	{"nul in data", "time_s,vcap_v\n0,1\n0.1,1\x00\x002\n", 3, 6, ErrBinary},
@@ -60,7 +64,7 @@ var badFiles = []struct {
 	{"rfc3339 backwards", "time,vcap_v\n2026-12-01T09:30:01Z,1\n2026-12-01T09:30:00Z,1\n", 3, 1, ErrTimeBackwards},
 	{"semicolon not a number", "time_s;vcap_v\n0;1,5\n0,1;x\n", 3, 5, ErrNotNumber},
 	{"tab two dots", "time_s\tvcap_v\n0\t1.5\n0.1\t1.5.1\n", 3, 5, ErrNotNumber},
-	{"torn foreign row", "time_s,vcap_v\n0,1\n0.1,1.", 3, 0, nil}, // accepted: "1." is a number
+	{"torn foreign row", "time_s,vcap_v\n0,1\n0.1,1.", 3, 0, nil}, // dropped with a warning (TestReaderWarnings)
 	{"long line", "time_s,vcap_v\n" + strings.Repeat("1", 70000) + "\n", 2, 0, ErrLineTooLong},
 	{"third column chosen by index absent", "time_s,vcap_v\n0,1\n", 1, 0, ErrMissingColumn}, // TimeCol "3"
 	{"not a number current", "time_s,vcap_v,iload_a\n0,1,0\n0.1,1,x\n", 3, 7, ErrNotNumber},
@@ -278,7 +282,8 @@ func TestReaderCurrent(t *testing.T) {
 	}
 
 	for _, head := range []string{"time_s,vcap_v", "time_s,vcap_v,iload_v", "time_s,vcap_v,iloader"} {
-		r = NewReader(strings.NewReader(head+"\n0,1,2\n"), "plain.csv")
+		row := strings.Repeat("1,", strings.Count(head, ",")) + "2"
+		r = NewReader(strings.NewReader(head+"\n"+row+"\n"), "plain.csv")
 		if _, _, err := readAll(t, r); err != nil || r.HasCurrent() {
 			t.Errorf("%s: %v, HasCurrent %v (no column of current)", head, err, r.HasCurrent())
 		}

@@ -1,4 +1,4 @@
-package analyze
+package analysis
 
 // Schema is the value of Result.Schema for this version of the analysis JSON.
 const Schema = "capcycle.analysis/1"
@@ -61,6 +61,29 @@ type Source struct {
 	Meta     map[string]string `json:"meta,omitempty"`  // the capture's "# key: value" lines
 	GapsS    float64           `json:"gaps_s"`          // total time inside gaps
 	Lost     int               `json:"lost_samples"`    // samples the recorder counted as lost
+	// Columns names the columns read, when they are not the capture format's own
+	// (time_s, vcap_v, iload_a): a foreign CSV whose columns were picked by name.
+	Columns *Columns `json:"columns,omitempty"`
+	// OriginS is what the reader subtracted from time stamps that start far from zero
+	// (epoch seconds or milliseconds, in seconds): time_s of the analysis plus OriginS is
+	// the capture's own time stamp. 0 when the capture starts near zero.
+	OriginS float64 `json:"origin_s,omitempty"`
+	// Warnings are the reader's complaints about lines it read past (file:line and what
+	// was expected; nothing in such a line was used as data): the first 100, of
+	// WarningCount in all.
+	Warnings     []string `json:"warnings,omitempty"`
+	WarningCount int      `json:"warning_count,omitempty"`
+}
+
+// Columns are the columns of a foreign CSV the analysis read, by their header names, and
+// the factor that took each to seconds, volts or amperes.
+type Columns struct {
+	Time         string  `json:"time"`
+	Volt         string  `json:"volt"`
+	Current      string  `json:"current,omitempty"`
+	TimeScale    float64 `json:"time_scale"`
+	VoltScale    float64 `json:"volt_scale"`
+	CurrentScale float64 `json:"current_scale,omitempty"`
 }
 
 // Estimate is a fitted or measured value with its standard error. SD is nil when the
@@ -72,20 +95,20 @@ type Estimate struct {
 	Lo95 *float64 `json:"lo95,omitempty"`
 	Hi95 *float64 `json:"hi95,omitempty"`
 	// Origin says where the value comes from: "fitted", "measured", "declared" or "flag".
-	Origin string `json:"origin,omitempty"`
+	Origin Origin `json:"origin,omitempty"`
 }
 
 // Cycle is one fire and the reset that follows it.
 type Cycle struct {
-	Index   int      `json:"index"`
-	FireS   float64  `json:"fire_s"`   // onset of the fast fall, seconds from capture start
-	FireV   float64  `json:"fire_v"`   // the peak before the fall, volts
-	ResetS  float64  `json:"reset_s"`  // end of the fall, charging resumes
-	ResetV  float64  `json:"reset_v"`  // the trough, volts
-	ChargeS *float64 `json:"charge_s"` // from the previous reset to this fire; null for the first cycle
-	PulseS  float64  `json:"pulse_s"`  // reset_s - fire_s
-	EnergyJ *float64 `json:"energy_j"` // ½C(fire_v² − reset_v²), null when C is unknown
-	Kind    string   `json:"kind"`     // "full" or "chatter"
+	Index   int       `json:"index"`
+	FireS   float64   `json:"fire_s"`   // onset of the fast fall, seconds from capture start
+	FireV   float64   `json:"fire_v"`   // the peak before the fall, volts
+	ResetS  float64   `json:"reset_s"`  // end of the fall, charging resumes
+	ResetV  float64   `json:"reset_v"`  // the trough, volts
+	ChargeS *float64  `json:"charge_s"` // from the previous reset to this fire; null for the first cycle
+	PulseS  float64   `json:"pulse_s"`  // reset_s - fire_s
+	EnergyJ *float64  `json:"energy_j"` // ½C(fire_v² − reset_v²), null when C is unknown
+	Kind    CycleKind `json:"kind"`     // "full" or "chatter"
 	// Isc is the cell's short-circuit current (or, without C, Isc/C in V/s) fitted from this
 	// cycle's charging segment: a light-level trace.
 	LightA *float64 `json:"light_a,omitempty"`
@@ -93,11 +116,11 @@ type Cycle struct {
 
 // Segment is a stretch of the capture of one kind.
 type Segment struct {
-	Kind   string  `json:"kind"` // "charging", "firing", "dark-decay", "plateau", "saturated", "gap"
-	StartS float64 `json:"start_s"`
-	EndS   float64 `json:"end_s"`
-	StartV float64 `json:"start_v"`
-	EndV   float64 `json:"end_v"`
+	Kind   SegmentKind `json:"kind"` // "charging", "firing", "dark-decay", "plateau", "saturated", "gap"
+	StartS float64     `json:"start_s"`
+	EndS   float64     `json:"end_s"`
+	StartV float64     `json:"start_v"`
+	EndV   float64     `json:"end_v"`
 }
 
 // Fit holds the fitted circuit.
@@ -110,9 +133,9 @@ type Fit struct {
 
 // TriggerFit is what the fires and resets say about the trigger.
 type TriggerFit struct {
-	Kind string    `json:"kind"` // "voltage", "timer", "plateau" or "unknown"
-	OnV  *Estimate `json:"on_v"`
-	OffV *Estimate `json:"off_v"`
+	Kind TriggerKind `json:"kind"` // "voltage", "timer", "plateau" or "unknown"
+	OnV  *Estimate   `json:"on_v"`
+	OffV *Estimate   `json:"off_v"`
 	// DriftVPerH is the slope of on_v over the day (volts per hour), with its SD.
 	OnDriftVPerH *Estimate `json:"on_drift_v_per_h,omitempty"`
 	PeriodS      *Estimate `json:"period_s,omitempty"` // mean interval between fires
@@ -136,8 +159,8 @@ type LeakFit struct {
 	Ohm        *Estimate `json:"ohm"`
 	QuiescentA *Estimate `json:"quiescent_a"`
 	// ProbeOhm is the probe divider's known share, subtracted from Ohm and reported apart.
-	ProbeOhm *Estimate `json:"probe_ohm,omitempty"`
-	Method   string    `json:"method,omitempty"` // "dark-decay", "plateau" or ""
+	ProbeOhm *Estimate  `json:"probe_ohm,omitempty"`
+	Method   LeakMethod `json:"method,omitempty"` // "dark-decay", "plateau" or ""
 }
 
 // CellFit holds the single-diode parameters recovered by capacitive-load I-V tracing.
@@ -167,8 +190,8 @@ type Capacity struct {
 	// Method says how a measured capacitance was found: "calibration-resistor" (a decay
 	// through a known resistor) or "current-channel" (the load's charge over the
 	// voltage it cost, at every fire); empty when declared.
-	Method string `json:"method,omitempty"`
-	Pulses int    `json:"pulses,omitempty"` // current-channel: the fires it rests on
+	Method CapMethod `json:"method,omitempty"`
+	Pulses int       `json:"pulses,omitempty"` // current-channel: the fires it rests on
 }
 
 // Noise is the sample noise and resolution seen in the capture.
@@ -178,7 +201,7 @@ type Noise struct {
 	// StepOrigin says where StepV comes from: "metadata" (the capture's channel line:
 	// reference / 2^bits / divider), "declared" (Options.StepV), "estimated" (from the
 	// samples), or "" when no step shows.
-	StepOrigin string `json:"step_origin,omitempty"`
+	StepOrigin StepOrigin `json:"step_origin,omitempty"`
 }
 
 // LightPt is one point of the light-level trace.
@@ -199,7 +222,7 @@ type EnvelopePt struct {
 // DEVELOPERS.md); Numbers carries the figures behind Message, with units in their keys.
 type Finding struct {
 	Code       string             `json:"code"`
-	Severity   string             `json:"severity"` // "info", "warn" or "fault"
+	Severity   Severity           `json:"severity"` // "info", "warn" or "fault"
 	Message    string             `json:"message"`
 	Suggestion string             `json:"suggestion,omitempty"`
 	Numbers    map[string]float64 `json:"numbers"`
@@ -222,18 +245,46 @@ type Attribution struct {
 	Within      bool    `json:"within"`
 }
 
-// Declared is the profile's view of the circuit, kept for the parameter table.
+// Declared is the circuit as declared: the bench profile's values, overridden by the
+// command line's flags. It is the one description of the declared circuit from the profile
+// through the flags to the analysis JSON (where it feeds the parameter table). A zero value
+// means "not declared" and is left out of the JSON.
 type Declared struct {
-	CapF       *float64 `json:"cap_f,omitempty"`
-	CapTol     string   `json:"cap_tolerance_code,omitempty"`
-	OnV        *float64 `json:"on_v,omitempty"`
-	OffV       *float64 `json:"off_v,omitempty"`
-	LoadOhm    *float64 `json:"load_ohm,omitempty"`
-	ProbeOhm   *float64 `json:"probe_ohm,omitempty"`
-	QuiescentA *float64 `json:"quiescent_a,omitempty"`
-	VocV       *float64 `json:"voc_v,omitempty"`
-	IscA       *float64 `json:"isc_a,omitempty"`
+	CapF   float64 `json:"cap_f,omitempty"`              // storage capacitance, F
+	CapTol string  `json:"cap_tolerance_code,omitempty"` // its tolerance letter (IEC 60062)
+	// CapOrigin says where CapF comes from: OriginDeclared (the profile, the default)
+	// or OriginFlag (the command line).
+	CapOrigin  Origin  `json:"cap_origin,omitempty"`
+	OnV        float64 `json:"on_v,omitempty"`        // trigger threshold, V
+	OffV       float64 `json:"off_v,omitempty"`       // trigger release, V
+	LoadOhm    float64 `json:"load_ohm,omitempty"`    // load resistance (a motor's armature), Ω
+	ProbeOhm   float64 `json:"probe_ohm,omitempty"`   // what the probe divider puts across the capacitor, Ω
+	QuiescentA float64 `json:"quiescent_a,omitempty"` // the trigger's quiescent current, A
+	VocV       float64 `json:"voc_v,omitempty"`       // cell open-circuit voltage at its rating, V
+	IscA       float64 `json:"isc_a,omitempty"`       // cell short-circuit current at its rating, A
+	CellSeries int     `json:"cell_series,omitempty"` // cells in series in the panel (0: 1)
+	CellTempK  float64 `json:"cell_temp_k,omitempty"` // cell temperature, K (0: 298.15 K)
+	// FullScaleV is the ADC's full scale referred to the storage node: samples there are
+	// saturated.
+	FullScaleV float64 `json:"full_scale_v,omitempty"`
+	// Calibration is a stretch during which a known resistor was across the capacitor
+	// (in the dark), which measures the capacitance; nil for none.
+	Calibration *Calibration `json:"calibration,omitempty"`
 }
+
+// Calibration describes a calibration stretch: ResistorOhm across the capacitor from
+// StartS to EndS (seconds from the capture's start).
+type Calibration struct {
+	ResistorOhm float64 `json:"resistor_ohm"`
+	StartS      float64 `json:"start_s"`
+	EndS        float64 `json:"end_s"`
+}
+
+// CapKnown reports whether the capacitance is declared.
+func (d *Declared) CapKnown() bool { return d != nil && d.CapF > 0 }
+
+// IsZero reports whether nothing is declared.
+func (d *Declared) IsZero() bool { return d == nil || *d == Declared{} }
 
 // Prediction compares measured cycles with the model's, nominal and fitted.
 type Prediction struct {

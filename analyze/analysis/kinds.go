@@ -1,0 +1,85 @@
+package analysis
+
+// The enumerations of the analysis JSON. Each is a string type whose values are written
+// to JSON exactly as the constants below say; a consumer that reads the JSON into plain
+// strings sees the same words. Compare with the constants, never with literals.
+
+// CycleKind tells a full cycle from chatter.
+type CycleKind string
+
+const (
+	// CycleFull is a fire that swings the node by a useful amount.
+	CycleFull CycleKind = "full"
+	// CycleChatter is a fire with a tiny swing: the trigger flickers at its threshold.
+	CycleChatter CycleKind = "chatter"
+)
+
+// SegmentKind names a stretch of the capture (see detect's segment kinds, which use the
+// same words).
+type SegmentKind string
+
+const (
+	SegmentCharging  SegmentKind = "charging"
+	SegmentFiring    SegmentKind = "firing"
+	SegmentDarkDecay SegmentKind = "dark-decay"
+	SegmentPlateau   SegmentKind = "plateau"
+	SegmentSaturated SegmentKind = "saturated"
+	SegmentGap       SegmentKind = "gap"
+)
+
+// TriggerKind is the kind of trigger the fires point to.
+type TriggerKind string
+
+const (
+	TriggerVoltage TriggerKind = "voltage" // fires at a voltage threshold
+	TriggerTimer   TriggerKind = "timer"   // fires at fixed intervals
+	TriggerPlateau TriggerKind = "plateau" // fires when the charging current falls off
+	TriggerUnknown TriggerKind = "unknown" // the capture cannot tell
+)
+
+// Origin says where a value comes from.
+type Origin string
+
+const (
+	OriginFitted   Origin = "fitted"   // a fit's parameter
+	OriginMeasured Origin = "measured" // read from the samples (a mean, a median)
+	OriginDeclared Origin = "declared" // the bench profile
+	OriginFlag     Origin = "flag"     // the command line
+)
+
+// LeakMethod says which stretch of the capture the leak was fitted on.
+type LeakMethod string
+
+const (
+	LeakDarkDecay LeakMethod = "dark-decay" // a slow fall with no light
+	LeakPlateau   LeakMethod = "plateau"    // the approach to a plateau below the trigger
+	LeakNone      LeakMethod = ""           // not fitted
+)
+
+// CapMethod says how a measured capacitance was found.
+type CapMethod string
+
+const (
+	CapDeclared       CapMethod = ""                     // not measured: the declared value
+	CapCalibrationRes CapMethod = "calibration-resistor" // a decay through a known resistor
+	CapCurrentChannel CapMethod = "current-channel"      // the load's charge over the voltage it cost
+)
+
+// StepOrigin says where the ADC step at the storage node comes from.
+type StepOrigin string
+
+const (
+	StepNone      StepOrigin = ""          // no step shows
+	StepMetadata  StepOrigin = "metadata"  // the capture's channel line
+	StepDeclared  StepOrigin = "declared"  // given by the caller
+	StepEstimated StepOrigin = "estimated" // from the samples
+)
+
+// Severity ranks a finding.
+type Severity string
+
+const (
+	Info  Severity = "info"  // a figure worth knowing
+	Warn  Severity = "warn"  // works, but something is off
+	Fault Severity = "fault" // does not work as built
+)
