@@ -25,6 +25,9 @@ type testBoard struct {
 	tUS   uint32
 	cmds  []string // tags of the commands received
 	quiet bool     // do not answer commands
+
+	garble   int  // damage this many of the next identity replies (a noisy link)
+	bootNext bool // the next identity reply is a boot identity (the board reset on open)
 }
 
 func newTestBoard(out io.Writer) *testBoard {
@@ -94,7 +97,20 @@ func (b *testBoard) command(line []byte) {
 	ack := wire.Append(nil, wire.Ack{Cmd: f.Tag()})
 	switch c := f.(type) {
 	case wire.CmdID:
-		b.write(append(ack, b.idFrames(false)...))
+		b.mu.Lock()
+		boot, garble := b.bootNext, b.garble > 0
+		b.bootNext = false
+		if garble {
+			b.garble--
+		}
+		b.mu.Unlock()
+		out := append(ack, b.idFrames(boot)...)
+		if garble {
+			for i := 3; i < len(out); i += 7 {
+				out[i] ^= 0x04 // bit errors all through: the CRCs fail
+			}
+		}
+		b.write(out)
 	case wire.CmdRate:
 		if c.FastHz > b.id.MaxHz || c.SlowHz > c.FastHz {
 			b.write(wire.Append(nil, wire.Nak{Cmd: "rate", Code: wire.CodeRange, Msg: "range"}))

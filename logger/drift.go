@@ -1,5 +1,10 @@
 package logger
 
+import (
+	"fmt"
+	"math"
+)
+
 // DriftFit estimates how fast the board's clock runs against the host's from pairs
 // (device time x, host arrival time y).
 //
@@ -110,4 +115,41 @@ func (d *DriftFit) PPM() (float64, bool) {
 		return 0, false
 	}
 	return (1/(sxy/sxx) - 1) * 1e6, true
+}
+
+// The rule for a drift worth reporting. A shorter or wilder fit says nothing about the
+// board's clock, so Drift gives none.
+const (
+	// MinDriftSpanS is the device time the fit must cover. After the minimum filter the
+	// arrival times scatter by about a millisecond (a USB frame), which over a minute
+	// moves the slope by some tens of ppm: small next to the drift of a ceramic
+	// resonator, and the order of a crystal's (common practice, no source).
+	MinDriftSpanS = 60
+	// MinDriftBlocks is the number of blocks (one least-late pair each) the fit must have.
+	MinDriftBlocks = 30
+	// MaxDriftPPM bounds a plausible drift: an uncalibrated RC oscillator is off by up to
+	// about 10 %, crystals and resonators by far less (from memory). A fit beyond it
+	// measures something else: a board whose timestamps do not follow real time (a
+	// virtual board run faster than real time, a clock that stops).
+	MaxDriftPPM = 100000
+)
+
+// Drift is the drift in ppm (positive: the board clock runs fast) when the fit is long
+// enough to mean something: it covers at least MinDriftSpanS of device time in at least
+// MinDriftBlocks blocks, and the result is within ±MaxDriftPPM. Otherwise ok is false and
+// why says which part of the rule failed, in words for the user.
+func (d *DriftFit) Drift() (ppm float64, ok bool, why string) {
+	c := *d
+	c.commit()
+	span := d.SpanS()
+	p, have := d.PPM()
+	switch {
+	case !have || span < MinDriftSpanS || c.kept < MinDriftBlocks:
+		return 0, false, fmt.Sprintf("the fit covers %.0f s of the board's clock in %d blocks; a drift needs at least %d s and %d blocks",
+			span, c.kept, MinDriftSpanS, MinDriftBlocks)
+	case math.Abs(p) > MaxDriftPPM:
+		return 0, false, fmt.Sprintf("the fit gives %+.0f ppm, beyond the %d ppm a board's clock can be off: its timestamps do not follow real time",
+			p, MaxDriftPPM)
+	}
+	return p, true, ""
 }

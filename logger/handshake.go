@@ -34,7 +34,7 @@ func (ss *session) handshake(rd *chunkReader, first bool) error {
 		return true
 	}
 	// Ask for the identity, again each second until it comes.
-	deadline := ss.cfg.Now().Add(ss.cfg.Handshake)
+	deadline := ss.waitUntil(first)
 	for ids == 0 {
 		if err := ss.send(wire.CmdID{}); err != nil {
 			return err
@@ -51,7 +51,7 @@ func (ss *session) handshake(rd *chunkReader, first bool) error {
 				ErrHandshake, ss.path, ss.cfg.Handshake)
 		}
 	}
-	if err := ss.await(rd, ss.cfg.Now().Add(ss.cfg.Handshake), haveAllCh); err != nil && !errors.Is(err, errWait) {
+	if err := ss.await(rd, ss.waitUntil(first), haveAllCh); err != nil && !errors.Is(err, errWait) {
 		return err
 	}
 	// Settings.
@@ -61,7 +61,7 @@ func (ss *session) handshake(rd *chunkReader, first bool) error {
 		if err := ss.send(cmd); err != nil {
 			return err
 		}
-		err := ss.await(rd, ss.cfg.Now().Add(ss.cfg.Handshake), func() bool {
+		err := ss.await(rd, ss.waitUntil(first), func() bool {
 			if _, refused := reply.(wire.Nak); refused {
 				return true
 			}
@@ -93,10 +93,22 @@ func (ss *session) handshake(rd *chunkReader, first bool) error {
 		ss.resume()
 		return nil
 	}
-	if s.written {
-		return s.w.Meta(capture.KeyBoard, IdentityString(s.id))
+	if s.written && !s.resetNote {
+		// The settings in force after the link came back, when they differ from the last
+		// board line (a reset line due before the next row carries them itself).
+		return s.boardLine()
 	}
 	return nil
+}
+
+// waitUntil is the deadline of one wait of the handshake: Handshake from now, and at the
+// start no later than the start's limit.
+func (ss *session) waitUntil(first bool) time.Time {
+	d := ss.cfg.Now().Add(ss.cfg.Handshake)
+	if first && !ss.startBy.IsZero() && ss.startBy.Before(d) {
+		d = ss.startBy
+	}
+	return d
 }
 
 // channels describes the recorded columns from the board's identity and CH frames.
@@ -161,8 +173,10 @@ func (ss *session) commands(id wire.Identity) []wire.Frame {
 }
 
 func (ss *session) send(f wire.Frame) error {
-	_, err := ss.port.Write(wire.Append(nil, f))
-	return err
+	if _, err := ss.port.Write(wire.Append(nil, f)); err != nil {
+		return &linkError{err}
+	}
+	return nil
 }
 
 var errWait = errors.New("logger: timed out waiting for the board")
@@ -180,7 +194,7 @@ func (ss *session) await(rd *chunkReader, deadline time.Time, cond func() bool) 
 		case c := <-rd.chunks:
 			t.Stop()
 			if c.err != nil {
-				return c.err
+				return &linkError{c.err}
 			}
 			err := ss.s.feed(c.b, ss.hostS(ss.cfg.Now()))
 			rd.release(c)

@@ -6,6 +6,7 @@ import (
 	"io"
 	"os"
 	"runtime"
+	"sync"
 	"syscall"
 	"time"
 
@@ -82,8 +83,28 @@ func (e *PortError) Error() string {
 
 func (e *PortError) Unwrap() error { return e.Err }
 
+// LockedError is the Err of a busy PortError when another recorder (or calibrate, or a
+// probe) holds the port's lock.
+type LockedError struct {
+	Pid int // the holder's process id; 0 when the system does not tell
+}
+
+func (e *LockedError) Error() string {
+	if e.Pid > 0 {
+		return fmt.Sprintf("locked by process %d", e.Pid)
+	}
+	return "locked by another process"
+}
+
 // Hint says what to try, for the kinds where there is something to try.
 func (e *PortError) Hint() string {
+	var le *LockedError
+	switch {
+	case errors.As(e.Err, &le) && le.Pid > 0:
+		return fmt.Sprintf("process %d has it locked, most likely another capcycle recording from it: stop that one first (kill %d), or record from another port", le.Pid, le.Pid)
+	case errors.As(e.Err, &le):
+		return "another process has it locked, most likely another capcycle recording from it: stop that one first"
+	}
 	switch e.Kind {
 	case PortBusy:
 		return "another program has the port open: close serial monitors and other loggers"
@@ -111,6 +132,11 @@ func permissionHint() string {
 // reads, and a loop around Read would spin. Read returns only with data, or with an
 // error once the port fails or is closed (a *PortError of kind PortGone when the device
 // went away). Close unblocks a pending Read; a second Close does nothing.
+//
+// The port is locked for as long as it is open (an advisory flock on the device, which
+// holds for root too, where the serial library's exclusive open does not): a second
+// Open of it, in this process or another, fails with a busy *PortError whose Err is a
+// *LockedError naming the holder's process id.
 func Open(path string, mode *Mode) (Port, error) {
 	m := Mode{}
 	if mode != nil {
@@ -126,15 +152,25 @@ func Open(path string, mode *Mode) (Port, error) {
 	if m.NoDTR {
 		sm.InitialStatusBits = &serial.ModemOutputBits{}
 	}
+	lock, err := lockPort(path)
+	if err != nil {
+		return nil, &PortError{Path: path, Op: "open", Kind: PortBusy, Err: err}
+	}
 	p, err := serial.Open(path, sm)
 	if err != nil {
+		if lock != nil {
+			lock.Close()
+		}
 		return nil, openError(path, err)
 	}
 	if err := p.SetReadTimeout(m.ReadTimeout); err != nil {
 		p.Close()
+		if lock != nil {
+			lock.Close()
+		}
 		return nil, &PortError{Path: path, Op: "open", Err: err}
 	}
-	return &retryPort{p: p, path: path, timeout: m.ReadTimeout}, nil
+	return &retryPort{p: p, path: path, timeout: m.ReadTimeout, lock: lock}, nil
 }
 
 func openError(path string, err error) error {
@@ -156,6 +192,10 @@ type retryPort struct {
 	p       serial.Port
 	path    string
 	timeout time.Duration
+	lock    *os.File // holds the port's lock; nil where there is none
+
+	closeOnce sync.Once
+	closeErr  error
 }
 
 // minWait is the least time an empty read takes: if the library returns (0, nil) sooner
@@ -198,4 +238,13 @@ func (r *retryPort) Write(b []byte) (int, error) {
 	return n, nil
 }
 
-func (r *retryPort) Close() error { return r.p.Close() }
+// Close closes the port, then releases its lock.
+func (r *retryPort) Close() error {
+	r.closeOnce.Do(func() {
+		r.closeErr = r.p.Close()
+		if r.lock != nil {
+			r.lock.Close()
+		}
+	})
+	return r.closeErr
+}

@@ -42,6 +42,38 @@ func TestDriftFit(t *testing.T) {
 	}
 }
 
+// TestDriftRule: a drift is given only from a fit of at least MinDriftSpanS over
+// MinDriftBlocks blocks, within MaxDriftPPM; the faults seen in use (a fit over 0 s, a
+// board run 99 times faster than real time) give none.
+func TestDriftRule(t *testing.T) {
+	fit := func(n int, stepS, rate float64) *DriftFit {
+		d := &DriftFit{}
+		for i := 0; i < n; i++ {
+			host := float64(i) * stepS
+			d.Add(host*rate, host+0.0005*float64(i%3))
+		}
+		return d
+	}
+	for _, tc := range []struct {
+		name string
+		d    *DriftFit
+		ok   bool
+		ppm  float64
+		why  string
+	}{
+		{"13 points in one burst", fit(13, 0.002, 1), false, 0, "needs at least 60 s"},
+		{"59 s at 10 Hz", fit(590, 0.1, 1+200e-6), false, 0, "needs at least 60 s"},
+		{"2 min at 10 Hz, 200 ppm fast", fit(1200, 0.1, 1+200e-6), true, 200, ""},
+		{"10 min at 1 Hz, 5 % slow", fit(600, 1, 0.95), true, -50000, ""},
+		{"a board 99 times faster than real time", fit(1200, 0.1, 99), false, 0, "do not follow real time"},
+	} {
+		ppm, ok, why := tc.d.Drift()
+		if ok != tc.ok || ok && math.Abs(ppm-tc.ppm) > 20 || !strings.Contains(why, tc.why) {
+			t.Errorf("%s: %+.1f ppm ok %v (%s); want ok %v %+.1f ppm", tc.name, ppm, ok, why, tc.ok, tc.ppm)
+		}
+	}
+}
+
 func TestFireDetector(t *testing.T) {
 	var d FireDetector
 	// Charge from 1 V to 3 V over 20 s at 10 Hz, fire down to 1 V within 0.2 s, three times.

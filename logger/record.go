@@ -5,8 +5,10 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"io/fs"
 	"math"
 	"os"
+	"path/filepath"
 	"slices"
 	"strings"
 	"time"
@@ -71,6 +73,13 @@ type Config struct {
 	RetryMax  time.Duration    // longest wait between reopen attempts; default 5 s
 	Silence   time.Duration    // no bytes for this long means the link is lost; default 15 s
 	Handshake time.Duration    // how long to wait for the identity and replies; default 5 s (a boot loader after the DTR reset takes 1-2 s)
+	// StartWait bounds how long the start keeps asking for the board's identity (a noisy
+	// link, a board still booting, other firmware). 0: until the recording's stop time or
+	// a cancel, as a reconnect mid-run does. The status line shows the attempts meanwhile.
+	StartWait time.Duration
+	// FlushEvery is how often rows go from memory to the file; default 250 ms, so that a
+	// crash or a kill -9 loses well under a second of rows.
+	FlushEvery time.Duration
 }
 
 // Burst is the adaptive-capture setting sent with ">burst".
@@ -92,7 +101,8 @@ type TextInput struct {
 type Summary struct {
 	Out        string
 	Stats      capture.Stats
-	Clock      capture.Clock
+	Clock      capture.Clock // the board clock's drift; Points 0 when it is not determined
+	ClockNote  string        // why the drift is not determined (DriftFit.Drift), when the board's clock was fitted
 	Segments   int
 	Reconnects int
 	Cycles     int
@@ -108,6 +118,12 @@ var ErrManyBoards = errors.New("logger: more than one board answered; give the p
 
 // ErrHandshake is wrapped by the error of a board that did not send its identity.
 var ErrHandshake = errors.New("logger: no identity frame from the board")
+
+// ErrOutput is wrapped by the errors about the capture path, found before the board is
+// asked for anything (a missing folder, an existing file without Force or Append, a file
+// Append cannot continue) or, for the columns of an appended file, right after the
+// handshake. They are the user's to fix, and nothing was written.
+var ErrOutput = errors.New("logger: unusable capture path")
 
 func (c *Config) defaults() Config {
 	r := *c
@@ -131,6 +147,9 @@ func (c *Config) defaults() Config {
 	}
 	if r.LogEvery <= 0 {
 		r.LogEvery = time.Minute
+	}
+	if r.FlushEvery <= 0 {
+		r.FlushEvery = DefaultFlushEvery
 	}
 	return r
 }
@@ -199,12 +218,30 @@ type session struct {
 
 	resumeS float64 // Append: rows must come after this time
 	resumed bool
+
+	// The link's state for the status line.
+	link     LinkState
+	since    time.Time // when the state began (LinkQuiet: the last byte)
+	tries    int       // reopen or handshake attempts in this state
+	lastData time.Time // when bytes last came
+	startBy  time.Time // the first handshake gives up at this time; zero: never
 }
+
+// DefaultFlushEvery is how often rows are written from memory to the file. The promise
+// is that a crash loses at most a second of rows; a quarter of that leaves room for a
+// late tick on a busy machine.
+const DefaultFlushEvery = 250 * time.Millisecond
+
+// tickEvery is the recording loop's tick: flushes, the status line, stop and silence
+// checks.
+const tickEvery = 100 * time.Millisecond
 
 // resume makes the stream continue after the appended file's last row.
 func (ss *session) resume() {
 	if ss.resumed && ss.s != nil {
-		ss.s.lastS, ss.s.written = ss.resumeS, true
+		// The appended stretch starts at the host time of its first row: resumeS is now
+		// on the file's axis, and the host clock measures the gap from there.
+		ss.s.lastS, ss.s.lastHostS, ss.s.written = ss.resumeS, ss.resumeS, true
 	}
 }
 
@@ -214,6 +251,9 @@ func (ss *session) resume() {
 // was written.
 func Record(ctx context.Context, cfg *Config) (*Summary, error) {
 	if err := cfg.check(); err != nil {
+		return nil, err
+	}
+	if err := cfg.checkOut(); err != nil {
 		return nil, err
 	}
 	ss := &session{cfg: cfg.defaults(), ctx: ctx}
@@ -258,18 +298,152 @@ func (ss *session) run() error {
 	if ss.cfg.Input == InputText {
 		err = ss.openText()
 	} else {
-		err = ss.handshake(rd, true)
+		rd, err = ss.firstHandshake(rd)
 	}
 	if err != nil {
-		rd.stop()
-		port.Close()
+		if rd != nil {
+			rd.stop()
+		}
+		ss.port.Close()
 		if ss.w != nil {
 			ss.w.Close(nil)
 		}
 		return err
 	}
+	ss.setLink(LinkFlowing, ss.cfg.Now())
 	err = ss.loop(rd)
 	return ss.finish(err)
+}
+
+// checkOut looks at the capture path before the port is opened, so that a mistake in it
+// is found before the board is asked for anything: the folder must exist, an existing
+// file needs Force or Append, and a file to append to must be a capture. The errors wrap
+// ErrOutput (and fs.ErrExist for an existing file).
+func (c *Config) checkOut() error {
+	out := c.Out
+	dir := filepath.Dir(out)
+	if st, err := os.Stat(dir); err != nil {
+		return fmt.Errorf("%w: cannot write %s: folder %s does not exist (nothing was written)", ErrOutput, out, dir)
+	} else if !st.IsDir() {
+		return fmt.Errorf("%w: cannot write %s: %s is not a folder (nothing was written)", ErrOutput, out, dir)
+	}
+	st, err := os.Stat(out)
+	switch {
+	case errors.Is(err, fs.ErrNotExist):
+		return nil
+	case err != nil:
+		return fmt.Errorf("%w: %s: %w", ErrOutput, out, err)
+	case st.IsDir():
+		return fmt.Errorf("%w: %s is a folder; give a file name", ErrOutput, out)
+	case c.Append:
+		if _, err := capture.Inspect(out); err != nil {
+			return fmt.Errorf("%w: cannot append to %s: it is not a capture file this recorder can continue (%w); nothing was changed", ErrOutput, out, err)
+		}
+	case !c.Force:
+		return fmt.Errorf("%w: %s: %w", ErrOutput, out, fs.ErrExist)
+	}
+	return nil
+}
+
+// linkError is a port that failed (a read or a write) while talking to the board.
+type linkError struct{ err error }
+
+func (e *linkError) Error() string { return e.err.Error() }
+func (e *linkError) Unwrap() error { return e.err }
+
+// firstHandshake runs the first handshake, and keeps trying as the recording does after a loss
+// mid-run: a silent or noisy link is asked again, a port that fails is reopened with
+// back-off, until the board answers, the recording's stop time or StartWait comes, or
+// the context ends. The status line shows the attempts. A board that refuses a setting
+// ends the recording at once. It returns the reader of the port in use.
+func (ss *session) firstHandshake(rd *chunkReader) (*chunkReader, error) {
+	begun := ss.cfg.Now()
+	ss.setLink(LinkStarting, begun)
+	ss.startBy = ss.deadline
+	if ss.cfg.StartWait > 0 {
+		if by := begun.Add(ss.cfg.StartWait); ss.startBy.IsZero() || by.Before(ss.startBy) {
+			ss.startBy = by
+		}
+	}
+	giveUp := func(cause error) error {
+		if rd != nil {
+			rd.stop()
+		}
+		return fmt.Errorf("%w on %s after %v of asking (%v); no capture was written (is it running capcycle firmware? for other firmware use text input)",
+			ErrHandshake, ss.path, ss.cfg.Now().Sub(begun).Round(time.Second), cause)
+	}
+	wait := ss.cfg.RetryMin
+	for {
+		ss.tries++
+		ss.status.update(ss.snapshot(ss.cfg.Now()), ss.cfg.Now())
+		var err error
+		if rd != nil {
+			err = ss.handshake(rd, true)
+			if err == nil {
+				ss.setLink(LinkFlowing, ss.cfg.Now())
+				ss.startBy = time.Time{}
+				return rd, nil
+			}
+		}
+		var le *linkError
+		switch {
+		case ss.ctx.Err() != nil:
+			return nil, giveUp(errors.New("stopped"))
+		case rd != nil && errors.As(err, &le):
+			rd.stop()
+			ss.port.Close()
+			rd = nil
+			ss.status.note("lost %s while asking for the board's identity (%v); reopening it", ss.path, le.err)
+		case rd != nil && !errors.Is(err, ErrHandshake) && !errors.Is(err, errWait):
+			return rd, err // refused settings, a capture that cannot be created
+		case rd != nil && ss.tries == 1:
+			ss.status.note("no answer from %s yet; still asking (Ctrl-C stops)", ss.path)
+		}
+		if !ss.startBy.IsZero() && !ss.cfg.Now().Before(ss.startBy) {
+			return nil, giveUp(errors.New("time is up"))
+		}
+		if rd != nil {
+			continue
+		}
+		// Reopen the port with back-off.
+		if !ss.sleep(wait) {
+			return nil, giveUp(errors.New("stopped"))
+		}
+		wait = min(wait*2, ss.cfg.RetryMax)
+		port, err := ss.cfg.Open(ss.path, ss.cfg.Mode)
+		if err != nil {
+			continue
+		}
+		ss.port = port
+		rd = newChunkReader(port)
+	}
+}
+
+// sleep waits for d, redrawing the status line meanwhile; false if the context ended.
+func (ss *session) sleep(d time.Duration) bool {
+	timer := time.NewTimer(d)
+	defer timer.Stop()
+	tick := time.NewTicker(tickEvery)
+	defer tick.Stop()
+	for {
+		select {
+		case <-ss.ctx.Done():
+			return false
+		case <-timer.C:
+			return true
+		case <-tick.C:
+			now := ss.cfg.Now()
+			ss.status.update(ss.snapshot(now), now)
+		}
+	}
+}
+
+// setLink moves the link to state st, begun at since.
+func (ss *session) setLink(st LinkState, since time.Time) {
+	ss.link, ss.since, ss.tries = st, since, 0
+	if st == LinkFlowing {
+		ss.lastData = since
+	}
 }
 
 // hostS is the host time now in seconds on the capture's axis.
@@ -299,10 +473,10 @@ func (ss *session) openFile(h *capture.Header) error {
 				return err
 			}
 			if want := ss.cfg.columns(len(h.Channels)); strings.Join(ex.Columns[1:], ",") != strings.Join(want, ",") {
-				return fmt.Errorf("logger: %s has columns %s; this recording writes %s (nothing was changed)",
-					ss.cfg.Out, strings.Join(ex.Columns, ","), strings.Join(want, ","))
+				return fmt.Errorf("%w: %s has columns %s; this recording writes %s (nothing was changed)",
+					ErrOutput, ss.cfg.Out, strings.Join(ex.Columns, ","), strings.Join(want, ","))
 			}
-			w, ex, err := capture.Append(ss.cfg.Out, ss.begun, &capture.Options{ValueDecimals: ss.cfg.Decimals})
+			w, ex, err := capture.Append(ss.cfg.Out, ss.begun, ss.captureOptions())
 			if err != nil {
 				return err
 			}
@@ -311,17 +485,25 @@ func (ss *session) openFile(h *capture.Header) error {
 			ss.status.note("recording %s, appending to %s (cut %d torn bytes; Ctrl-C stops)", ss.path, ss.cfg.Out, ex.TornBytes)
 			if h.Board != "" {
 				w.Meta(capture.KeyBoard, h.Board)
+				ss.s.lastBoard = h.Board
 			}
 			return nil
 		}
 	}
-	w, err := capture.Create(ss.cfg.Out, h, &capture.Options{Force: ss.cfg.Force, ValueDecimals: ss.cfg.Decimals})
+	w, err := capture.Create(ss.cfg.Out, h, ss.captureOptions())
 	if err != nil {
 		return err
 	}
 	ss.w, ss.start = w, ss.begun
+	if ss.s != nil {
+		ss.s.lastBoard = h.Board
+	}
 	ss.status.note("recording %s to %s (Ctrl-C stops and closes it)", ss.path, ss.cfg.Out)
 	return nil
+}
+
+func (ss *session) captureOptions() *capture.Options {
+	return &capture.Options{Force: ss.cfg.Force, ValueDecimals: ss.cfg.Decimals, FlushEvery: ss.cfg.FlushEvery}
 }
 
 func (ss *session) finish(loopErr error) error {
@@ -332,8 +514,12 @@ func (ss *session) finish(loopErr error) error {
 		st = ss.s.stats
 		ss.sum.Segments = ss.s.segment
 		ss.sum.Cycles = ss.s.fire.Cycles()
-		if ppm, ok := ss.s.drift.PPM(); ok && ss.cfg.Input == InputFrames {
-			ss.sum.Clock = capture.Clock{DriftPPM: ppm, FitS: ss.s.drift.SpanS(), Points: ss.s.drift.Points()}
+		if ss.cfg.Input == InputFrames && ss.s.drift.Points() > 0 {
+			if ppm, ok, why := ss.s.drift.Drift(); ok {
+				ss.sum.Clock = capture.Clock{DriftPPM: ppm, FitS: ss.s.drift.SpanS(), Points: ss.s.drift.Points()}
+			} else {
+				ss.sum.ClockNote = why
+			}
 		}
 		if ss.s.written && ss.s.lastS > ss.hostS(now) {
 			now = ss.start.Add(time.Duration(ss.s.lastS * 1e9)) // the end is not before the last row
@@ -359,9 +545,8 @@ func (ss *session) finish(loopErr error) error {
 
 // loop reads until a stop; it reconnects a lost port.
 func (ss *session) loop(rd *chunkReader) error {
-	tick := time.NewTicker(250 * time.Millisecond)
+	tick := time.NewTicker(tickEvery)
 	defer tick.Stop()
-	lastData := ss.cfg.Now()
 	for {
 		select {
 		case <-ss.ctx.Done():
@@ -375,13 +560,16 @@ func (ss *session) loop(rd *chunkReader) error {
 				rd.stop()
 				ss.port.Close()
 				var err error
-				if rd, err = ss.reconnect(c.err); err != nil || rd == nil {
+				if rd, err = ss.reconnect(c.err, now); err != nil || rd == nil {
 					return err
 				}
-				lastData = ss.cfg.Now()
 				continue
 			}
-			lastData = now
+			if ss.link != LinkFlowing {
+				ss.setLink(LinkFlowing, now)
+				ss.status.update(ss.snapshot(now), now)
+			}
+			ss.lastData = now
 			err := ss.consume(c.b, now)
 			rd.release(c)
 			if err != nil {
@@ -407,14 +595,19 @@ func (ss *session) loop(rd *chunkReader) error {
 				ss.port.Close()
 				return nil
 			}
-			if now.Sub(lastData) > ss.cfg.Silence {
+			quiet := now.Sub(ss.lastData)
+			if quiet > ss.cfg.Silence {
 				rd.stop()
 				ss.port.Close()
 				var err error
-				if rd, err = ss.reconnect(fmt.Errorf("logger: %s sent nothing for %v", ss.path, ss.cfg.Silence)); err != nil || rd == nil {
+				if rd, err = ss.reconnect(fmt.Errorf("logger: %s sent nothing for %v", ss.path, ss.cfg.Silence), ss.lastData); err != nil || rd == nil {
 					return err
 				}
-				lastData = ss.cfg.Now()
+			} else if quiet >= QuietAfter && ss.link == LinkFlowing {
+				ss.link, ss.since = LinkQuiet, ss.lastData
+				ss.status.note("nothing from %s for %v; still listening (the port is reopened after %v of silence)",
+					ss.path, quiet.Round(time.Second), ss.cfg.Silence)
+				ss.status.update(ss.snapshot(now), now)
 			}
 		}
 	}
@@ -440,8 +633,10 @@ func (ss *session) consume(b []byte, now time.Time) error {
 }
 
 // reconnect notes the gap and reopens the port with back-off until it answers, a stop
-// comes (it returns nil, nil) or a write fails.
-func (ss *session) reconnect(cause error) (*chunkReader, error) {
+// comes (it returns nil, nil) or a write fails. lostAt is when the link was last known
+// good (the last byte, for a silent port).
+func (ss *session) reconnect(cause error, lostAt time.Time) (*chunkReader, error) {
+	ss.setLink(LinkLost, lostAt)
 	reason := capture.GapReadError
 	var pe *PortError
 	if errors.As(cause, &pe) && pe.Kind == PortGone {
@@ -454,14 +649,11 @@ func (ss *session) reconnect(cause error) (*chunkReader, error) {
 	}
 	wait := ss.cfg.RetryMin
 	for {
+		ss.tries++
 		ss.status.update(ss.snapshot(ss.cfg.Now()), ss.cfg.Now())
-		timer := time.NewTimer(wait)
-		select {
-		case <-ss.ctx.Done():
-			timer.Stop()
+		if !ss.sleep(wait) {
 			ss.sum.Stop = "cancelled"
 			return nil, nil
-		case <-timer.C:
 		}
 		now := ss.cfg.Now()
 		if ss.stopDue(now) {
@@ -490,6 +682,7 @@ func (ss *session) reconnect(cause error) (*chunkReader, error) {
 			}
 		}
 		ss.sum.Reconnects++
+		ss.setLink(LinkFlowing, ss.cfg.Now())
 		ss.status.note("%s is back; recording goes on in the same file", ss.path)
 		return rd, nil
 	}
@@ -509,5 +702,9 @@ func (ss *session) snapshot(now time.Time) Snapshot {
 		sn.LastPeriodS, sn.HavePeriod = ss.s.fire.LastPeriod()
 	}
 	sn.Reconnects = ss.sum.Reconnects
+	sn.Link, sn.Tries = ss.link, ss.tries
+	if ss.link != LinkFlowing {
+		sn.For = max(now.Sub(ss.since), 0)
+	}
 	return sn
 }

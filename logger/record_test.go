@@ -4,9 +4,11 @@ import (
 	"bytes"
 	"context"
 	"errors"
+	"fmt"
 	"math"
 	"os"
 	"path/filepath"
+	"runtime"
 	"strings"
 	"testing"
 	"time"
@@ -55,6 +57,7 @@ func (r *recording) waitFor(want string) {
 		case <-time.After(20 * time.Millisecond):
 		}
 	}
+	r.t.Log(strings.ReplaceAll(r.status.String(), "\r", "\n"))
 	r.t.Fatalf("no %q in the status within 10 s; last %q", want, r.last())
 }
 
@@ -203,10 +206,154 @@ func TestRecordNoHandshake(t *testing.T) {
 	pb.setQuiet(true)
 	cfg := ptyConfig(pb)
 	cfg.Handshake = 300 * time.Millisecond
+	cfg.StartWait = 700 * time.Millisecond // the start asks again until this limit
 	cfg.Out = filepath.Join(t.TempDir(), "x.csv")
 	_, err := Record(context.Background(), cfg)
 	if !errors.Is(err, ErrHandshake) {
 		t.Fatalf("silent board: %v, want ErrHandshake", err)
+	}
+	if _, err := os.Stat(cfg.Out); err == nil {
+		t.Error("a capture was created without a handshake")
+	}
+}
+
+// TestSecondRecorderLocked: a second recorder on a port that one is recording from is
+// refused at once (as root too, where the exclusive open of the serial library does not
+// hold), with the holder's process id; the first goes on undisturbed, and once it stops
+// the port is free.
+func TestSecondRecorderLocked(t *testing.T) {
+	pb := newPtyBoard(t)
+	cfg := ptyConfig(pb)
+	r := startRecording(t, cfg)
+	r.waitFor("0 samples")
+	cfg2 := ptyConfig(pb)
+	cfg2.Out = filepath.Join(t.TempDir(), "second.csv")
+	_, err := Record(context.Background(), cfg2)
+	var pe *PortError
+	var le *LockedError
+	if !errors.As(err, &pe) || pe.Kind != PortBusy || !errors.As(err, &le) {
+		t.Fatalf("second recorder: %v, want a busy PortError with a LockedError", err)
+	}
+	if runtime.GOOS == "linux" && (le.Pid != os.Getpid() || !strings.Contains(err.Error(), fmt.Sprintf("process %d", os.Getpid()))) {
+		t.Errorf("second recorder: %v; want the holder's pid %d", err, os.Getpid())
+	}
+	if _, serr := os.Stat(cfg2.Out); serr == nil {
+		t.Error("the refused recorder created a capture")
+	}
+	pb.write(pb.slow(nil, 20, func(int) uint16 { return 5 }))
+	r.waitFor("20 samples")
+	if sum := r.stop(); sum.Stats.Samples != 20 || sum.Reconnects != 0 {
+		t.Errorf("the first recorder: %+v", sum)
+	}
+	p, err := Open(pb.link, nil)
+	if err != nil {
+		t.Fatalf("the port after the first recorder stopped: %v", err)
+	}
+	p.Close()
+}
+
+// TestOutputCheckedFirst: a capture path in a missing folder, an existing file without
+// force or append, and an append onto a file that is not a capture are refused before
+// the board is asked for anything, with ErrOutput, and change nothing.
+func TestOutputCheckedFirst(t *testing.T) {
+	dir := t.TempDir()
+	notCapture := filepath.Join(dir, "notes.txt")
+	os.WriteFile(notCapture, []byte("shopping list\nmilk\n"), 0o644)
+	existing := filepath.Join(dir, "kept.csv")
+	os.WriteFile(existing, []byte("precious\n"), 0o644)
+	for _, tc := range []struct {
+		name   string
+		out    string
+		append bool
+		want   string
+	}{
+		{"missing folder", filepath.Join(dir, "no-such-folder", "x.csv"), false, "does not exist"},
+		{"append onto a text file", notCapture, true, "not a capture file"},
+		{"existing file", existing, false, "exists"},
+		{"a folder", dir, false, "is a folder"},
+	} {
+		pb := newPtyBoard(t)
+		cfg := ptyConfig(pb)
+		cfg.Out, cfg.Append = tc.out, tc.append
+		before, _ := os.ReadFile(tc.out)
+		_, err := Record(context.Background(), cfg)
+		if !errors.Is(err, ErrOutput) || !strings.Contains(err.Error(), tc.want) {
+			t.Errorf("%s: %v, want ErrOutput saying %q", tc.name, err, tc.want)
+		}
+		if got := pbCmds(pb); got != "" {
+			t.Errorf("%s: the board was asked %q before the path was checked", tc.name, got)
+		}
+		if after, _ := os.ReadFile(tc.out); string(after) != string(before) {
+			t.Errorf("%s: the file changed", tc.name)
+		}
+	}
+}
+
+// TestFlushWithinAQuarterSecond: rows the recorder has are in the file once a quarter of a
+// second passes on the host clock (the test's clock: it moves 300 ms and no more, so
+// with the former 1 s flush the rows never reach the file).
+func TestFlushWithinAQuarterSecond(t *testing.T) {
+	pb := newPtyBoard(t)
+	cfg := ptyConfig(pb)
+	base := time.Date(2026, 12, 1, 12, 0, 0, 0, time.UTC)
+	clk := &fakeClock{t: base}
+	cfg.Now = clk.Now
+	r := startRecording(t, cfg)
+	r.waitFor("0 samples")
+	pb.write(pb.slow(nil, 30, func(int) uint16 { return 9 }))
+	r.waitFor("30 samples")
+	clk.Set(base.Add(300 * time.Millisecond))
+	deadline := time.Now().Add(20 * time.Second)
+	for {
+		b, _ := os.ReadFile(cfg.Out)
+		if strings.Count(string(b), ",0.02197\n") == 30 {
+			break
+		}
+		if time.Now().After(deadline) {
+			t.Fatalf("300 ms of host time after the rows came, the file holds:\n%s", b)
+		}
+		time.Sleep(20 * time.Millisecond)
+	}
+	r.stop()
+}
+
+// TestStartNoisyLink: the first identity replies arrive damaged. The start keeps asking,
+// with the state on the status line, and the recording begins once one gets through
+// (it used to give up after one handshake time).
+func TestStartNoisyLink(t *testing.T) {
+	pb := newPtyBoard(t)
+	pb.mu.Lock()
+	pb.garble = 3
+	pb.mu.Unlock()
+	cfg := ptyConfig(pb)
+	cfg.Handshake = 500 * time.Millisecond
+	r := startRecording(t, cfg)
+	r.waitFor("asking the board for its identity")
+	r.waitFor("0 samples")
+	pb.write(pb.slow(nil, 10, func(int) uint16 { return 3 }))
+	r.waitFor("10 samples")
+	sum := r.stop()
+	if n := strings.Count(pbCmds(pb), "id"); n < 4 || sum.Stats.Samples != 10 {
+		t.Errorf("%d identity requests, %+v", n, sum.Stats)
+	}
+	if !strings.Contains(r.status.String(), "no answer from") {
+		t.Errorf("no note of the retries: %q", r.status.String())
+	}
+}
+
+// TestStartStoppedWhileAsking: a cancel while the board has not answered ends the start
+// with ErrHandshake and no capture.
+func TestStartStoppedWhileAsking(t *testing.T) {
+	pb := newPtyBoard(t)
+	pb.setQuiet(true)
+	cfg := ptyConfig(pb)
+	r := startRecording(t, cfg)
+	r.waitFor("asking the board for its identity (")
+	r.waitFor("try 2)")
+	r.cancel()
+	<-r.done
+	if !errors.Is(r.err, ErrHandshake) || !strings.Contains(r.err.Error(), "no capture was written") {
+		t.Errorf("stopped while asking: %v", r.err)
 	}
 	if _, err := os.Stat(cfg.Out); err == nil {
 		t.Error("a capture was created without a handshake")

@@ -22,13 +22,54 @@ type Snapshot struct {
 	BadFrames   int64 // damaged frames (or bad text lines) dropped
 	FileBytes   int64
 	Reconnects  int
+
+	// Link is what the link to the board is doing; For is how long it has been doing it
+	// (LinkQuiet: since the last byte; LinkLost: since the port was lost; LinkStarting:
+	// since the first identity request) and Tries the reopen or handshake attempts.
+	Link  LinkState
+	For   time.Duration
+	Tries int
 }
 
+// LinkState is the state of the link to the board as the status line shows it.
+type LinkState int
+
+// Link states.
+const (
+	LinkFlowing  LinkState = iota // bytes arrive
+	LinkQuiet                     // the port is open but nothing came for a while (QuietAfter)
+	LinkLost                      // the port failed or went silent too long; it is being reopened
+	LinkStarting                  // the board has not sent its identity yet (start of a recording)
+)
+
+// QuietAfter is how long the port may stay silent before the status line says so: a few
+// sample periods of the slowest rate a board sends at, and under 3 s so that a board that
+// went away shows within that.
+const QuietAfter = 2 * time.Second
+
 // String is the status line: "2.415 V charging | 12 cycles, last 41.2 s | 30211 samples,
-// 0 lost, 0 bad | 1.2 MB | 01:02:03".
+// 0 lost, 0 bad | 1.2 MB | 01:02:03". While the board is silent, lost or not yet
+// answering, the line starts with that state and the last voltage is shown as the last:
+// "board silent for 12 s, still listening | last 2.415 V | ...".
 func (s Snapshot) String() string {
 	var b strings.Builder
-	if s.HaveVolts {
+	if s.Link == LinkStarting {
+		// No file yet: only the state and the clock.
+		fmt.Fprintf(&b, "asking the board for its identity (%d s, try %d) | %s", int64(s.For/time.Second), s.Tries, clockString(s.Elapsed))
+		return b.String()
+	}
+	if s.Link != LinkFlowing {
+		secs := int64(s.For / time.Second)
+		switch s.Link {
+		case LinkQuiet:
+			fmt.Fprintf(&b, "board silent for %d s, still listening", secs)
+		case LinkLost:
+			fmt.Fprintf(&b, "board gone for %d s, reopening the port (try %d)", secs, s.Tries)
+		}
+		if s.HaveVolts {
+			fmt.Fprintf(&b, " | last %.3f V", s.VoltsNow)
+		}
+	} else if s.HaveVolts {
 		state := "charging"
 		if s.Firing {
 			state = "firing"

@@ -49,3 +49,25 @@ func TestSnapshotString(t *testing.T) {
 		t.Errorf("got  %q\nwant %q", got, want)
 	}
 }
+
+// TestSnapshotLinkStates: a board that is silent, gone or not yet answering is said so
+// first, and the last voltage is marked as the last, not shown as live.
+func TestSnapshotLinkStates(t *testing.T) {
+	live := Snapshot{Elapsed: 75 * time.Second, VoltsNow: 2.4151, HaveVolts: true, Cycles: 3, Samples: 750, FileBytes: 2048}
+	for _, tc := range []struct {
+		link  LinkState
+		for_  time.Duration
+		tries int
+		want  string
+	}{
+		{LinkQuiet, 12 * time.Second, 0, "board silent for 12 s, still listening | last 2.415 V | 3 cycles | 750 samples, 0 lost, 0 bad | 2.0 KiB | 00:01:15"},
+		{LinkLost, 4500 * time.Millisecond, 3, "board gone for 4 s, reopening the port (try 3) | last 2.415 V | 3 cycles | 750 samples, 0 lost, 0 bad | 2.0 KiB | 00:01:15"},
+		{LinkStarting, 8 * time.Second, 8, "asking the board for its identity (8 s, try 8) | 00:01:15"},
+	} {
+		s := live
+		s.Link, s.For, s.Tries = tc.link, tc.for_, tc.tries
+		if got := s.String(); got != tc.want {
+			t.Errorf("got  %q\nwant %q", got, tc.want)
+		}
+	}
+}

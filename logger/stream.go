@@ -40,12 +40,14 @@ type stream struct {
 	anchorUS    int64
 	resetNote   bool // a reset line is due before the next row
 	resetCause  string
-	boardChange bool // a board line is due (settings changed)
+	boardChange bool   // a board line is due (settings changed)
+	lastBoard   string // the identity in the last board line written
 
-	hostS   float64 // host arrival time of the bytes being handled, seconds since start
-	lastS   float64 // time of the last row written
-	written bool
-	gapOpen bool
+	hostS     float64 // host arrival time of the bytes being handled, seconds since start
+	lastS     float64 // time of the last row written
+	lastHostS float64 // host arrival time of the last row written
+	written   bool
+	gapOpen   bool
 
 	vals  []float64
 	stats capture.Stats
@@ -262,10 +264,7 @@ func (s *stream) sample(seq uint32, us int64, counts []uint16, nch int, slow boo
 	if !s.anchored {
 		s.anchored = true
 		s.anchorUS = us
-		s.anchorS = s.hostS
-		if s.written && s.anchorS <= s.lastS+1e-6 {
-			s.anchorS = s.lastS + 1e-6
-		}
+		s.anchorS = s.anchor()
 	}
 	t := s.anchorS + float64(us-s.anchorUS)/1e6
 	if slow {
@@ -275,6 +274,19 @@ func (s *stream) sample(seq uint32, us int64, counts []uint16, nch int, slow boo
 		s.vals[k] = float64(counts[k])*s.factor[k] + s.offV[k]
 	}
 	return s.row(t, s.vals)
+}
+
+// anchor is the time_s of the first row of a connected stretch. The first stretch starts
+// at the host's arrival time. A later one (after an outage or a reset) starts after the
+// last row by the time the host clock saw pass between the two rows' arrivals: the gap is
+// measured by the host clock, whatever the board's clock did meanwhile, and the board's
+// timestamps are used only inside a stretch. A board clock that ran ahead during the last
+// stretch therefore cannot swallow the outage.
+func (s *stream) anchor() float64 {
+	if !s.written {
+		return s.hostS
+	}
+	return s.lastS + max(s.hostS-s.lastHostS, 1e-6)
 }
 
 // row writes one row (any input mode), with the reset and board lines due before it.
@@ -288,13 +300,14 @@ func (s *stream) row(t float64, vals []float64) error {
 		if cause == "" {
 			cause = "unknown"
 		}
-		if err := s.w.Reset(capture.Reset{AtS: t, Cause: cause, Segment: s.segment}, IdentityString(s.id)); err != nil {
+		board := IdentityString(s.id)
+		if err := s.w.Reset(capture.Reset{AtS: t, Cause: cause, Segment: s.segment}, board); err != nil {
 			return err
 		}
-		s.resetNote, s.boardChange = false, false
+		s.resetNote, s.boardChange, s.lastBoard = false, false, board
 	}
 	if s.boardChange {
-		if err := s.w.Meta(capture.KeyBoard, IdentityString(s.id)); err != nil {
+		if err := s.boardLine(); err != nil {
 			return err
 		}
 		s.boardChange = false
@@ -307,11 +320,25 @@ func (s *stream) row(t float64, vals []float64) error {
 		return err
 	}
 	s.gapOpen = false
-	s.lastS, s.written = t, true
+	s.lastS, s.lastHostS, s.written = t, s.hostS, true
 	s.segSamples++
 	s.stats.Samples++
 	s.nowV, s.haveV = vals[0], true
 	s.fire.Add(t, vals[0])
+	return nil
+}
+
+// boardLine writes the board's identity as a board line, unless the last one written
+// says the same.
+func (s *stream) boardLine() error {
+	b := IdentityString(s.id)
+	if b == s.lastBoard {
+		return nil
+	}
+	if err := s.w.Meta(capture.KeyBoard, b); err != nil {
+		return err
+	}
+	s.lastBoard = b
 	return nil
 }
 

@@ -99,6 +99,7 @@ func (p *textParser) line(line []byte, hostS float64) error {
 		p.vals[k] *= p.factor
 	}
 	t := hostS
+	p.s.hostS = hostS
 	if p.s.written && t < p.s.lastS+1e-6 {
 		t = p.s.lastS + 1e-6 // lines that arrive together: 1 us apart, in order
 	}

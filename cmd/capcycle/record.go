@@ -117,6 +117,8 @@ func runRecord(ctx context.Context, args []string, e *env) error {
 		if sum.Clock.Points > 0 {
 			fmt.Fprintf(e.stderr, "record: the board clock ran %+.0f ppm against the host over %.0f s (in the file's clock line)\n",
 				sum.Clock.DriftPPM, sum.Clock.FitS)
+		} else if sum.ClockNote != "" {
+			fmt.Fprintf(e.stderr, "record: the board clock's drift is not determined: %s\n", sum.ClockNote)
 		}
 	}
 	return nil
@@ -128,6 +130,8 @@ func recordError(err error) error {
 	switch {
 	case errors.Is(err, os.ErrExist):
 		return usageErrorf("%w (use --force to replace it or --append to continue it)", err)
+	case errors.Is(err, logger.ErrOutput):
+		return inputError(err)
 	case errors.Is(err, logger.ErrNoBoard), errors.Is(err, logger.ErrManyBoards):
 		return usageErrorf("%w; pick one with --port PATH", err)
 	case errors.As(err, &pe) && pe.Op == "open":

@@ -8,6 +8,7 @@ import (
 	"path/filepath"
 	"strings"
 	"sync"
+	"sync/atomic"
 	"testing"
 	"time"
 
@@ -32,6 +33,8 @@ type recBoard struct {
 	cmds   []wire.Frame
 	stop   chan struct{}
 	wg     sync.WaitGroup
+	paused atomic.Bool // stream sends nothing while set (a board gone quiet)
+	closed sync.Once
 }
 
 func newRecBoard(t *testing.T, nch uint32) *recBoard {
@@ -53,11 +56,19 @@ func newRecBoard(t *testing.T, nch uint32) *recBoard {
 	go b.stream()
 	t.Cleanup(func() {
 		close(b.stop)
-		b.master.Close()
+		b.unplug()
 		b.wg.Wait()
-		b.slave.Close()
 	})
 	return b
+}
+
+// unplug closes the board's side of the pseudo-terminal, as a pulled cable: the host's
+// reads fail and the device node goes away.
+func (b *recBoard) unplug() {
+	b.closed.Do(func() {
+		b.master.Close()
+		b.slave.Close()
+	})
 }
 
 func (b *recBoard) send(p []byte) {
@@ -130,6 +141,9 @@ func (b *recBoard) stream() {
 		case <-b.stop:
 			return
 		case <-tick.C:
+		}
+		if b.paused.Load() {
+			continue
 		}
 		b.mu.Lock()
 		a := wire.Average{Seq: seq, TimeUS: tUS, N: 10, NCh: int(b.id.NCh)}
@@ -279,5 +293,34 @@ func TestRecordTextInput(t *testing.T) {
 	}
 	if !strings.Contains(string(text), "# channel: vcap_v adc=0 bits=10 ref_v=5 divider=0.5 scale=1") {
 		t.Errorf("channel line missing:\n%s", text)
+	}
+}
+
+// TestRecordPathErrorsFirst: a capture path in a missing folder and an append onto a
+// file that is not a capture are bad input (exit 2), found before the board is asked
+// anything, and change nothing.
+func TestRecordPathErrorsFirst(t *testing.T) {
+	dir := t.TempDir()
+	notes := filepath.Join(dir, "notes.txt")
+	os.WriteFile(notes, []byte("Wren: moved to the left of the sill\n"), 0o644)
+	for _, tc := range []struct {
+		name string
+		args []string
+		want string
+	}{
+		{"missing folder", []string{"--out", filepath.Join(dir, "no-such-folder", "wren.csv")}, "does not exist"},
+		{"append onto notes", []string{"--out", notes, "--append"}, "not a capture file"},
+	} {
+		b := newRecBoard(t, 1)
+		code, _, errs := runCmd(t, append([]string{"record", "--port", b.path, "--duration", "2s", "--quiet"}, tc.args...)...)
+		if code != exitUsage || !strings.Contains(errs, tc.want) {
+			t.Errorf("%s: exit %d, stderr %q; want %d and %q", tc.name, code, errs, exitUsage, tc.want)
+		}
+		if cmds := b.commands(); len(cmds) != 0 {
+			t.Errorf("%s: the board was asked %v before the path was checked", tc.name, cmds)
+		}
+	}
+	if b, _ := os.ReadFile(notes); string(b) != "Wren: moved to the left of the sill\n" {
+		t.Errorf("the notes changed: %q", b)
 	}
 }
