@@ -198,7 +198,7 @@ type Reader struct {
 
 // NewReader returns a Reader on r; name is used in errors.
 func NewReader(r io.Reader, name string) *Reader {
-	return &Reader{Name: name, br: bufio.NewReaderSize(r, 1<<16)}
+	return &Reader{Name: name, br: bufio.NewReaderSize(r, maxLineBytes)}
 }
 
 // Meta returns the metadata lines ("# key: value") seen so far, the first value of each
@@ -293,6 +293,18 @@ func (r *Reader) errf(col int, field []byte, err error) error {
 	return &ParseError{File: r.Name, Line: r.line, Column: col, Field: f, Err: err}
 }
 
+// maxLineBytes is the longest line a Reader takes, line end included.
+const maxLineBytes = 1 << 16
+
+// sep is the field separator in use: the Comma option, else a comma (before the header
+// row has been sniffed).
+func (r *Reader) sep() byte {
+	if r.Comma != 0 {
+		return r.Comma
+	}
+	return ','
+}
+
 // nextLine returns the next line without its line end, whether it had one, and io.EOF
 // at the end. The slice is valid until the next call.
 func (r *Reader) nextLine() (line []byte, complete bool, err error) {
@@ -300,7 +312,9 @@ func (r *Reader) nextLine() (line []byte, complete bool, err error) {
 	r.nbytes += int64(len(line))
 	if err == bufio.ErrBufferFull {
 		r.line++
-		return nil, false, r.errf(0, nil, ErrLineTooLong)
+		// The column where the limit was reached, counted in the fields read so far.
+		col := 1 + bytes.Count(line, []byte{r.sep()})
+		return nil, false, r.errf(col, nil, fmt.Errorf("%w: over %d bytes without a line end (the limit of a row; a file without line breaks, or a binary file?)", ErrLineTooLong, maxLineBytes))
 	}
 	if err != nil && err != io.EOF {
 		return nil, false, fmt.Errorf("capture: %s: %w", r.Name, err)

@@ -65,7 +65,8 @@ var badFiles = []struct {
 	{"semicolon not a number", "time_s;vcap_v\n0;1,5\n0,1;x\n", 3, 5, ErrNotNumber},
 	{"tab two dots", "time_s\tvcap_v\n0\t1.5\n0.1\t1.5.1\n", 3, 5, ErrNotNumber},
 	{"torn foreign row", "time_s,vcap_v\n0,1\n0.1,1.", 3, 0, nil}, // dropped with a warning (TestReaderWarnings)
-	{"long line", "time_s,vcap_v\n" + strings.Repeat("1", 70000) + "\n", 2, 0, ErrLineTooLong},
+	{"long line", "time_s,vcap_v\n" + strings.Repeat("1", 70000) + "\n", 2, 1, ErrLineTooLong},
+	{"long second cell", "time_s,vcap_v\n0," + strings.Repeat("1", 70000) + "\n", 2, 2, ErrLineTooLong},
 	{"third column chosen by index absent", "time_s,vcap_v\n0,1\n", 1, 0, ErrMissingColumn}, // TimeCol "3"
 	{"not a number current", "time_s,vcap_v,iload_a\n0,1,0\n0.1,1,x\n", 3, 7, ErrNotNumber},
 }
