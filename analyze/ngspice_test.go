@@ -13,7 +13,7 @@ import (
 
 	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect/detecttest"
-	"capcycle/internal/spicetest"
+	"capcycle/analyze/model/spicetest"
 	"capcycle/logger/capture"
 )
 

@@ -19,7 +19,7 @@ import (
 	"testing"
 
 	"capcycle/analyze/model"
-	"capcycle/internal/spicetest"
+	"capcycle/analyze/model/spicetest"
 )
 
 // spiceTrace is ngspice's node voltage at its own time points.
