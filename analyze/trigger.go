@@ -6,8 +6,9 @@ import (
 )
 
 // measureTrigger: on_v and off_v are the mean fire and reset voltages of the full
-// cycles; their SD is the cycle-to-cycle standard deviation and Lo95/Hi95 the 95 %
-// interval of the mean. kind is the detector's reading of the trigger.
+// cycles, period_s and pulse_s the mean interval and pulse width; each one's SD is the
+// standard error of the mean and its Spread the cycle-to-cycle standard deviation (see
+// spread). kind is the detector's reading of the trigger.
 func measureTrigger(kind string, cs []detect.Cycle) analysis.TriggerFit {
 	tf := analysis.TriggerFit{Kind: analysis.TriggerKind(kind)}
 	if len(cs) == 0 {
