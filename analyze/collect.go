@@ -22,6 +22,8 @@ type collector struct {
 	chg       *chargeLog // the load current, when the capture has one
 	riseSlope float64    // the end slope of the last rise, and its swing index
 	riseIdx   int
+	// the last points of the last rise (swing riseIdx), for placing the next fire
+	tailT, tailV []float64
 
 	widest     int    // the rise chosen for the single-diode fit (see ivRank)
 	widestRank ivRank // its rank
@@ -60,6 +62,8 @@ type swingInfo struct {
 	iv                                   []ivPt  // rises: traced points
 	trace                                []tvPt  // compact copy for the overlay plot
 	capF                                 float64 // falls, with a current channel: C from the pulse's charge (0: none)
+	// falls: the fire and the reset placed between samples (see events.go)
+	fire, reset located
 }
 
 type ivPt struct{ t, v, dvdt float64 }
@@ -96,6 +100,7 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 			}
 		}
 		if !c.fitThisFall(len(pts)) {
+			inf.fire = c.locateFire(i, s, pts, nil)
 			c.keepDecay(i, s, pts)
 			return
 		}
@@ -117,12 +122,20 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 		if inf.exp.ok && pts[s.ResetIndex].T-pts[s.OnsetIndex].T < slowFallS {
 			c.pool.add(i, c.ts, c.vs, &inf.exp, noise)
 		}
+		inf.fire = c.locateFire(i, s, pts, &inf.exp)
 		inf.fallV = s.AmplitudeV()
 		inf.earlyV, inf.earlySlope, inf.lateV, inf.lateSlope = localSlopes(c.ts, c.vs)
 		c.keepDecay(i, s, pts)
 		return
 	}
 	c.riseSlope, c.riseIdx = s.EndSlopeVPerS, i
+	if i > 0 && c.info[i-1].fallV > 0 { // after a fitted fall
+		c.info[i-1].reset = locateReset(pts, &c.info[i-1].exp)
+	}
+	c.tailT, c.tailV = c.tailT[:0], c.tailV[:0]
+	for _, p := range pts[max(0, len(pts)-sidePoints):] {
+		c.tailT, c.tailV = append(c.tailT, p.T), append(c.tailV, p.V)
+	}
 	// A rise that starts on a flat stretch (the bottom of a dark decay, held at 0 V until
 	// the light returns) is taken from the last point still at its starting level: the
 	// flat part is no charging, neither for the I-V tracing nor for the approach's fit.
@@ -151,6 +164,16 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 		}
 		inf.exp = fitExp(c.ts, c.vs, noise/math.Sqrt(meanN(pts)))
 	}
+}
+
+// locateFire places fall i's fire between samples, from the last rise's tail when that
+// rise came just before it (see events.go).
+func (c *collector) locateFire(i int, s *detect.Swing, pts []detect.Point, e *expResult) located {
+	var tt, tv []float64
+	if c.riseIdx == i-1 {
+		tt, tv = c.tailT, c.tailV
+	}
+	return locateFire(pts, s.OnsetIndex, tt, tv, e)
 }
 
 // slowFallS is the shortest fall taken for a decay rather than a pulse: a motor or

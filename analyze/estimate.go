@@ -3,6 +3,8 @@ package analyze
 import (
 	"math"
 
+	"gonum.org/v1/gonum/stat/distuv"
+
 	"capcycle/analyze/analysis"
 	"capcycle/analyze/stats"
 )
@@ -25,12 +27,20 @@ func spread(xs []float64, origin analysis.Origin) *analysis.Estimate {
 	n := len(xs)
 	if n > 1 {
 		s := stats.SD(xs)
-		se := s / math.Sqrt(float64(n)) * math.Sqrt(inflation(xs, m))
+		infl := inflation(xs, m)
+		se := s / math.Sqrt(float64(n)) * math.Sqrt(infl)
 		e.SD, e.Spread = ptr(se), ptr(s)
-		h := 1.96 * se
+		h := studentT95(float64(n)/infl-1) * se
 		e.Lo95, e.Hi95 = ptr(m-h), ptr(m+h)
 	}
 	return e
+}
+
+// studentT95 is the two-sided 95 % quantile of Student's t with dof degrees of freedom
+// (at least 1): the interval of a mean whose SD was estimated from few values (the GUM's
+// coverage factor for a Type A evaluation, JCGM 100:2008, G.3).
+func studentT95(dof float64) float64 {
+	return distuv.StudentsT{Mu: 0, Sigma: 1, Nu: math.Max(1, dof)}.Quantile(0.975)
 }
 
 // inflation is (1+r)/(1−r) for the lag-1 autocorrelation r of xs about their mean m,

@@ -17,6 +17,7 @@ import (
 // and the cell. r may be nil (samples in memory).
 func (s *session) finish(r *capture.Reader) *analysis.Result {
 	sum := s.det.Finish()
+	placeEvents(sum, s.col.info)
 	w := &swings{sum: sum, info: s.col.info, col: s.col, cal: &s.cal, chg: s.chg, opts: s.opts}
 	res := &analysis.Result{
 		Schema:    analysis.Schema,
@@ -49,6 +50,9 @@ func (s *session) finish(r *capture.Reader) *analysis.Result {
 	res.EquilibriumV, res.Equilibrium = measureEquilibrium(w, res.Fit.Trigger.OnV)
 	cell := measureCell(w, cellInputs{capF: capF, decay: decay, probeOhm: d.ProbeOhm, series: d.CellSeries, tempK: d.CellTempK}, &n)
 	res.Fit.Cell = cell.fit
+	if relu, ok := capRelU(res.Capacitance); ok {
+		capBudget(res, relu, !capMeasured(res.Capacitance))
+	}
 	cell.lightPerCycle(res.Cycles, sum.Cycles)
 	res.Light = cell.lightTrace(sum)
 	res.Envelope = envelopeOf(s.env)
