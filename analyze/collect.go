@@ -62,9 +62,15 @@ type swingInfo struct {
 	iv                                   []ivPt  // rises: traced points
 	trace                                []tvPt  // compact copy for the overlay plot
 	capF                                 float64 // falls, with a current channel: C from the pulse's charge (0: none)
-	// falls: the fire and the reset placed between samples (see events.go)
+	// falls: the fire and the reset placed between samples (see events.go), and the
+	// fall's last points, for a reset with no pulse fit
 	fire, reset located
+	end         [endPoints]detect.Point
+	nEnd        int
 }
+
+// endPoints is the number of a fall's last points kept for placing its reset.
+const endPoints = 4
 
 type ivPt struct{ t, v, dvdt float64 }
 
@@ -90,6 +96,10 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 	noise := math.Max(c.det.NoiseV(), c.det.StepV()/math.Sqrt(12))
 	if !s.Up {
 		c.falls++
+		for _, p := range pts[max(0, len(pts)-endPoints):] {
+			inf.end[inf.nEnd] = p
+			inf.nEnd++
+		}
 		if c.chg != nil && s.ResetIndex > s.OnsetIndex {
 			slope := 0.0
 			if c.riseIdx == i-1 {
@@ -129,8 +139,10 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 		return
 	}
 	c.riseSlope, c.riseIdx = s.EndSlopeVPerS, i
-	if i > 0 && c.info[i-1].fallV > 0 { // after a fitted fall
-		c.info[i-1].reset = locateReset(pts, &c.info[i-1].exp)
+	if i > 0 && c.info[i-1].nEnd > 0 { // after a fall
+		prev := &c.info[i-1]
+		band := math.Max(4*c.det.NoiseV(), c.det.StepV())
+		prev.reset = locateReset(pts, &prev.exp, prev.end[:prev.nEnd], band)
 	}
 	c.tailT, c.tailV = c.tailT[:0], c.tailV[:0]
 	for _, p := range pts[max(0, len(pts)-sidePoints):] {

@@ -144,14 +144,18 @@ func chargingSide(pts []detect.Point, onset int, tailT, tailV []float64) (ts, vs
 }
 
 // locateReset places the reset of a fall whose pulse exponential is e, from the first
-// points of the rise after it (pts, starting at the trough).
-func locateReset(pts []detect.Point, e *expResult) located {
-	if e == nil || !e.ok || len(pts) < 4 {
+// points of the rise after it (pts, starting at the trough). Without a pulse fit (e nil
+// or not ok) it is the midpoint between the fall's last sample off the recharge curve
+// and the recharge's first (end are the fall's last points, band the distance from the
+// recharge curve within which a sample is taken to be on it).
+func locateReset(pts []detect.Point, e *expResult, end []detect.Point, band float64) located {
+	if len(pts) < 4 {
 		return located{}
 	}
-	// The reset lies after the last sample of the fall's fit and before the first
-	// sample of the recharge that the exponential, continued, would put below it.
-	ta := e.t1
+	ta := math.Inf(-1)
+	if e != nil && e.ok {
+		ta = e.t1 // after the last sample of the fall's fit
+	}
 	var ts, vs []float64
 	for _, p := range pts {
 		if len(ts) == sidePoints {
@@ -161,10 +165,15 @@ func locateReset(pts []detect.Point, e *expResult) located {
 			ts, vs = append(ts, p.T), append(vs, p.V)
 		}
 	}
+	if e == nil || !e.ok {
+		return midReset(ts, vs, end, band)
+	}
 	slow := fitSide(ts, vs, ta)
 	if !slow.ok {
 		return located{}
 	}
+	// The reset lies before the first sample of the recharge that the exponential,
+	// continued, would put below it.
 	tb := ts[0]
 	for k := 1; k < len(ts) && slow.at(tb)-e.at(tb) < 0; k++ {
 		tb = ts[k]
@@ -174,6 +183,39 @@ func locateReset(pts []detect.Point, e *expResult) located {
 		return located{}
 	}
 	return located{ok: true, t: tm, v: slow.at(tm), fitted: true, dt: ts[0] - ta}
+}
+
+// midReset places a reset with no pulse fit: the recharge curve is fitted to the rise's
+// points after its first, the first is taken for the recharge's own when within band of
+// that curve, and the reset is the midpoint between the recharge's first sample and the
+// last sample before it (of the fall's last points), at the recharge curve's voltage.
+func midReset(ts, vs []float64, end []detect.Point, band float64) located {
+	if len(ts) < 4 {
+		return located{}
+	}
+	first := 0
+	slow := fitSide(ts[1:], vs[1:], ts[0])
+	if !slow.ok {
+		return located{}
+	}
+	if math.Abs(vs[0]-slow.at(ts[0])) > band {
+		first = 1 // the trough sample is still on the fall
+	}
+	tr := ts[first]
+	tl := math.Inf(-1)
+	for _, p := range end {
+		if p.T < tr && p.T > tl {
+			tl = p.T
+		}
+	}
+	if first == 1 {
+		tl = ts[0]
+	}
+	if math.IsInf(tl, -1) {
+		return located{}
+	}
+	tm := 0.5 * (tl + tr)
+	return located{ok: true, t: tm, v: slow.at(tm), dt: tr - tl}
 }
 
 // placeEvents moves every cycle's fire and reset to where they were located between

@@ -34,7 +34,7 @@ func (s *session) finish(r *capture.Reader) *analysis.Result {
 	res.Noise = noiseOf(sum, s.stepOrigin)
 	res.Cycles = cyclesOf(sum)
 	res.Segments, res.Source.GapsS = segmentsOf(sum, r)
-	res.Fit.Trigger = measureTrigger(sum.Trigger, w.full())
+	res.Fit.Trigger = measureTrigger(sum.Trigger, w.full(), s.col.info, sum.SpacingS)
 	decay := measureDecay(w, &n)
 	res.Capacitance = measureCapacitance(w, d, decay, &n)
 	capF := 0.0
