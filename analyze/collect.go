@@ -54,8 +54,10 @@ func (c *collector) fitThisFall(points int) bool {
 
 // swingInfo is what is kept per swing.
 type swingInfo struct {
-	exp   expResult // falls (from the onset), and rises that level off or end the capture
-	fallV float64   // falls: the height
+	exp expResult // falls (from the onset), and rises that level off or end the capture
+	// rises that level off or end the capture: the fit of their later half alone
+	expTail expResult
+	fallV   float64 // falls: the height
 	// the voltage and its slope early and late in a fall (a line through the first and
 	// through the last third), for the effective load resistance
 	earlyV, earlySlope, lateV, lateSlope float64
@@ -175,6 +177,10 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 			c.vs = append(c.vs, p.V)
 		}
 		inf.exp = fitExp(c.ts, c.vs, noise/math.Sqrt(meanN(pts)))
+		// the later part alone, for the equilibrium's model discrepancy
+		if h := len(c.ts) / 2; inf.exp.ok && h >= 8 {
+			inf.expTail = fitExp(c.ts[h:], c.vs[h:], noise/math.Sqrt(meanN(pts)))
+		}
 	}
 }
 

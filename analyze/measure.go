@@ -47,7 +47,7 @@ func (s *session) finish(r *capture.Reader) *analysis.Result {
 	if res.Fit.Leak.TauS != nil {
 		res.LeakTrace, res.LeakModel = leakPlot(w)
 	}
-	res.EquilibriumV, res.Equilibrium = measureEquilibrium(w, res.Fit.Trigger.OnV)
+	res.EquilibriumV, res.Equilibrium = measureEquilibrium(w, res.Fit.Trigger.OnV, &n)
 	cell := measureCell(w, cellInputs{capF: capF, decay: decay, probeOhm: d.ProbeOhm, series: d.CellSeries, tempK: d.CellTempK}, &n)
 	res.Fit.Cell = cell.fit
 	if relu, ok := capRelU(res.Capacitance); ok {
