@@ -170,3 +170,28 @@ func TestCalibrationEquilibrium(t *testing.T) {
 	}
 	cov.check(t, 0.90, 0.99)
 }
+
+// TestCalibrationLeak: the leak's time constant, resistance and constant drain from a
+// dark decay of an hour (Wren's 4.7 mF and 1 MΩ with a 0.2 µA drain, one sample every
+// 0.5 s), the capacitance declared at its nominal value with the part anywhere in its
+// ±20 % band: the ohms and amperes carry the capacitance's uncertainty.
+func TestCalibrationLeak(t *testing.T) {
+	cov := newCoverage()
+	rng := rand.New(rand.NewPCG(13, 1))
+	light := []detecttest.Light{{FromS: 0, IA: 0.5e-3}, {FromS: 120, IA: 0}}
+	for k := range realisations() {
+		c := wrenRC
+		c.IQA = 0.2e-6
+		c.C *= 1 + 0.2*(2*rng.Float64()-1)
+		ts, vs, tr := detecttest.Generate(c, light, 3900, detecttest.Sampling{DtS: 0.5}, calADC(1e-3+1e-3*float64(k%3), uint64(700+k)))
+		res := RunSamples(ts, vs, &Options{Declared: analysis.Declared{CapF: wrenRC.C, CapTol: "M"}})
+		lk := res.Fit.Leak
+		if lk.Method != analysis.LeakDarkDecay {
+			t.Fatalf("realisation %d: leak method %q, want a dark decay", k, lk.Method)
+		}
+		cov.add("leak_tau_s", lk.TauS, tr.TauLeakS)
+		cov.add("leak_ohm", lk.Ohm, c.RLeakOhm)
+		cov.add("quiescent_a", lk.QuiescentA, c.IQA)
+	}
+	cov.check(t, 0.90, 0.99)
+}
