@@ -22,6 +22,8 @@ type collector struct {
 	chg       *chargeLog // the load current, when the capture has one
 	riseSlope float64    // the end slope of the last rise, and its swing index
 	riseIdx   int
+	// the last points of the last rise (swing riseIdx), for placing the next fire
+	tailT, tailV []float64
 
 	widest     int    // the rise chosen for the single-diode fit (see ivRank)
 	widestRank ivRank // its rank
@@ -52,15 +54,25 @@ func (c *collector) fitThisFall(points int) bool {
 
 // swingInfo is what is kept per swing.
 type swingInfo struct {
-	exp   expResult // falls (from the onset), and rises that level off or end the capture
-	fallV float64   // falls: the height
+	exp expResult // falls (from the onset), and rises that level off or end the capture
+	// rises that level off or end the capture: the fit of their later half alone
+	expTail expResult
+	fallV   float64 // falls: the height
 	// the voltage and its slope early and late in a fall (a line through the first and
 	// through the last third), for the effective load resistance
 	earlyV, earlySlope, lateV, lateSlope float64
 	iv                                   []ivPt  // rises: traced points
 	trace                                []tvPt  // compact copy for the overlay plot
 	capF                                 float64 // falls, with a current channel: C from the pulse's charge (0: none)
+	// falls: the fire and the reset placed between samples (see events.go), and the
+	// fall's last points, for a reset with no pulse fit
+	fire, reset located
+	end         [endPoints]detect.Point
+	nEnd        int
 }
+
+// endPoints is the number of a fall's last points kept for placing its reset.
+const endPoints = 4
 
 type ivPt struct{ t, v, dvdt float64 }
 
@@ -86,6 +98,10 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 	noise := math.Max(c.det.NoiseV(), c.det.StepV()/math.Sqrt(12))
 	if !s.Up {
 		c.falls++
+		for _, p := range pts[max(0, len(pts)-endPoints):] {
+			inf.end[inf.nEnd] = p
+			inf.nEnd++
+		}
 		if c.chg != nil && s.ResetIndex > s.OnsetIndex {
 			slope := 0.0
 			if c.riseIdx == i-1 {
@@ -96,6 +112,7 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 			}
 		}
 		if !c.fitThisFall(len(pts)) {
+			inf.fire = c.locateFire(i, s, pts, nil)
 			c.keepDecay(i, s, pts)
 			return
 		}
@@ -117,12 +134,22 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 		if inf.exp.ok && pts[s.ResetIndex].T-pts[s.OnsetIndex].T < slowFallS {
 			c.pool.add(i, c.ts, c.vs, &inf.exp, noise)
 		}
+		inf.fire = c.locateFire(i, s, pts, &inf.exp)
 		inf.fallV = s.AmplitudeV()
 		inf.earlyV, inf.earlySlope, inf.lateV, inf.lateSlope = localSlopes(c.ts, c.vs)
 		c.keepDecay(i, s, pts)
 		return
 	}
 	c.riseSlope, c.riseIdx = s.EndSlopeVPerS, i
+	if i > 0 && c.info[i-1].nEnd > 0 { // after a fall
+		prev := &c.info[i-1]
+		band := math.Max(4*c.det.NoiseV(), c.det.StepV())
+		prev.reset = locateReset(pts, &prev.exp, prev.end[:prev.nEnd], band)
+	}
+	c.tailT, c.tailV = c.tailT[:0], c.tailV[:0]
+	for _, p := range pts[max(0, len(pts)-sidePoints):] {
+		c.tailT, c.tailV = append(c.tailT, p.T), append(c.tailV, p.V)
+	}
 	// A rise that starts on a flat stretch (the bottom of a dark decay, held at 0 V until
 	// the light returns) is taken from the last point still at its starting level: the
 	// flat part is no charging, neither for the I-V tracing nor for the approach's fit.
@@ -150,7 +177,21 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 			c.vs = append(c.vs, p.V)
 		}
 		inf.exp = fitExp(c.ts, c.vs, noise/math.Sqrt(meanN(pts)))
+		// the later part alone, for the equilibrium's model discrepancy
+		if h := len(c.ts) / 2; inf.exp.ok && h >= 8 {
+			inf.expTail = fitExp(c.ts[h:], c.vs[h:], noise/math.Sqrt(meanN(pts)))
+		}
 	}
+}
+
+// locateFire places fall i's fire between samples, from the last rise's tail when that
+// rise came just before it (see events.go).
+func (c *collector) locateFire(i int, s *detect.Swing, pts []detect.Point, e *expResult) located {
+	var tt, tv []float64
+	if c.riseIdx == i-1 {
+		tt, tv = c.tailT, c.tailV
+	}
+	return locateFire(pts, s.OnsetIndex, tt, tv, e)
 }
 
 // slowFallS is the shortest fall taken for a decay rather than a pulse: a motor or

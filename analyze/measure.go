@@ -17,6 +17,7 @@ import (
 // and the cell. r may be nil (samples in memory).
 func (s *session) finish(r *capture.Reader) *analysis.Result {
 	sum := s.det.Finish()
+	placeEvents(sum, s.col.info)
 	w := &swings{sum: sum, info: s.col.info, col: s.col, cal: &s.cal, chg: s.chg, opts: s.opts}
 	res := &analysis.Result{
 		Schema:    analysis.Schema,
@@ -33,7 +34,7 @@ func (s *session) finish(r *capture.Reader) *analysis.Result {
 	res.Noise = noiseOf(sum, s.stepOrigin)
 	res.Cycles = cyclesOf(sum)
 	res.Segments, res.Source.GapsS = segmentsOf(sum, r)
-	res.Fit.Trigger = measureTrigger(sum.Trigger, w.full())
+	res.Fit.Trigger = measureTrigger(sum.Trigger, w.full(), s.col.info, sum.SpacingS)
 	decay := measureDecay(w, &n)
 	res.Capacitance = measureCapacitance(w, d, decay, &n)
 	capF := 0.0
@@ -46,9 +47,12 @@ func (s *session) finish(r *capture.Reader) *analysis.Result {
 	if res.Fit.Leak.TauS != nil {
 		res.LeakTrace, res.LeakModel = leakPlot(w)
 	}
-	res.EquilibriumV, res.Equilibrium = measureEquilibrium(w, res.Fit.Trigger.OnV)
+	res.EquilibriumV, res.Equilibrium = measureEquilibrium(w, res.Fit.Trigger.OnV, &n)
 	cell := measureCell(w, cellInputs{capF: capF, decay: decay, probeOhm: d.ProbeOhm, series: d.CellSeries, tempK: d.CellTempK}, &n)
 	res.Fit.Cell = cell.fit
+	if relu, ok := capRelU(res.Capacitance); ok {
+		capBudget(res, relu, !capMeasured(res.Capacitance))
+	}
 	cell.lightPerCycle(res.Cycles, sum.Cycles)
 	res.Light = cell.lightTrace(sum)
 	res.Envelope = envelopeOf(s.env)

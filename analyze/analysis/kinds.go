@@ -83,3 +83,23 @@ const (
 	Warn  Severity = "warn"  // works, but something is off
 	Fault Severity = "fault" // does not work as built
 )
+
+// UncertaintySource names a component of an uncertainty budget (the GUM's "sources of
+// uncertainty", JCGM 100:2008, 3.3.2).
+type UncertaintySource string
+
+const (
+	// SourceFit is the statistical part: the scatter of the samples about the fit, or of
+	// the cycles about their mean (a Type A evaluation, JCGM 100:2008, 4.2).
+	SourceFit UncertaintySource = "fit"
+	// SourceCapacitance is the capacitance's own uncertainty: measured, its standard
+	// error; declared, its tolerance band taken as a rectangular distribution (a Type B
+	// evaluation, JCGM 100:2008, 4.3.7).
+	SourceCapacitance UncertaintySource = "capacitance"
+	// SourceADCStep is the ADC's resolution where a reading rests on one sample.
+	SourceADCStep UncertaintySource = "adc step"
+	// SourceTiming is the sample spacing: where between two samples an event fell.
+	SourceTiming UncertaintySource = "timing"
+	// SourceModel is the model's discrepancy: the fitted form is not the circuit's own.
+	SourceModel UncertaintySource = "model"
+)

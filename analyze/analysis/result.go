@@ -86,8 +86,14 @@ type Columns struct {
 	CurrentScale float64 `json:"current_scale,omitempty"`
 }
 
-// Estimate is a fitted or measured value with its standard error. SD is nil when the
-// uncertainty is unknown (for example, a declared value).
+// Estimate is a fitted or measured value with its standard uncertainty. SD is nil when
+// the uncertainty is unknown (for example, a declared value).
+//
+// SD is always a standard uncertainty of Value in the sense of the GUM (JCGM 100:2008,
+// 2.3.1): for a mean over cycles the standard error of that mean, never the scatter of
+// the cycles themselves (that is Spread). When Budget lists components, SD is their
+// combined standard uncertainty (root sum of squares, JCGM 100:2008, 5.1.2, the
+// components taken as uncorrelated).
 type Estimate struct {
 	Value float64  `json:"value"`
 	SD    *float64 `json:"sd"`
@@ -96,6 +102,19 @@ type Estimate struct {
 	Hi95 *float64 `json:"hi95,omitempty"`
 	// Origin says where the value comes from: "fitted", "measured", "declared" or "flag".
 	Origin Origin `json:"origin,omitempty"`
+	// Spread is, for a value that is a mean over cycles, the standard deviation from
+	// cycle to cycle (how much one cycle differs from the next), in Value's unit; nil
+	// for anything else.
+	Spread *float64 `json:"spread,omitempty"`
+	// Budget lists the standard-uncertainty components that SD combines, when more than
+	// the fit's own enter (see UncertaintySource); nil when SD is the fit's alone.
+	Budget []Component `json:"budget,omitempty"`
+}
+
+// Component is one standard-uncertainty component of an Estimate, in Value's unit.
+type Component struct {
+	Source UncertaintySource `json:"source"`
+	U      float64           `json:"u"`
 }
 
 // Cycle is one fire and the reset that follows it.

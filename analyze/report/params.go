@@ -98,6 +98,9 @@ func paramCells(p paramRow) []cell {
 		if p.fitted.Lo95 != nil && p.fitted.Hi95 != nil {
 			found.Title = "95 % interval " + quantity(*p.fitted.Lo95, p.unit) + " to " + quantity(*p.fitted.Hi95, p.unit)
 		}
+		if sp := p.fitted.Spread; sp != nil {
+			found.Title += "; spread from cycle to cycle " + quantity(*sp, p.unit)
+		}
 		origin = cell{Text: string(p.fitted.Origin)}
 	}
 	diff, tolC, agree := cell{Text: "—", Class: "num muted"}, cell{Text: "—", Class: "muted"}, cell{Text: "—", Class: "muted"}
