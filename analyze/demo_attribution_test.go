@@ -17,7 +17,7 @@ import (
 // profile's own; and the comparison holds the parts a builder checks first (the
 // trigger's on voltage and its release).
 func TestDemoWrenConsistentWithItsProfile(t *testing.T) {
-	p, err := profile.Load(filepath.Join("..", "testdata", "profiles", "wren.toml"))
+	p, err := profile.Load(filepath.Join("model", "scenarios", "wren.toml"))
 	if err != nil {
 		t.Fatal(err)
 	}
