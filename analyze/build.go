@@ -40,6 +40,7 @@ func (a *session) finish(r *capture.Reader) *analysis.Result {
 	b.cell()
 	b.envelope()
 	b.traces()
+	res.CycleDensity = a.col.dens.result(a.det)
 	b.declared()
 	b.identifiability()
 	return res
