@@ -35,10 +35,10 @@ type density struct {
 }
 
 const (
-	densityColsPerDecade = 12
+	densityColsPerDecade = 20
 	densityDecades       = 9
 	densityCols          = densityColsPerDecade * densityDecades
-	densityRows          = 48
+	densityRows          = 64
 	densityLogT0         = -4.0 // log10 of the lower edge of column 0, seconds
 )
 
@@ -99,13 +99,10 @@ func (d *density) fill(cols *[densityCols][2]float64, fire float64, pts []detect
 }
 
 func densityCol(dt float64) int {
-	if dt < 0 {
-		return -1
+	if !(dt > 0) {
+		return -1 // the onset itself: at time zero, off the log axis
 	}
-	k := 0
-	if dt > 0 {
-		k = int(math.Floor((math.Log10(dt) - densityLogT0) * densityColsPerDecade))
-	}
+	k := int(math.Floor((math.Log10(dt) - densityLogT0) * densityColsPerDecade))
 	return max(0, min(densityCols-1, k))
 }
 

@@ -79,6 +79,7 @@ p.absent {
 }
 figure { margin: 0.6rem 0 1rem; break-inside: avoid; }
 svg.plot { display: block; width: 100%; height: auto; }
+svg.plot image { image-rendering: pixelated; }
 svg.plot text { font-family: "Liberation Sans", Arial, Helvetica, "Nimbus Sans", sans-serif; }
 figcaption { font-size: 0.88em; color: var(--muted); margin-top: 0.3rem; }
 .tablewrap { overflow-x: auto; margin: 0.5rem 0 0.9rem; }

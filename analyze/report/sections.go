@@ -155,6 +155,13 @@ func contains(list []string, s string) bool {
 
 func cyclesSection(r *analysis.Result, o *Options) *section {
 	s := &section{ID: "cycles", Title: "Every cycle, aligned at the fire"}
+	if d := r.CycleDensity; d != nil && len(d.Counts) > 0 && len(d.Counts[0]) > 0 {
+		s.addFigure(densityFigure("cycles", []densitySet{{d: d, model: r.ModelTrace, col: colBlue}}))
+		if t := loadTable(r); t != nil {
+			s.Tables = append(s.Tables, t)
+		}
+		return s
+	}
 	set := traceSet{traces: r.Traces, model: r.ModelTrace, col: colBlue}
 	fig, absent := cyclesFigure("cycles", []traceSet{set}, pulseOf(r), o)
 	if r.ModelTrace == nil && absent == "" {
