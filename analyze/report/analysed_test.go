@@ -7,13 +7,16 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"sync"
 	"testing"
+	"time"
 
 	"capcycle/analyze"
 	"capcycle/analyze/analysis"
 	"capcycle/analyze/profile"
+	"capcycle/logger/capture"
 )
 
 // Results of the real analysis, run on the captures in testdata (the simulated demo
@@ -76,4 +79,49 @@ func wrenAnalysed(t testing.TB) *analysis.Result {
 
 func fernAnalysed(t testing.TB) *analysis.Result {
 	return analysed(t, "golden/fern-sim-3h.csv.gz", "fern")
+}
+
+// analysedForeign rewrites testdata/NAME (a capture of ours) the way another logger would
+// write it (semicolons, decimal commas, millivolts, RFC 3339 times from a start of its
+// own, columns "stamp" and "ch1") and analyses that file with the column mapping set, as
+// "capcycle analyze --time-col stamp --volt-col ch1 --volt-unit mV ..." does.
+func analysedForeign(t testing.TB, name string) *analysis.Result {
+	t.Helper()
+	if v, ok := analysedCache.Load("foreign|" + name); ok {
+		return v.(*analysis.Result)
+	}
+	raw, err := os.ReadFile(filepath.Join("..", "..", "testdata", name))
+	if err != nil {
+		t.Fatal(err)
+	}
+	start := time.Date(2026, 12, 1, 9, 30, 0, 0, time.UTC)
+	var b strings.Builder
+	b.WriteString("stamp;ch1\n")
+	for _, line := range strings.Split(string(raw), "\n") {
+		if line == "" || line[0] == '#' || strings.HasPrefix(line, "time") {
+			continue
+		}
+		f := strings.Split(line, ",")
+		ts, err1 := strconv.ParseFloat(f[0], 64)
+		v, err2 := strconv.ParseFloat(f[1], 64)
+		if err1 != nil || err2 != nil {
+			t.Fatalf("%s: %q", name, line)
+		}
+		stamp := start.Add(time.Duration(ts * float64(time.Second))).Format("2006-01-02T15:04:05.000Z07:00")
+		b.WriteString(stamp + ";" + strings.Replace(strconv.FormatFloat(v*1000, 'f', 2, 64), ".", ",", 1) + "\n")
+	}
+	path := filepath.Join(t.TempDir(), "logger.csv")
+	if err := os.WriteFile(path, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	opts := &analyze.Options{Setup: func(r *capture.Reader) error {
+		r.TimeCol, r.VoltCol, r.VoltScale, r.TimeFormat = "stamp", "ch1", 1e-3, capture.TimeRFC3339
+		return nil
+	}}
+	res, err := analyze.File(context.Background(), path, opts)
+	if err != nil {
+		t.Fatal(err)
+	}
+	analysedCache.Store("foreign|"+name, res)
+	return res
 }

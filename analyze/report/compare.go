@@ -49,17 +49,23 @@ func comparePage(a, b *analysis.Result, o *Options) *page {
 	p.add(s)
 
 	cs := &section{ID: "cycles", Title: "Cycles of both, aligned at the fire"}
-	sets := []traceSet{
-		{name: la, traces: a.Traces, model: a.ModelTrace, col: colBlue},
-		{name: lb, traces: b.Traces, model: b.ModelTrace, col: colVermil, dash: dashModel},
+	if hasDensity(a) && hasDensity(b) {
+		cs.addFigure(densityFigure("cmp-cycles", []densitySet{
+			{name: la, d: a.CycleDensity, model: a.ModelTrace, col: colBlue},
+			{name: lb, d: b.CycleDensity, model: b.ModelTrace, col: colBlue},
+		}))
+	} else {
+		sets := []traceSet{
+			{name: la, traces: a.Traces, model: a.ModelTrace, col: colBlue},
+			{name: lb, traces: b.Traces, model: b.ModelTrace, col: colVermil, dash: dashModel},
+		}
+		cs.addFigure(cyclesFigure("cmp-cycles", sets, math.Max(pulseOf(a), pulseOf(b)), o))
 	}
-	fig, absent := cyclesFigure("cmp-cycles", sets, math.Max(pulseOf(a), pulseOf(b)), o)
-	cs.addFigure(fig, absent)
 	p.add(cs)
 
 	es := &section{ID: "energy", Title: "Period and energy per pulse"}
 	es.Tables = append(es.Tables, compareCycles(a, b, la, lb))
-	fig, absent = energyFigure(a, b, la, lb)
+	fig, absent := energyFigure(a, b, la, lb)
 	es.addFigure(fig, absent)
 	p.add(es)
 	p.add(methodsSection())
@@ -88,8 +94,10 @@ func compareParams(a, b *analysis.Result, la, lb string) *table {
 				}
 				change = cell{Text: sign + num(pct, "%"), Class: "num"}
 			}
-			if pa.fitted.SD != nil && pb.fitted.SD != nil {
-				se := math.Hypot(*pa.fitted.SD, *pb.fitted.SD)
+			sea, oka := pa.se()
+			seb, okb := pb.se()
+			if oka && okb {
+				se := math.Hypot(sea, seb)
 				if se > 0 {
 					z := math.Abs(vb-va) / se
 					if z > 2 {

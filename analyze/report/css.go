@@ -3,8 +3,9 @@ package report
 // pageCSS is the report's stylesheet, inline in every page. It names only fonts that a
 // reader's machine already has (metric-compatible families first, a generic family
 // last), fetches nothing, and has a print layout for A4 and Letter alike: the page size
-// is left to the printer, margins are set, each section starts a page, and no figure or
-// table row is split.
+// is left to the printer, margins are set, sections follow each other without forced
+// page breaks (the summary fills the first page), and no figure or table row is split.
+// At a phone's width the margins narrow and wide tables scroll inside their own box.
 const pageCSS = `
 :root {
   --ink: #222; --muted: #666; --rule: #cfd6dc; --accent: #0b5f8f; --paper: #fff;
@@ -78,7 +79,7 @@ p.absent {
   color: var(--muted); font-style: italic; padding: 0.5rem 0.7rem; border: 1px dashed var(--rule);
 }
 figure { margin: 0.6rem 0 1rem; break-inside: avoid; }
-svg.plot { display: block; width: 100%; height: auto; }
+svg.plot { display: block; width: 100%; max-width: 36rem; height: auto; margin: 0 auto; }
 svg.plot image { image-rendering: pixelated; }
 svg.plot text { font-family: "Liberation Sans", Arial, Helvetica, "Nimbus Sans", sans-serif; }
 figcaption { font-size: 0.88em; color: var(--muted); margin-top: 0.3rem; }
@@ -102,6 +103,13 @@ dl.items div { margin: 0 0 0.55rem; break-inside: avoid; }
 dl.items dt { font-weight: bold; }
 dl.items dd { margin: 0.1rem 0 0 1.2rem; }
 dl.items cite { display: block; color: var(--muted); font-size: 0.9em; }
+details.more > summary { cursor: pointer; color: var(--accent); font-weight: bold; margin: 0.3rem 0; }
+@media (max-width: 600px) {
+  body { font-size: 14px; padding-top: 0; }
+  header.top, nav.toc, main, footer { padding-left: 0.7rem; padding-right: 0.7rem; }
+  nav.toc ol { columns: 1; }
+  table.kv { min-width: 0; }
+}
 @media print {
   @page { margin: 14mm 13mm 16mm; }
   html, body { background: #fff; }
@@ -109,9 +117,10 @@ dl.items cite { display: block; color: var(--muted); font-size: 0.9em; }
   header.top, nav.toc, main, footer { max-width: none; padding: 0; }
   header.top { border-top: 0; }
   nav.toc { display: none; }
-  main > section { break-before: page; padding-top: 0; }
-  main > section.verdict-section { break-before: auto; }
+  main > section { padding-top: 0.6rem; }
   h2 { break-after: avoid; }
+  svg.plot { max-width: 12cm; }
+  figcaption { font-size: 8pt; }
   figure, tr, li.finding, dl.items div { break-inside: avoid; }
   thead { display: table-header-group; }
   .tablewrap { overflow: visible; }

@@ -45,7 +45,10 @@
 // # Print
 //
 // The print stylesheet sets margins but leaves the paper size to the printer, so A4 and
-// Letter both work; each section starts a page and no figure or table row is split.
+// Letter both work; sections follow each other without forced page breaks, so the
+// verdict and findings fill the first page and a day's report prints in a few pages, and
+// no figure or table row is split. Methods, references and safety cautions sit in
+// collapsed <details> boxes: present, opened with a click, not repeated in full.
 //
 // # Colour
 //

@@ -126,23 +126,20 @@ func cyclesFigure(id string, sets []traceSet, pulseS float64, o *Options) (figur
 			}
 			markFire(zoom)
 			plots = append(plots, zoom)
-			caption += fmt.Sprintf(" On the right, the discharge pulse alone (%s to %s around the fire).", dur(lo), dur(hi))
+			caption += fmt.Sprintf(" Below, the discharge pulse alone (%s to %s around the fire).", dur(lo), dur(hi))
 		}
 	}
 	if dropped > 0 {
 		caption += fmt.Sprintf(" %d traces are drawn, evenly spread over the capture; %d more are left out.", nTraces, dropped)
 	}
 	alt := "Measured cycles overlaid at the fire, with the fitted model's cycle"
-	svg, err := renderSVG(id, figW, vg.Points(230), alt, func(dc draw.Canvas) error {
+	svg, err := renderSVG(id, figW, vg.Points(230*float64(len(plots))), alt, func(dc draw.Canvas) error {
 		c := legendRows(dc, legend)
 		if len(plots) == 1 {
 			plots[0].Draw(c)
 			return nil
 		}
-		left := draw.Crop(c, 0, -(c.Max.X-c.Min.X)*0.38, 0, 0)
-		right := draw.Crop(c, (c.Max.X-c.Min.X)*0.64, 0, 0, 0)
-		plots[0].Draw(left)
-		plots[1].Draw(right)
+		side(c, plots, vg.Points(10))
 		return nil
 	})
 	if err != nil {

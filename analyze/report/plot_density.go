@@ -51,7 +51,7 @@ func densityFigure(id string, sets []densitySet) (figure, string) {
 	}
 	caption += "The shade of each cell is how many cycles passed through it (darker: more; every cycle leaves at least a light trace), over the time since the fire on a log axis: the pulse in the first milliseconds, the recharge after. The solid line is the median cycle, drawn where at least half the cycles still run; the dashed line is the fitted model's cycle."
 	alt := "Density of every cycle aligned at the fire, with the median cycle and the fitted model's cycle"
-	svg, err := renderSVG(id, figW, vg.Points(250), alt, func(dc draw.Canvas) error {
+	svg, err := renderSVG(id, figW, vg.Points(260*float64(len(plots))), alt, func(dc draw.Canvas) error {
 		c := legendRows(dc, legend)
 		if len(plots) == 1 {
 			plots[0].Draw(c)
@@ -64,6 +64,12 @@ func densityFigure(id string, sets []densitySet) (figure, string) {
 		return figure{Err: err.Error()}, ""
 	}
 	return figure{SVG: svg, Alt: alt, Caption: caption}, ""
+}
+
+// hasDensity says whether r carries a cycle density with at least one cell.
+func hasDensity(r *analysis.Result) bool {
+	d := r.CycleDensity
+	return d != nil && len(d.Counts) > 0 && len(d.Counts[0]) > 0 && d.ColsPerDecade > 0 && d.T0S > 0
 }
 
 // densityX is the range of log10(time since the fire) the grid covers.

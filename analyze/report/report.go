@@ -75,7 +75,7 @@ var ErrNoResult = errors.New("report: no analysis result")
 // Write writes the report of one analysed capture to w as one self-contained HTML page:
 // the stylesheet and every plot (as SVG) are inline, there are no scripts, and nothing
 // is fetched from anywhere, so the file reads the same offline, in years, and on paper
-// (A4 or Letter: each section starts a page).
+// (A4 or Letter).
 //
 // The page is built from r alone, so a saved analysis JSON rebuilds the same report.
 // A part of r that is null gives its section a plain statement that the data is absent

@@ -66,8 +66,8 @@ func findingViews(fs []analysis.Finding) []findingView {
 		}
 		sort.Strings(keys)
 		for _, k := range keys {
-			name, unit := unitOfKey(k)
-			v.Numbers = append(v.Numbers, fact{strings.ReplaceAll(name, "_", " "), quantity(f.Numbers[k], unit)})
+			label, value := numberLabel(k, f.Numbers[k])
+			v.Numbers = append(v.Numbers, fact{label, value})
 		}
 		out = append(out, v)
 	}
@@ -155,8 +155,8 @@ func contains(list []string, s string) bool {
 
 func cyclesSection(r *analysis.Result, o *Options) *section {
 	s := &section{ID: "cycles", Title: "Every cycle, aligned at the fire"}
-	if d := r.CycleDensity; d != nil && len(d.Counts) > 0 && len(d.Counts[0]) > 0 {
-		s.addFigure(densityFigure("cycles", []densitySet{{d: d, model: r.ModelTrace, col: colBlue}}))
+	if hasDensity(r) {
+		s.addFigure(densityFigure("cycles", []densitySet{{d: r.CycleDensity, model: r.ModelTrace, col: colBlue}}))
 		if t := loadTable(r); t != nil {
 			s.Tables = append(s.Tables, t)
 		}
@@ -434,14 +434,14 @@ func optNumOr(v *float64, unit, none string) string {
 }
 
 func methodsSection() *section {
-	s := &section{ID: "methods", Title: "Methods and references"}
+	s := &section{ID: "methods", Title: "Methods and references", Collapsed: true}
 	s.Intro = []string{"What the numbers in this report rest on. Standard errors come from the covariance of each least-squares fit and assume independent, normally distributed noise; read them as a lower bound on the real uncertainty."}
 	s.Items = methods
 	return s
 }
 
 func safetySection() *section {
-	s := &section{ID: "safety", Title: "Safety"}
+	s := &section{ID: "safety", Title: "Safety", Collapsed: true}
 	s.Intro = []string{"These circuits are small, but the parts in them can still hurt you or burn. The notes below are the usual cautions, not a substitute for the part makers' ratings and your local rules: follow those first."}
 	s.Items = cautions
 	return s
