@@ -4,7 +4,8 @@ package report
 // reader's machine already has (metric-compatible families first, a generic family
 // last), fetches nothing, and has a print layout for A4 and Letter alike: the page size
 // is left to the printer, margins are set, sections follow each other without forced
-// page breaks (the summary fills the first page), and no figure or table row is split.
+// page breaks (the summary fills the first page), a plot shares its row with the short
+// table after it, and no figure or table row is split.
 // At a phone's width the margins narrow and wide tables scroll inside their own box.
 const pageCSS = `
 :root {
@@ -113,13 +114,17 @@ details.more > summary { cursor: pointer; color: var(--accent); font-weight: bol
 @media print {
   @page { margin: 14mm 13mm 16mm; }
   html, body { background: #fff; }
-  body { font-size: 9.5pt; padding: 0; }
+  body { font-size: 9pt; padding: 0; }
   header.top, nav.toc, main, footer { max-width: none; padding: 0; }
   header.top { border-top: 0; }
   nav.toc { display: none; }
-  main > section { padding-top: 0.6rem; }
+  main > section { padding-top: 0.6rem; display: grid; grid-template-columns: 1fr 1fr; column-gap: 6mm; align-items: start; }
+  main > section > * { grid-column: 1 / -1; }
+  main > section > figure { grid-column: 1; }
+  main > section > figure + .tablewrap:has(table.kv, table.segments, table.errors) { grid-column: 2; }
+  p.verdict { font-size: 1.05rem; }
   h2 { break-after: avoid; }
-  svg.plot { max-width: 12cm; }
+  svg.plot { max-width: 8cm; }
   figcaption { font-size: 8pt; }
   figure, tr, li.finding, dl.items div { break-inside: avoid; }
   thead { display: table-header-group; }

@@ -90,7 +90,7 @@ func cellFigure(r *analysis.Result, o *Options) (figure, string) {
 		}
 	}
 	alt := "Cell current and power against voltage, with the maximum-power point"
-	svg, err := renderSVG("cell", figW, vg.Points(400), alt, func(dc draw.Canvas) error {
+	svg, err := renderSVG("cell", figW, vg.Points(350), alt, func(dc draw.Canvas) error {
 		side(legendRows(dc, legend), []*plot.Plot{piv, ppv}, vg.Points(18))
 		return nil
 	})

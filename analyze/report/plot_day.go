@@ -185,7 +185,7 @@ func dayFigure(r *analysis.Result, o *Options) (figure, string) {
 	plots[len(plots)-1].X.Label.Text = "time since the capture started (" + tu + ")"
 	caption += "."
 
-	h := vg.Points(230 + 110*float64(len(plots)-1))
+	h := vg.Points(190 + 80*float64(len(plots)-1))
 	alt := "Capacitor voltage over the capture with fires marked"
 	svg, err := renderSVG("day", figW, h, alt, func(dc draw.Canvas) error {
 		stack(legendRows(dc, legend), plots, weights, vg.Points(4))

@@ -51,7 +51,7 @@ func densityFigure(id string, sets []densitySet) (figure, string) {
 	}
 	caption += "The shade of each cell is how many cycles passed through it (darker: more; every cycle leaves at least a light trace), over the time since the fire on a log axis: the pulse in the first milliseconds, the recharge after. The solid line is the median cycle, drawn where at least half the cycles still run; the dashed line is the fitted model's cycle."
 	alt := "Density of every cycle aligned at the fire, with the median cycle and the fitted model's cycle"
-	svg, err := renderSVG(id, figW, vg.Points(260*float64(len(plots))), alt, func(dc draw.Canvas) error {
+	svg, err := renderSVG(id, figW, vg.Points(230*float64(len(plots))), alt, func(dc draw.Canvas) error {
 		c := legendRows(dc, legend)
 		if len(plots) == 1 {
 			plots[0].Draw(c)

@@ -173,7 +173,7 @@ func predictFigure(r *analysis.Result, o *Options) (figure, string) {
 		caption += fmt.Sprintf(" %d of %d cycles are drawn: an even spread, plus the %d with the largest errors.", len(shown), len(pts), min(worst, len(pts)))
 	}
 	alt := "Measured against predicted charge time, and the prediction error over time"
-	svg, err := renderSVG("predict", figW, vg.Points(440), alt, func(dc draw.Canvas) error {
+	svg, err := renderSVG("predict", figW, vg.Points(380), alt, func(dc draw.Canvas) error {
 		side(legendRows(dc, legend), []*plot.Plot{sc, res}, vg.Points(18))
 		return nil
 	})

@@ -19,7 +19,7 @@ type Options struct {
 	// default) leaves it out, which keeps a report byte-identical when rebuilt.
 	Generated time.Time
 	// CycleRows is how many rows of the cycle table the page shows; the rest live in
-	// the CSV. Default 20; a negative value shows every cycle.
+	// the CSV. Default 12; a negative value shows every cycle.
 	CycleRows int
 	// CSVHref and JSONHref are the links, relative to the HTML file, to the cycle CSV and
 	// the analysis JSON written beside it. Empty (the default) names no file.
@@ -39,7 +39,7 @@ type Options struct {
 
 func (o *Options) cycleRows() int {
 	if o == nil || o.CycleRows == 0 {
-		return 20
+		return 12
 	}
 	return o.CycleRows
 }
