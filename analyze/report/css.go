@@ -104,6 +104,11 @@ dl.items div { margin: 0 0 0.55rem; break-inside: avoid; }
 dl.items dt { font-weight: bold; }
 dl.items dd { margin: 0.1rem 0 0 1.2rem; }
 dl.items cite { display: block; color: var(--muted); font-size: 0.9em; }
+@media (min-width: 760px) {
+  section.pair { display: grid; grid-template-columns: 1fr 1fr; column-gap: 1.2rem; align-items: start; }
+  section.pair > * { grid-column: 1 / -1; }
+  section.pair > figure { grid-column: auto; }
+}
 details.more > summary { cursor: pointer; color: var(--accent); font-weight: bold; margin: 0.3rem 0; }
 @media (max-width: 600px) {
   body { font-size: 14px; padding-top: 0; }

@@ -54,6 +54,7 @@ type section struct {
 	Notes     []note
 	Items     []item // a definition list: methods, cautions
 	Collapsed bool   // shown closed, in a <details> box
+	Class     string // "pair": figures two to a row on a wide screen
 }
 
 type note struct {
@@ -161,7 +162,7 @@ var pageTemplate = template.Must(template.New("page").Funcs(template.FuncMap{"lo
 {{- end}}
 </section>
 {{- range .Sections}}
-<section id="{{.ID}}">
+<section id="{{.ID}}"{{if .Class}} class="{{.Class}}"{{end}}>
 <h2>{{.Title}}</h2>
 {{- if .Collapsed}}
 <details class="more"><summary>Show the {{.Title | lower}}</summary>

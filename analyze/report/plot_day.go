@@ -13,7 +13,7 @@ import (
 // dayFigure is "the day at a glance": the voltage as a min/max band with the fires
 // marked and the gaps shaded, the light level, and the fires per hour, on one time axis.
 // It returns an empty figure and the reason when the Result has no envelope.
-func dayFigure(r *analysis.Result, o *Options) (figure, string) {
+func dayFigure(id string, r *analysis.Result, o *Options) (figure, string) {
 	env := MergeEnvelope(r.Envelope, envelopeBins(r, o.maxBins()))
 	if len(env) < 2 {
 		return figure{}, "The analysis carries no voltage envelope, so the day cannot be drawn."
@@ -187,7 +187,7 @@ func dayFigure(r *analysis.Result, o *Options) (figure, string) {
 
 	h := vg.Points(190 + 80*float64(len(plots)-1))
 	alt := "Capacitor voltage over the capture with fires marked"
-	svg, err := renderSVG("day", figW, h, alt, func(dc draw.Canvas) error {
+	svg, err := renderSVG(id, figW, h, alt, func(dc draw.Canvas) error {
 		stack(legendRows(dc, legend), plots, weights, vg.Points(4))
 		return nil
 	})

@@ -90,7 +90,7 @@ func bundleLinks(o *Options) []link {
 
 func daySection(r *analysis.Result, o *Options) *section {
 	s := &section{ID: "day", Title: "The day at a glance"}
-	fig, absent := dayFigure(r, o)
+	fig, absent := dayFigure("day", r, o)
 	s.addFigure(fig, absent)
 	if t := segmentTable(r); t != nil {
 		s.Tables = append(s.Tables, t)
