@@ -211,7 +211,7 @@ func (ticks125) Ticks(lo, hi float64) []plot.Tick {
 			}
 			t := plot.Tick{Value: v}
 			if labelled[m] {
-				t.Label = strconv.FormatFloat(v, 'g', -1, 64)
+				t.Label = strconv.FormatFloat(v, 'g', 6, 64) // 6 digits: 3 × 0.1 is not 0.30000000000000004
 			}
 			out = append(out, t)
 		}

@@ -118,6 +118,7 @@ func singlePage(r *analysis.Result, o *Options) *page {
 	p.Links = bundleLinks(o)
 
 	p.add(daySection(r, o))
+	p.add(stallSection(r))
 	p.add(cyclesSection(r, o))
 	p.add(predictSection(r, o))
 	p.add(cellSection(r, o))

@@ -100,7 +100,11 @@ func daySection(r *analysis.Result, o *Options) *section {
 	case n == 0:
 		s.Absent = append(s.Absent, "The analysis carries no light-level trace.")
 	case n == 1:
-		s.Absent = append(s.Absent, "The light-level trace has a single point, too few to draw.")
+		msg := "The light was measured on one charging stretch only (a circuit that never fires charges once), too few points for a trace"
+		if isc := r.Fit.Cell.IscA; isc != nil && r.Declared != nil && r.Declared.IscA > 0 {
+			msg += fmt.Sprintf(": the cell gave %s, %s of its rated short-circuit current", num(isc.Value, "A"), num(100*isc.Value/r.Declared.IscA, "%"))
+		}
+		s.Absent = append(s.Absent, msg+".")
 	}
 	return s
 }
@@ -151,6 +155,17 @@ func contains(list []string, s string) bool {
 		}
 	}
 	return false
+}
+
+// stallSection shows, for a circuit that never fires, how much light it takes to fire.
+func stallSection(r *analysis.Result) *section {
+	if len(r.Cycles) > 0 || r.EquilibriumV == nil {
+		return nil
+	}
+	s := &section{ID: "stall", Title: "How much light it takes to fire"}
+	s.addFigure(stallFigure(r))
+	s.Notes = append(s.Notes, note{Text: "The analysis result carries no simulation of the declared parts over the day, so the measured day is not set against one here; the parameter table compares the declared parts with what the capture found."})
+	return s
 }
 
 func cyclesSection(r *analysis.Result, o *Options) *section {
