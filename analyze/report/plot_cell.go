@@ -71,34 +71,7 @@ func cellFigure(r *analysis.Result, o *Options) (figure, string) {
 	if fitted != nil {
 		legend = append(legend, legendItem{"fitted single-diode model", []plot.Thumbnailer{fitted}})
 	}
-	var lv, li []float64
-	var ll []string
-	if c.VocV != nil {
-		lv, li, ll = append(lv, c.VocV.Value), append(li, 0), append(ll, "Voc")
-	}
-	if c.IscA != nil {
-		lv, li, ll = append(lv, 0), append(li, c.IscA.Value), append(ll, "Isc")
-	}
-	if len(lv) > 0 {
-		if s, err := scatter(lv, scaled(li, idiv), draw.PyramidGlyph{}, colInk, 3); err == nil {
-			piv.Add(s)
-			legend = append(legend, legendItem{"open-circuit voltage, short-circuit current", []plot.Thumbnailer{s}})
-		}
-		addLabels(piv, lv, scaled(li, idiv), ll, vg.Point{X: 5, Y: 5})
-	}
-	if c.MppV != nil && c.MppW != nil {
-		mv, mw := *c.MppV, *c.MppW
-		if s, err := scatter([]float64{mv}, []float64{mw / pdiv}, draw.BoxGlyph{}, colVermil, 3.2); err == nil {
-			ppv.Add(s)
-			legend = append(legend, legendItem{"maximum-power point", []plot.Thumbnailer{s}})
-		}
-		addLabels(ppv, []float64{mv}, []float64{mw / pdiv}, []string{num(mw, "W") + " at " + num(mv, "V")}, vg.Point{X: -10, Y: 7})
-		if mv > 0 {
-			if s, err := scatter([]float64{mv}, []float64{mw / mv / idiv}, draw.BoxGlyph{}, colVermil, 3.2); err == nil {
-				piv.Add(s)
-			}
-		}
-	}
+	legend = append(legend, cellMarks(piv, ppv, c, idiv, pdiv)...)
 	caption := "Top: the cell's current against its voltage, traced while it charged the capacitor"
 	if fitted != nil {
 		caption += ", with the fitted single-diode model over it"
@@ -233,4 +206,38 @@ func addLabels(p *plot.Plot, x, y []float64, labels []string, off vg.Point) {
 	}
 	l.Offset = off
 	p.Add(l)
+}
+
+// cellMarks marks Voc and Isc on the I-V plot and the maximum-power point on both.
+func cellMarks(piv, ppv *plot.Plot, c analysis.CellFit, idiv, pdiv float64) []legendItem {
+	var legend []legendItem
+	var lv, li []float64
+	var ll []string
+	if c.VocV != nil {
+		lv, li, ll = append(lv, c.VocV.Value), append(li, 0), append(ll, "Voc")
+	}
+	if c.IscA != nil {
+		lv, li, ll = append(lv, 0), append(li, c.IscA.Value), append(ll, "Isc")
+	}
+	if len(lv) > 0 {
+		if s, err := scatter(lv, scaled(li, idiv), draw.PyramidGlyph{}, colInk, 3); err == nil {
+			piv.Add(s)
+			legend = append(legend, legendItem{"open-circuit voltage, short-circuit current", []plot.Thumbnailer{s}})
+		}
+		addLabels(piv, lv, scaled(li, idiv), ll, vg.Point{X: 5, Y: 5})
+	}
+	if c.MppV != nil && c.MppW != nil {
+		mv, mw := *c.MppV, *c.MppW
+		if s, err := scatter([]float64{mv}, []float64{mw / pdiv}, draw.BoxGlyph{}, colVermil, 3.2); err == nil {
+			ppv.Add(s)
+			legend = append(legend, legendItem{"maximum-power point", []plot.Thumbnailer{s}})
+		}
+		addLabels(ppv, []float64{mv}, []float64{mw / pdiv}, []string{num(mw, "W") + " at " + num(mv, "V")}, vg.Point{X: -10, Y: 7})
+		if mv > 0 {
+			if s, err := scatter([]float64{mv}, []float64{mw / mv / idiv}, draw.BoxGlyph{}, colVermil, 3.2); err == nil {
+				piv.Add(s)
+			}
+		}
+	}
+	return legend
 }
