@@ -58,17 +58,7 @@ func predictFigure(r *analysis.Result, o *Options) (figure, string) {
 	if len(pts) == 0 {
 		return figure{}, "The analysis carries no per-cycle prediction, so measured and predicted cycles cannot be compared."
 	}
-	// Keep the plot light: an even spread of cycles plus the worst-predicted ones.
-	const maxShown, worst = 400, 20
-	order := make([]int, len(pts))
-	for i := range order {
-		order[i] = i
-	}
-	worstErr := func(p predPoint) float64 {
-		return math.Max(nanAbs(p.nomErr), nanAbs(p.fitErr))
-	}
-	sort.SliceStable(order, func(a, b int) bool { return worstErr(pts[order[a]]) > worstErr(pts[order[b]]) })
-	shown := thin(len(pts), maxShown, order[:min(worst, len(order))])
+	shown := shownPoints(pts)
 
 	var mx, nx, ny, fx, fy []float64
 	var tNom, eNom, tFit, eFit []float64
@@ -168,9 +158,9 @@ func predictFigure(r *analysis.Result, o *Options) (figure, string) {
 		}
 	}
 
-	caption := "Left: each cycle's charge time as measured and as the two models predict it. Right: the prediction error, (predicted − measured) / measured, over the day."
+	caption := "Top: each cycle's charge time as measured and as the two models predict it. Below: the prediction error, (predicted − measured) / measured, over the day."
 	if len(shown) < len(pts) {
-		caption += fmt.Sprintf(" %d of %d cycles are drawn: an even spread, plus the %d with the largest errors.", len(shown), len(pts), min(worst, len(pts)))
+		caption += fmt.Sprintf(" %d of %d cycles are drawn: an even spread, plus the %d with the largest errors.", len(shown), len(pts), min(worstShown, len(pts)))
 	}
 	alt := "Measured against predicted charge time, and the prediction error over time"
 	svg, err := renderSVG("predict", figW, vg.Points(380), alt, func(dc draw.Canvas) error {
@@ -189,6 +179,24 @@ func nanAbs(v float64) float64 {
 	}
 	return math.Abs(v)
 }
+
+// shownPoints keeps the plot light: an even spread of at most 400 cycles plus the 20
+// worst-predicted ones.
+func shownPoints(pts []predPoint) []int {
+	const maxShown = 400
+	order := make([]int, len(pts))
+	for i := range order {
+		order[i] = i
+	}
+	worstErr := func(p predPoint) float64 {
+		return math.Max(nanAbs(p.nomErr), nanAbs(p.fitErr))
+	}
+	sort.SliceStable(order, func(a, b int) bool { return worstErr(pts[order[a]]) > worstErr(pts[order[b]]) })
+	return thin(len(pts), maxShown, order[:min(worstShown, len(order))])
+}
+
+// worstShown is the number of worst-predicted cycles the plot always shows.
+const worstShown = 20
 
 // ticks125 marks a log axis at 1, 2 and 5 times each power of ten, with minor ticks
 // between.
