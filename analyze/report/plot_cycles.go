@@ -111,12 +111,7 @@ func cyclesFigure(id string, sets []traceSet, pulseS float64, o *Options) (figur
 	}
 	alt := "Measured cycles overlaid at the fire, with the fitted model's cycle"
 	svg, err := renderSVG(id, figW, vg.Points(230*float64(len(plots))), alt, func(dc draw.Canvas) error {
-		c := legendRows(dc, legend)
-		if len(plots) == 1 {
-			plots[0].Draw(c)
-			return nil
-		}
-		side(c, plots, vg.Points(10))
+		side(legendRows(dc, legend), plots, vg.Points(10)) // one plot or the plot and its zoom
 		return nil
 	})
 	if err != nil {

@@ -103,19 +103,7 @@ func predictFigure(r *analysis.Result, o *Options) (figure, string) {
 			a.Tick.Marker = ticks125{}
 		}
 	}
-	var legend []legendItem
-	if l, err := line([]float64{lo / div, hi / div}, []float64{lo / div, hi / div}, colInk, 0.9, nil); err == nil {
-		sc.Add(l)
-		legend = append(legend, legendItem{"prediction = measurement", []plot.Thumbnailer{l}})
-	}
-	for _, k := range []float64{0.9, 1.1} {
-		if l, err := line([]float64{lo / div, hi / div}, []float64{k * lo / div, k * hi / div}, colMuted, 0.6, dashDotted); err == nil {
-			sc.Add(l)
-			if k > 1 {
-				legend = append(legend, legendItem{"±10 %", []plot.Thumbnailer{l}})
-			}
-		}
-	}
+	legend := addOneToOne(sc, lo/div, hi/div)
 	var nomThumb, fitThumb plot.Thumbnailer
 	if len(nx) > 0 {
 		if s, err := scatter(scaled(nx, div), scaled(ny, div), draw.RingGlyph{}, colOrange, 2.4); err == nil {
@@ -138,15 +126,7 @@ func predictFigure(r *analysis.Result, o *Options) (figure, string) {
 	res := newPlot("time since the capture started ("+ttu+")", "charge-time error (%)")
 	res.Y.Min, res.Y.Max = -lim, lim
 	res.X.Min, res.X.Max = 0, math.Max(r.DurationS, 1)/td
-	for _, k := range []float64{-10, 0, 10} {
-		w, d := 0.6, dashDotted
-		if k == 0 {
-			w, d = 0.9, nil
-		}
-		if l, err := line([]float64{res.X.Min, res.X.Max}, []float64{k, k}, colInk, w, d); err == nil {
-			res.Add(l)
-		}
-	}
+	addErrorGuides(res)
 	if nomThumb != nil && len(tNom) > 0 {
 		if s, err := scatter(scaled(tNom, td), eNom, draw.RingGlyph{}, colOrange, 2.4); err == nil {
 			res.Add(s)
@@ -178,6 +158,39 @@ func nanAbs(v float64) float64 {
 		return -1
 	}
 	return math.Abs(v)
+}
+
+// addOneToOne draws the line where prediction equals measurement, from lo to hi on both
+// axes, and the ±10 % lines beside it; it returns their legend items.
+func addOneToOne(sc *plot.Plot, lo, hi float64) []legendItem {
+	var legend []legendItem
+	if l, err := line([]float64{lo, hi}, []float64{lo, hi}, colInk, 0.9, nil); err == nil {
+		sc.Add(l)
+		legend = append(legend, legendItem{"prediction = measurement", []plot.Thumbnailer{l}})
+	}
+	for _, k := range []float64{0.9, 1.1} {
+		if l, err := line([]float64{lo, hi}, []float64{k * lo, k * hi}, colMuted, 0.6, dashDotted); err == nil {
+			sc.Add(l)
+			if k > 1 {
+				legend = append(legend, legendItem{"±10 %", []plot.Thumbnailer{l}})
+			}
+		}
+	}
+	return legend
+}
+
+// addErrorGuides draws the zero line and the ±10 % lines across the error plot (its X
+// range set).
+func addErrorGuides(res *plot.Plot) {
+	for _, k := range []float64{-10, 0, 10} {
+		w, d := 0.6, dashDotted
+		if k == 0 {
+			w, d = 0.9, nil
+		}
+		if l, err := line([]float64{res.X.Min, res.X.Max}, []float64{k, k}, colInk, w, d); err == nil {
+			res.Add(l)
+		}
+	}
 }
 
 // shownPoints keeps the plot light: an even spread of at most 400 cycles plus the 20
