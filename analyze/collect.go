@@ -29,6 +29,7 @@ type collector struct {
 	widestRank ivRank // its rank
 	widestIV   []ivPt // its traced points, all of them
 	ivBuf      ivBuffers
+	dens       density // every cycle, aligned at the fire (density.go)
 }
 
 // ivBuffers are traceIV's scratch slices, reused from rise to rise.
@@ -95,6 +96,7 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 	}
 	inf := &c.info[i]
 	inf.trace = compact(pts, tracePts)
+	c.dens.add(c.det, s, pts)
 	noise := math.Max(c.det.NoiseV(), c.det.StepV()/math.Sqrt(12))
 	if !s.Up {
 		c.falls++

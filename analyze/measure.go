@@ -57,6 +57,7 @@ func (s *session) finish(r *capture.Reader) *analysis.Result {
 	res.Light = cell.lightTrace(sum)
 	res.Envelope = envelopeOf(s.env)
 	res.Traces = traces(w)
+	res.CycleDensity = s.col.dens.result(s.det)
 	if !d.IsZero() {
 		dd := *d
 		res.Declared = &dd

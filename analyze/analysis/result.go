@@ -36,6 +36,9 @@ type Result struct {
 	// overlay plot; ModelTrace is the fitted model's cycle on the same axis.
 	Traces     []Trace `json:"traces,omitempty"`
 	ModelTrace *Trace  `json:"model_trace,omitempty"`
+	// CycleDensity is every cycle at once: how many cycles passed through each cell of a
+	// grid of time since the fire × voltage.
+	CycleDensity *CycleDensity `json:"cycle_density,omitempty"`
 	// LeakTrace holds the dark-decay (or plateau-approach) points the leak fit used, and
 	// LeakModel the fitted curve over them.
 	LeakTrace *Trace `json:"leak_trace,omitempty"`
@@ -51,6 +54,19 @@ type Trace struct {
 	Label string    `json:"label,omitempty"`
 	TS    []float64 `json:"t_s"`
 	V     []float64 `json:"v"`
+}
+
+// CycleDensity counts the cycles of a capture, aligned at their fires, on a grid of time
+// since the fire (logarithmic: ColsPerDecade columns a decade, the first starting at T0S)
+// × voltage (rows VStepV high from 0 V). Counts[c][r] is the number of cycles whose mean
+// voltage within column c falls in row r, so a column's counts add up to the cycles that
+// reached that time; Cycles is the number of cycles accumulated (every fire found).
+type CycleDensity struct {
+	Cycles        int     `json:"cycles"`
+	T0S           float64 `json:"t0_s"`
+	ColsPerDecade int     `json:"cols_per_decade"`
+	VStepV        float64 `json:"v_step_v"`
+	Counts        [][]int `json:"counts"`
 }
 
 // Source describes the capture the analysis read.

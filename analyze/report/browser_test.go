@@ -238,9 +238,8 @@ func TestBrowserRendersReports(t *testing.T) {
 }
 
 // TestBrowserPrints prints the day-long report to PDF in headless Chromium on Letter and
-// on A4 paper and checks the print layout: the PDF has the paper's size, and every
-// section starts its own page, so there are at least as many pages as sections, and no
-// more than two per section (a runaway layout would spill).
+// on A4 paper and checks the print layout: the PDF has the paper's size, and the day's
+// report prints in 2 to 6 pages.
 func TestBrowserPrints(t *testing.T) {
 	bin := chromiumPath(t)
 	dir := shotDir(t)
@@ -283,8 +282,11 @@ func TestBrowserPrints(t *testing.T) {
 			pages := len(pdfPage.FindAll(raw, -1))
 			boxes := bytes.Count(raw, []byte(paper.mediaBox))
 			t.Logf("%s: %d pages, %d of them %s", pdf, pages, boxes, paper.mediaBox)
-			if pages < len(sectionIDs) || pages > 2*len(sectionIDs) {
-				t.Errorf("%d printed pages for %d sections", pages, len(sectionIDs))
+			// Sections follow each other without forced breaks: a day's report fits in
+			// 6 pages, and more than one (a runaway layout would spill, a broken one
+			// would print nothing).
+			if pages < 2 || pages > 6 {
+				t.Errorf("%d printed pages for a day's report, want 2 to 6", pages)
 			}
 			if boxes != pages {
 				t.Errorf("%d of %d pages have the paper size %s", boxes, pages, paper.mediaBox)

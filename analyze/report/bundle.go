@@ -69,7 +69,8 @@ func WriteBundle(dir, base string, r *analysis.Result, opts *Options) (Bundle, e
 	o.JSONHref = filepath.Base(b.JSON)
 	o.CSVHref = filepath.Base(b.CSV)
 
-	js, err := json.MarshalIndent(r, "", "  ")
+	// No indentation: a day of cycles indented is larger than the capture it came from.
+	js, err := json.Marshal(r)
 	if err != nil {
 		return Bundle{}, fmt.Errorf("report: encoding the analysis: %w", err)
 	}

@@ -49,18 +49,50 @@ func comparePage(a, b *analysis.Result, o *Options) *page {
 	s.Notes = append(s.Notes, note{Text: "Each capture's own report holds its findings, plots and cycle table."})
 	p.add(s)
 
-	cs := &section{ID: "cycles", Title: "Cycles of both, aligned at the fire"}
-	sets := []traceSet{
-		{name: la, traces: a.Traces, model: a.ModelTrace, col: colBlue},
-		{name: lb, traces: b.Traces, model: b.ModelTrace, col: colVermil, dash: dashModel},
+	ds := &section{ID: "days", Title: "The two captures side by side", Class: "pair"}
+	for i, r := range []*analysis.Result{a, b} {
+		name := []string{la, lb}[i]
+		fig, absent := dayFigure([]string{"day-a", "day-b"}[i], r, o)
+		if absent != "" {
+			ds.Absent = append(ds.Absent, name+": "+absent)
+			continue
+		}
+		fig.Caption = name + ". " + fig.Caption
+		ds.Figures = append(ds.Figures, fig)
 	}
-	fig, absent := cyclesFigure("cmp-cycles", sets, math.Max(pulseOf(a), pulseOf(b)), o)
-	cs.addFigure(fig, absent)
+	p.add(ds)
+
+	cs := &section{ID: "cycles", Title: "Cycles of both, aligned at the fire"}
+	if hasDensity(a) && hasDensity(b) {
+		cs.addFigure(densityFigure("cmp-cycles", []densitySet{
+			{name: la, d: a.CycleDensity, model: a.ModelTrace, col: colBlue},
+			{name: lb, d: b.CycleDensity, model: b.ModelTrace, col: colBlue},
+		}))
+	} else {
+		sets := []traceSet{
+			{name: la, traces: a.Traces, model: a.ModelTrace, col: colBlue},
+			{name: lb, traces: b.Traces, model: b.ModelTrace, col: colVermil, dash: dashModel},
+		}
+		cs.addFigure(cyclesFigure("cmp-cycles", sets, math.Max(pulseOf(a), pulseOf(b)), o))
+	}
 	p.add(cs)
+
+	ps := &section{ID: "prediction", Title: "Prediction errors of both"}
+	ps.Intro = []string{"How well the model, nominal (the declared parts) and fitted (each capture's own values), predicts each capture's charge times."}
+	for i, r := range []*analysis.Result{a, b} {
+		name := []string{la, lb}[i]
+		if t := errorTable(r.Prediction); t != nil {
+			t.Caption = "Prediction errors: " + name
+			ps.Tables = append(ps.Tables, t)
+		} else {
+			ps.Absent = append(ps.Absent, name+": the analysis carries no prediction.")
+		}
+	}
+	p.add(ps)
 
 	es := &section{ID: "energy", Title: "Period and energy per pulse"}
 	es.Tables = append(es.Tables, compareCycles(a, b, la, lb))
-	fig, absent = energyFigure(a, b, la, lb)
+	fig, absent := energyFigure(a, b, la, lb)
 	es.addFigure(fig, absent)
 	p.add(es)
 	p.add(methodsSection())
@@ -89,8 +121,10 @@ func compareParams(a, b *analysis.Result, la, lb string) *table {
 				}
 				change = cell{Text: sign + num(pct, "%"), Class: "num"}
 			}
-			if pa.fitted.SD != nil && pb.fitted.SD != nil {
-				se := math.Hypot(*pa.fitted.SD, *pb.fitted.SD)
+			sea, oka := pa.se()
+			seb, okb := pb.se()
+			if oka && okb {
+				se := math.Hypot(sea, seb)
 				if se > 0 {
 					z := math.Abs(vb-va) / se
 					if z > 2 {

@@ -3,8 +3,10 @@ package report
 // pageCSS is the report's stylesheet, inline in every page. It names only fonts that a
 // reader's machine already has (metric-compatible families first, a generic family
 // last), fetches nothing, and has a print layout for A4 and Letter alike: the page size
-// is left to the printer, margins are set, each section starts a page, and no figure or
-// table row is split.
+// is left to the printer, margins are set, sections follow each other without forced
+// page breaks (the summary fills the first page), a plot shares its row with the short
+// table after it, and no figure or table row is split.
+// At a phone's width the margins narrow and wide tables scroll inside their own box.
 const pageCSS = `
 :root {
   --ink: #222; --muted: #666; --rule: #cfd6dc; --accent: #0b5f8f; --paper: #fff;
@@ -78,7 +80,8 @@ p.absent {
   color: var(--muted); font-style: italic; padding: 0.5rem 0.7rem; border: 1px dashed var(--rule);
 }
 figure { margin: 0.6rem 0 1rem; break-inside: avoid; }
-svg.plot { display: block; width: 100%; height: auto; }
+svg.plot { display: block; width: 100%; max-width: 36rem; height: auto; margin: 0 auto; }
+svg.plot image { image-rendering: pixelated; }
 svg.plot text { font-family: "Liberation Sans", Arial, Helvetica, "Nimbus Sans", sans-serif; }
 figcaption { font-size: 0.88em; color: var(--muted); margin-top: 0.3rem; }
 .tablewrap { overflow-x: auto; margin: 0.5rem 0 0.9rem; }
@@ -101,16 +104,33 @@ dl.items div { margin: 0 0 0.55rem; break-inside: avoid; }
 dl.items dt { font-weight: bold; }
 dl.items dd { margin: 0.1rem 0 0 1.2rem; }
 dl.items cite { display: block; color: var(--muted); font-size: 0.9em; }
+@media (min-width: 760px) {
+  section.pair { display: grid; grid-template-columns: 1fr 1fr; column-gap: 1.2rem; align-items: start; }
+  section.pair > * { grid-column: 1 / -1; }
+  section.pair > figure { grid-column: auto; }
+}
+details.more > summary { cursor: pointer; color: var(--accent); font-weight: bold; margin: 0.3rem 0; }
+@media (max-width: 600px) {
+  body { font-size: 14px; padding-top: 0; }
+  header.top, nav.toc, main, footer { padding-left: 0.7rem; padding-right: 0.7rem; }
+  nav.toc ol { columns: 1; }
+  table.kv { min-width: 0; }
+}
 @media print {
   @page { margin: 14mm 13mm 16mm; }
   html, body { background: #fff; }
-  body { font-size: 9.5pt; padding: 0; }
+  body { font-size: 9pt; padding: 0; }
   header.top, nav.toc, main, footer { max-width: none; padding: 0; }
   header.top { border-top: 0; }
   nav.toc { display: none; }
-  main > section { break-before: page; padding-top: 0; }
-  main > section.verdict-section { break-before: auto; }
+  main > section { padding-top: 0.6rem; display: grid; grid-template-columns: 1fr 1fr; column-gap: 6mm; align-items: start; }
+  main > section > * { grid-column: 1 / -1; }
+  main > section > figure { grid-column: 1; }
+  main > section > figure + .tablewrap:has(table.kv, table.segments, table.errors) { grid-column: 2; }
+  p.verdict { font-size: 1.05rem; }
   h2 { break-after: avoid; }
+  svg.plot { max-width: 8cm; }
+  figcaption { font-size: 8pt; }
   figure, tr, li.finding, dl.items div { break-inside: avoid; }
   thead { display: table-header-group; }
   .tablewrap { overflow: visible; }

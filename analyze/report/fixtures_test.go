@@ -22,6 +22,13 @@ func est(v, sd float64, origin analysis.Origin) *analysis.Estimate {
 	return e
 }
 
+// spreadEst is a mean measured over n cycles, as the analysis writes one: SD the
+// cycle-to-cycle spread, the 95 % interval that of the mean (± 1.96 SD/√n).
+func spreadEst(v, sd float64, n int) *analysis.Estimate {
+	h := 1.96 * sd / math.Sqrt(float64(max(n, 1)))
+	return &analysis.Estimate{Value: v, SD: f64(sd), Lo95: f64(v - h), Hi95: f64(v + h), Origin: analysis.OriginMeasured}
+}
+
 // simCircuit is the invented circuit behind the test results.
 type simCircuit struct {
 	capF, onV, offV, loadOhm, leakOhm, qA float64
@@ -191,9 +198,9 @@ func wrenResult() *analysis.Result {
 		pulse = append(pulse, cy.PulseS)
 	}
 	r.Fit = analysis.Fit{
-		Trigger: analysis.TriggerFit{Kind: "voltage", OnV: est(2.7132, 0.0041, "fitted"), OffV: est(1.5207, 0.0063, "fitted"),
-			OnDriftVPerH: est(0.0021, 0.0009, "fitted"), PeriodS: est(mean(charge)+mean(pulse), 3.1, "fitted"),
-			PulseS: est(mean(pulse), 0.004, "fitted")},
+		Trigger: analysis.TriggerFit{Kind: "voltage", OnV: spreadEst(2.7132, 0.041, len(pulse)), OffV: spreadEst(1.5207, 0.063, len(pulse)),
+			OnDriftVPerH: est(0.0021, 0.0009, "fitted"), PeriodS: spreadEst(mean(charge)+mean(pulse), 3.1, len(pulse)),
+			PulseS: spreadEst(mean(pulse), 0.004, len(pulse))},
 		Load: analysis.LoadFit{TauS: est(0.541, 0.012, "fitted"), Ohm: est(18.2, 0.6, "fitted"), Resistive: new(bool),
 			StartOhm: est(9.4, 0.5, "fitted"), EndOhm: est(24.8, 0.9, "fitted"), RMSResidV: f64(0.018)},
 		Leak: analysis.LeakFit{TauS: est(3580, 95, "fitted"), Ohm: est(121e3, 4e3, "fitted"), QuiescentA: est(1.07e-6, 0.08e-6, "fitted"),
@@ -284,8 +291,8 @@ func wrenAfterResult() *analysis.Result {
 	}
 	r.Capacitance = &analysis.Capacity{F: analysis.Estimate{Value: 0.0452, SD: f64(0.0009), Origin: "measured"}, Tol: "M"}
 	r.Fit = analysis.Fit{
-		Trigger: analysis.TriggerFit{Kind: "voltage", OnV: est(2.7118, 0.0045, "fitted"), OffV: est(1.5231, 0.0060, "fitted"),
-			PeriodS: est(mean(charge)+mean(pulse), 2.2, "fitted"), PulseS: est(mean(pulse), 0.005, "fitted")},
+		Trigger: analysis.TriggerFit{Kind: "voltage", OnV: spreadEst(2.7118, 0.045, len(pulse)), OffV: spreadEst(1.5231, 0.060, len(pulse)),
+			PeriodS: spreadEst(mean(charge)+mean(pulse), 2.2, len(pulse)), PulseS: spreadEst(mean(pulse), 0.005, len(pulse))},
 		Load: analysis.LoadFit{TauS: est(0.823, 0.015, "fitted"), Ohm: est(18.0, 0.5, "fitted")},
 		Leak: analysis.LeakFit{TauS: est(5350, 150, "fitted"), Ohm: est(118e3, 4e3, "fitted"), QuiescentA: est(1.12e-6, 0.09e-6, "fitted")},
 	}

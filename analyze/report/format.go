@@ -145,11 +145,18 @@ func estimate(e *analysis.Estimate, unit string) string {
 	if e.SD == nil || *e.SD <= 0 || !finite(*e.SD) || !finite(e.Value) {
 		return quantity(e.Value, unit)
 	}
-	div, label := displayUnit(e.Value, unit)
-	sd := *e.SD / div
+	v, u, label := estimateParts(e.Value, *e.SD, unit)
+	return v + " ± " + u + sep(label) + label
+}
+
+// estimateParts formats a value and its uncertainty sd (> 0) in one unit and prefix, sd
+// to two significant digits and the value to the same last decimal: ("2.7132", "0.0041",
+// "V").
+func estimateParts(value, sd float64, unit string) (v, u, label string) {
+	div, label := displayUnit(value, unit)
+	sd /= div
 	dec := max(0, min(6, 1-int(math.Floor(math.Log10(sd)))))
-	v := strconv.FormatFloat(e.Value/div, 'f', dec, 64)
-	return v + " ± " + strconv.FormatFloat(sd, 'f', dec, 64) + sep(label) + label
+	return strconv.FormatFloat(value/div, 'f', dec, 64), strconv.FormatFloat(sd, 'f', dec, 64), label
 }
 
 // displayUnit picks the divisor and unit label quantity would use for v.

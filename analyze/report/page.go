@@ -43,7 +43,8 @@ type findingView struct {
 	Numbers  []fact
 }
 
-// section is one part of the report, starting a printed page.
+// section is one part of the report. Collapsed ones (methods, safety) show their
+// title as the summary of a <details> box.
 type section struct {
 	ID, Title string
 	Intro     []string
@@ -52,6 +53,8 @@ type section struct {
 	Tables    []*table
 	Notes     []note
 	Items     []item // a definition list: methods, cautions
+	Collapsed bool   // shown closed, in a <details> box
+	Class     string // "pair": figures two to a row on a wide screen
 }
 
 type note struct {
@@ -90,7 +93,7 @@ type cell struct {
 	Title string
 }
 
-var pageTemplate = template.Must(template.New("page").Parse(`<!DOCTYPE html>
+var pageTemplate = template.Must(template.New("page").Funcs(template.FuncMap{"lower": strings.ToLower}).Parse(`<!DOCTYPE html>
 <html lang="en">
 <head>
 <meta charset="utf-8">
@@ -159,8 +162,11 @@ var pageTemplate = template.Must(template.New("page").Parse(`<!DOCTYPE html>
 {{- end}}
 </section>
 {{- range .Sections}}
-<section id="{{.ID}}">
+<section id="{{.ID}}"{{if .Class}} class="{{.Class}}"{{end}}>
 <h2>{{.Title}}</h2>
+{{- if .Collapsed}}
+<details class="more"><summary>Show the {{.Title | lower}}</summary>
+{{- end}}
 {{- range .Intro}}
 <p>{{.}}</p>
 {{- end}}
@@ -199,6 +205,9 @@ var pageTemplate = template.Must(template.New("page").Parse(`<!DOCTYPE html>
 <div><dt>{{.Term}}</dt><dd>{{.Text}}{{if .Ref}} <cite>{{.Ref}}</cite>{{end}}</dd></div>
 {{- end}}
 </dl>
+{{- end}}
+{{- if .Collapsed}}
+</details>
 {{- end}}
 </section>
 {{- end}}

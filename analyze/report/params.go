@@ -26,6 +26,32 @@ type paramRow struct {
 	fitted   *analysis.Estimate
 	tolCode  string
 	needsC   bool // an absolute value that needs the capacitance
+	// spread: fitted.SD is the cycle-to-cycle standard deviation of a measured mean (the
+	// spread of the cycles), not the mean's standard error.
+	spread bool
+}
+
+// se is the standard error of the row's found value: its SD, or for a spread the
+// standard error of the mean, SD/sqrt(n), read back from the 95 % interval of the mean
+// (mean ± 1.96 SD/sqrt(n)). ok is false when it is unknown.
+func (p paramRow) se() (float64, bool) {
+	e := p.fitted
+	if e == nil || e.SD == nil || !(*e.SD > 0) {
+		return 0, false
+	}
+	if !p.spread {
+		return *e.SD, true
+	}
+	if e.Lo95 == nil || e.Hi95 == nil || !(*e.Hi95 > *e.Lo95) {
+		return 0, false
+	}
+	return (*e.Hi95 - *e.Lo95) / (2 * 1.96), true
+}
+
+// isSpread says whether e's SD is the spread of the cycles (a measured mean), not a
+// standard error.
+func isSpread(e *analysis.Estimate) bool {
+	return e != nil && e.Origin == analysis.OriginMeasured
 }
 
 func paramRows(r *analysis.Result) []paramRow {
@@ -45,11 +71,11 @@ func paramRows(r *analysis.Result) []paramRow {
 	f := r.Fit
 	return []paramRow{
 		{name: "storage capacitance", unit: "F", declared: nonZero(d.CapF), fitted: capFit, tolCode: tol},
-		{name: "trigger on voltage", unit: "V", declared: nonZero(d.OnV), fitted: f.Trigger.OnV},
-		{name: "trigger release voltage", unit: "V", declared: nonZero(d.OffV), fitted: f.Trigger.OffV},
+		{name: "trigger on voltage", unit: "V", declared: nonZero(d.OnV), fitted: f.Trigger.OnV, spread: isSpread(f.Trigger.OnV)},
+		{name: "trigger release voltage", unit: "V", declared: nonZero(d.OffV), fitted: f.Trigger.OffV, spread: isSpread(f.Trigger.OffV)},
 		{name: "drift of the on voltage", unit: "V/h", fitted: f.Trigger.OnDriftVPerH},
-		{name: "mean period between fires", unit: "s", fitted: f.Trigger.PeriodS},
-		{name: "mean pulse width", unit: "s", fitted: f.Trigger.PulseS},
+		{name: "mean period between fires", unit: "s", fitted: f.Trigger.PeriodS, spread: isSpread(f.Trigger.PeriodS)},
+		{name: "mean pulse width", unit: "s", fitted: f.Trigger.PulseS, spread: isSpread(f.Trigger.PulseS)},
 		{name: "load resistance", unit: "Ω", declared: nonZero(d.LoadOhm), fitted: f.Load.Ohm, needsC: true},
 		{name: "load time constant", unit: "s", fitted: f.Load.TauS},
 		{name: "leakage resistance", unit: "Ω", fitted: f.Leak.Ohm, needsC: true},
@@ -65,8 +91,8 @@ func paramRows(r *analysis.Result) []paramRow {
 // paramSection is the table of declared against fitted values.
 func paramSection(r *analysis.Result) *section {
 	s := &section{ID: "parameters", Title: "Parameters: declared and found"}
-	s.Intro = []string{"Declared values come from the profile; found values from this capture, with one standard error. The difference is (found − declared) / declared. Where the profile gives a tolerance, the found value is judged against it; elsewhere, against twice the standard error."}
-	t := &table{Class: "params", Head: []string{"quantity", "declared", "found ± s.e.", "source", "difference", "tolerance", "agreement"}}
+	s.Intro = []string{"Declared values come from the profile; found values from this capture. A fitted value carries its standard error (s.e.); a value measured as the mean over the cycles carries their spread (the cycle-to-cycle standard deviation), and its mean's standard error is the spread over √n. The difference is (found − declared) / declared. Where the profile gives a tolerance, the found value is judged against it; elsewhere, against twice the standard error."}
+	t := &table{Class: "params", Head: []string{"quantity", "declared", "found", "± s.e. or spread", "source", "difference", "tolerance", "agreement"}}
 	var missing []string
 	for _, p := range paramRows(r) {
 		if p.declared == nil && p.fitted == nil {
@@ -92,9 +118,9 @@ func paramCells(p paramRow) []cell {
 		decl = cell{Text: quantity(*p.declared, p.unit), Class: "num"}
 	}
 	found := cell{Text: "not determined", Class: "num muted"}
-	origin := cell{}
+	unc, origin := cell{}, cell{}
 	if p.fitted != nil {
-		found = cell{Text: estimate(p.fitted, p.unit), Class: "num"}
+		found, unc = foundCells(p)
 		if p.fitted.Lo95 != nil && p.fitted.Hi95 != nil {
 			found.Title = "95 % interval " + quantity(*p.fitted.Lo95, p.unit) + " to " + quantity(*p.fitted.Hi95, p.unit)
 		}
@@ -124,7 +150,23 @@ func paramCells(p paramRow) []cell {
 	} else if p.fitted != nil && p.fitted.Origin == "declared" {
 		agree = cell{Text: "declared value used", Class: "muted"}
 	}
-	return []cell{{Text: p.name}, decl, found, origin, diff, tolC, agree}
+	return []cell{{Text: p.name}, decl, found, unc, origin, diff, tolC, agree}
+}
+
+// foundCells are the found value and its uncertainty: "± 0.0041 V s.e." for a standard
+// error, "± 0.040 V spread" for the cycle-to-cycle spread of a measured mean.
+func foundCells(p paramRow) (found, unc cell) {
+	e := p.fitted
+	if e.SD == nil || !(*e.SD > 0) || !finite(*e.SD) || !finite(e.Value) {
+		return cell{Text: quantity(e.Value, p.unit), Class: "num"}, cell{Text: "—", Class: "num muted"}
+	}
+	v, u, label := estimateParts(e.Value, *e.SD, p.unit)
+	v, u = v+sep(label)+label, u+sep(label)+label
+	if p.spread {
+		return cell{Text: v, Class: "num"}, cell{Text: "± " + u + " spread", Class: "num",
+			Title: "the cycle-to-cycle standard deviation, not the standard error of the mean"}
+	}
+	return cell{Text: v, Class: "num"}, cell{Text: "± " + u + " s.e.", Class: "num", Title: "one standard error"}
 }
 
 // agreement judges a found value against the declared one: by the tolerance code when
@@ -140,8 +182,8 @@ func agreement(p paramRow, dv, fv float64) cell {
 		}
 		return cell{Text: "outside tolerance", Class: "bad"}
 	}
-	if sd := p.fitted.SD; sd != nil && *sd > 0 {
-		z := math.Abs(fv-dv) / *sd
+	if sd, ok := p.se(); ok {
+		z := math.Abs(fv-dv) / sd
 		if z <= 2 {
 			return cell{Text: fmt.Sprintf("agrees (%.1f s.e.)", z), Class: "ok"}
 		}

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"image/color"
 	"math"
+	"slices"
 	"sort"
 
 	"gonum.org/v1/plot"
@@ -24,20 +25,7 @@ type traceSet struct {
 // cyclesFigure overlays the measured cycles, aligned at the fire (t = 0), with the fitted
 // model's cycle drawn over them; beside it, a zoom on the discharge pulse.
 func cyclesFigure(id string, sets []traceSet, pulseS float64, o *Options) (figure, string) {
-	// At most maxTraces traces per capture, evenly picked: more add ink, not insight.
-	const maxTraces = 40
-	var nTraces, dropped int
-	for i, s := range sets {
-		if len(s.traces) > maxTraces {
-			var keep []analysis.Trace
-			for _, k := range thin(len(s.traces), maxTraces, nil) {
-				keep = append(keep, s.traces[k])
-			}
-			dropped += len(s.traces) - len(keep)
-			sets[i].traces = keep
-		}
-		nTraces += len(sets[i].traces)
-	}
+	nTraces, dropped := thinSets(sets)
 	if nTraces == 0 {
 		return figure{}, "The analysis carries no cycle traces, so the cycles cannot be overlaid."
 	}
@@ -100,11 +88,8 @@ func cyclesFigure(id string, sets []traceSet, pulseS float64, o *Options) (figur
 
 	plots := []*plot.Plot{full}
 	caption := "Every traced cycle drawn on one axis, shifted so that its fire falls at time zero."
-	for _, s := range sets {
-		if s.model != nil {
-			caption += " The thick line is the fitted model's cycle."
-			break
-		}
+	if slices.ContainsFunc(sets, func(s traceSet) bool { return s.model != nil }) {
+		caption += " The thick line is the fitted model's cycle."
 	}
 	if pulseS > 0 && finite(pulseS) {
 		lo, hi := -1.5*pulseS, 4*pulseS
@@ -112,43 +97,57 @@ func cyclesFigure(id string, sets []traceSet, pulseS float64, o *Options) (figur
 		zdiv, zu := siAxis(hi, "s")
 		zoom := newPlot("time from the fire ("+zu+")", "capacitor voltage (V)")
 		zoom.X.Tick.Marker = niceTicks{N: 4}
-		var any bool
-		for _, s := range sets {
-			for _, t := range s.traces {
-				if x, _ := window(t, win); len(x) > 1 {
-					any = true
-				}
-			}
-		}
-		if any {
+		if anyInWindow(sets, win) {
 			for _, s := range sets {
 				addSet(zoom, s, zdiv, win, false)
 			}
 			markFire(zoom)
 			plots = append(plots, zoom)
-			caption += fmt.Sprintf(" On the right, the discharge pulse alone (%s to %s around the fire).", dur(lo), dur(hi))
+			caption += fmt.Sprintf(" Below, the discharge pulse alone (%s to %s around the fire).", dur(lo), dur(hi))
 		}
 	}
 	if dropped > 0 {
 		caption += fmt.Sprintf(" %d traces are drawn, evenly spread over the capture; %d more are left out.", nTraces, dropped)
 	}
 	alt := "Measured cycles overlaid at the fire, with the fitted model's cycle"
-	svg, err := renderSVG(id, figW, vg.Points(230), alt, func(dc draw.Canvas) error {
-		c := legendRows(dc, legend)
-		if len(plots) == 1 {
-			plots[0].Draw(c)
-			return nil
-		}
-		left := draw.Crop(c, 0, -(c.Max.X-c.Min.X)*0.38, 0, 0)
-		right := draw.Crop(c, (c.Max.X-c.Min.X)*0.64, 0, 0, 0)
-		plots[0].Draw(left)
-		plots[1].Draw(right)
+	svg, err := renderSVG(id, figW, vg.Points(230*float64(len(plots))), alt, func(dc draw.Canvas) error {
+		side(legendRows(dc, legend), plots, vg.Points(10)) // one plot or the plot and its zoom
 		return nil
 	})
 	if err != nil {
 		return figure{Err: err.Error()}, ""
 	}
 	return figure{SVG: svg, Alt: alt, Caption: caption}, ""
+}
+
+// thinSets keeps at most 40 traces per capture, evenly picked (more add ink, not
+// insight), and returns how many are kept and how many left out.
+func thinSets(sets []traceSet) (kept, dropped int) {
+	const maxTraces = 40
+	for i, s := range sets {
+		if len(s.traces) > maxTraces {
+			var keep []analysis.Trace
+			for _, k := range thin(len(s.traces), maxTraces, nil) {
+				keep = append(keep, s.traces[k])
+			}
+			dropped += len(s.traces) - len(keep)
+			sets[i].traces = keep
+		}
+		kept += len(sets[i].traces)
+	}
+	return kept, dropped
+}
+
+// anyInWindow says whether some trace has at least two points inside win.
+func anyInWindow(sets []traceSet, win func(float64) bool) bool {
+	for _, s := range sets {
+		for _, t := range s.traces {
+			if x, _ := window(t, win); len(x) > 1 {
+				return true
+			}
+		}
+	}
+	return false
 }
 
 // modelDash picks the model line's dash so that it differs from the traces' own.

@@ -13,7 +13,7 @@ import (
 // dayFigure is "the day at a glance": the voltage as a min/max band with the fires
 // marked and the gaps shaded, the light level, and the fires per hour, on one time axis.
 // It returns an empty figure and the reason when the Result has no envelope.
-func dayFigure(r *analysis.Result, o *Options) (figure, string) {
+func dayFigure(id string, r *analysis.Result, o *Options) (figure, string) {
 	env := MergeEnvelope(r.Envelope, envelopeBins(r, o.maxBins()))
 	if len(env) < 2 {
 		return figure{}, "The analysis carries no voltage envelope, so the day cannot be drawn."
@@ -41,76 +41,12 @@ func dayFigure(r *analysis.Result, o *Options) (figure, string) {
 	var legend []legendItem
 
 	// Gaps first, so everything else draws over them; each wide gap is named in text.
-	var gapThumb plot.Thumbnailer
-	var gapLabels plotter.XYLabels
-	for _, s := range r.Segments {
-		if s.Kind != "gap" {
-			continue
-		}
-		g, err := rect(s.StartS/div, s.EndS/div, ylo, yhi, colGapFill)
-		if err != nil {
-			continue
-		}
-		pv.Add(g)
-		gapThumb = g
-		if (s.EndS-s.StartS)/span > 0.03 {
-			gapLabels.XYs = append(gapLabels.XYs, plotter.XY{X: (s.StartS + s.EndS) / 2 / div, Y: yhi - pad/2})
-			gapLabels.Labels = append(gapLabels.Labels, "gap")
-		}
+	gapThumb, gapLabels := dayGaps(pv, r.Segments, div, span, ylo, yhi, pad)
+	if th := dayBand(pv, env, r.Segments, div); th != nil {
+		legend = append(legend, legendItem{"voltage, lowest to highest in each bin", []plot.Thumbnailer{th}})
 	}
 
-	// The band: one polygon per unbroken run of bins.
-	var bandThumb plot.Thumbnailer
-	brk := breakStep(env)
-	for _, run := range envelopeRuns(env, r.Segments, brk) {
-		pts := make(plotter.XYs, 0, 2*len(run))
-		for _, e := range run {
-			pts = append(pts, plotter.XY{X: e.TS / div, Y: e.MaxV})
-		}
-		for i := len(run) - 1; i >= 0; i-- {
-			pts = append(pts, plotter.XY{X: run[i].TS / div, Y: run[i].MinV})
-		}
-		if len(run) == 1 { // a lone bin: give it some width so it shows
-			w := brk / 6 / div
-			pts = plotter.XYs{{X: pts[0].X - w, Y: run[0].MaxV}, {X: pts[0].X + w, Y: run[0].MaxV},
-				{X: pts[0].X + w, Y: run[0].MinV}, {X: pts[0].X - w, Y: run[0].MinV}}
-		}
-		poly, err := plotter.NewPolygon(pts)
-		if err != nil {
-			continue
-		}
-		poly.Color = colBand
-		poly.LineStyle.Color = colBlue
-		poly.LineStyle.Width = vg.Points(0.5)
-		pv.Add(poly)
-		bandThumb = poly
-	}
-	if bandThumb != nil {
-		legend = append(legend, legendItem{"voltage, lowest to highest in each bin", []plot.Thumbnailer{bandThumb}})
-	}
-
-	if haveOn {
-		l, err := line([]float64{0, xmax}, []float64{on, on}, colVermil, 0.9, dashTrig)
-		if err == nil {
-			pv.Add(l)
-			legend = append(legend, legendItem{"trigger on " + num(on, "V"), []plot.Thumbnailer{l}})
-		}
-	}
-	if off, _, ok := triggerOff(r); ok {
-		l, err := line([]float64{0, xmax}, []float64{off, off}, colInk, 0.9, dashDotted)
-		if err == nil {
-			pv.Add(l)
-			legend = append(legend, legendItem{"release " + num(off, "V"), []plot.Thumbnailer{l}})
-		}
-	}
-
-	if eq := r.EquilibriumV; eq != nil && finite(eq.Value) {
-		l, err := line([]float64{0, xmax}, []float64{eq.Value, eq.Value}, colGreen, 1.1, dashLongShort)
-		if err == nil {
-			pv.Add(l)
-			legend = append(legend, legendItem{"settling level " + num(eq.Value, "V"), []plot.Thumbnailer{l}})
-		}
-	}
+	legend = append(legend, dayLevels(pv, r, xmax)...)
 
 	// Fires: one marker per pixel-wide bin that holds a fire, at the highest fire voltage.
 	fx, fy := fireMarks(r.Cycles, span, 300)
@@ -136,58 +72,22 @@ func dayFigure(r *analysis.Result, o *Options) (figure, string) {
 	plots := []*plot.Plot{pv}
 	weights := []float64{3}
 	caption := "Voltage across the storage capacitor over the whole capture, drawn as the lowest and highest value in each time bin"
-	if len(r.Light) >= 2 {
-		pl := newPlot("", "light (relative)")
-		pl.Y.Tick.Marker = niceTicks{N: 3}
-		pl.X.Min, pl.X.Max, pl.Y.Min, pl.Y.Max = 0, xmax, 0, 1.05
-		var lx, ly []float64
-		for _, p := range r.Light {
-			lx = append(lx, p.TS/div)
-			ly = append(ly, p.Level)
-		}
-		lx, ly = MinMax(lx, ly, o.maxPoints())
-		if l, err := line(lx, ly, colOrange, 1.2, nil); err == nil {
-			pl.Add(l)
-			legend = append(legend, legendItem{"light level (1 = brightest stretch)", []plot.Thumbnailer{l}})
-		}
-		plots = append(plots, pl)
-		weights = append(weights, 1.2)
+	if pl, item := lightPanel(r, xmax, div, o); pl != nil {
+		plots, weights = append(plots, pl), append(weights, 1.2)
+		legend = append(legend, item...)
 		caption += "; below it, the light level the charging rate implies"
 	}
-	if fph := firesPerHour(r.Cycles, r.Segments, span); len(fph) > 0 {
-		pf := newPlot("", "full fires per hour")
-		pf.Y.Tick.Marker = niceTicks{N: 3}
-		pf.X.Min, pf.X.Max, pf.Y.Min = 0, xmax, 0
-		var ymax float64
-		var barThumb plot.Thumbnailer
-		for _, b := range fph {
-			ymax = math.Max(ymax, b.rate)
-			if b.rate == 0 {
-				continue
-			}
-			bar, err := rect(b.t0/div, b.t1/div, 0, b.rate, colPurple)
-			if err != nil {
-				continue
-			}
-			bar.LineStyle.Color = colInk
-			bar.LineStyle.Width = vg.Points(0.4)
-			pf.Add(bar)
-			barThumb = bar
-		}
-		pf.Y.Max = math.Max(1, ymax*1.1)
-		if barThumb != nil {
-			legend = append(legend, legendItem{"full fires per hour", []plot.Thumbnailer{barThumb}})
-		}
-		plots = append(plots, pf)
-		weights = append(weights, 1.4)
+	if pf, item := firesPanel(r, span, xmax, div); pf != nil {
+		plots, weights = append(plots, pf), append(weights, 1.4)
+		legend = append(legend, item...)
 		caption += "; and the full fires counted in each bin, as a rate per hour"
 	}
 	plots[len(plots)-1].X.Label.Text = "time since the capture started (" + tu + ")"
 	caption += "."
 
-	h := vg.Points(200 + 95*float64(len(plots)-1))
+	h := vg.Points(190 + 80*float64(len(plots)-1))
 	alt := "Capacitor voltage over the capture with fires marked"
-	svg, err := renderSVG("day", figW, h, alt, func(dc draw.Canvas) error {
+	svg, err := renderSVG(id, figW, h, alt, func(dc draw.Canvas) error {
 		stack(legendRows(dc, legend), plots, weights, vg.Points(4))
 		return nil
 	})
@@ -195,6 +95,145 @@ func dayFigure(r *analysis.Result, o *Options) (figure, string) {
 		return figure{Err: err.Error()}, ""
 	}
 	return figure{SVG: svg, Alt: alt, Caption: caption}, ""
+}
+
+// dayGaps shades the gaps and returns a thumbnail for the legend (nil without gaps) and
+// the labels of the wide ones.
+func dayGaps(pv *plot.Plot, segs []analysis.Segment, div, span, ylo, yhi, pad float64) (plot.Thumbnailer, plotter.XYLabels) {
+	var gapThumb plot.Thumbnailer
+	var gapLabels plotter.XYLabels
+	for _, s := range segs {
+		if s.Kind != "gap" {
+			continue
+		}
+		g, err := rect(s.StartS/div, s.EndS/div, ylo, yhi, colGapFill)
+		if err != nil {
+			continue
+		}
+		pv.Add(g)
+		gapThumb = g
+		if (s.EndS-s.StartS)/span > 0.03 {
+			gapLabels.XYs = append(gapLabels.XYs, plotter.XY{X: (s.StartS + s.EndS) / 2 / div, Y: yhi - pad/2})
+			gapLabels.Labels = append(gapLabels.Labels, "gap")
+		}
+	}
+	return gapThumb, gapLabels
+}
+
+// dayLevels draws the trigger's on and release voltages and the settling level across
+// the day, and returns their legend items.
+func dayLevels(pv *plot.Plot, r *analysis.Result, xmax float64) []legendItem {
+	var items []legendItem
+	if on, _, ok := triggerOn(r); ok {
+		l, err := line([]float64{0, xmax}, []float64{on, on}, colVermil, 0.9, dashTrig)
+		if err == nil {
+			pv.Add(l)
+			items = append(items, legendItem{"trigger on " + num(on, "V"), []plot.Thumbnailer{l}})
+		}
+	}
+	if off, _, ok := triggerOff(r); ok {
+		l, err := line([]float64{0, xmax}, []float64{off, off}, colInk, 0.9, dashDotted)
+		if err == nil {
+			pv.Add(l)
+			items = append(items, legendItem{"release " + num(off, "V"), []plot.Thumbnailer{l}})
+		}
+	}
+
+	if eq := r.EquilibriumV; eq != nil && finite(eq.Value) {
+		l, err := line([]float64{0, xmax}, []float64{eq.Value, eq.Value}, colGreen, 1.1, dashLongShort)
+		if err == nil {
+			pv.Add(l)
+			items = append(items, legendItem{"settling level " + num(eq.Value, "V"), []plot.Thumbnailer{l}})
+		}
+	}
+	return items
+}
+
+// dayBand draws the voltage band, one polygon per unbroken run of bins, and returns a
+// thumbnail for the legend (nil when nothing was drawn).
+func dayBand(pv *plot.Plot, env []analysis.EnvelopePt, segs []analysis.Segment, div float64) plot.Thumbnailer {
+	// The band: one polygon per unbroken run of bins.
+	var bandThumb plot.Thumbnailer
+	brk := breakStep(env)
+	for _, run := range envelopeRuns(env, segs, brk) {
+		pts := make(plotter.XYs, 0, 2*len(run))
+		for _, e := range run {
+			pts = append(pts, plotter.XY{X: e.TS / div, Y: e.MaxV})
+		}
+		for i := len(run) - 1; i >= 0; i-- {
+			pts = append(pts, plotter.XY{X: run[i].TS / div, Y: run[i].MinV})
+		}
+		if len(run) == 1 { // a lone bin: give it some width so it shows
+			w := brk / 6 / div
+			pts = plotter.XYs{{X: pts[0].X - w, Y: run[0].MaxV}, {X: pts[0].X + w, Y: run[0].MaxV},
+				{X: pts[0].X + w, Y: run[0].MinV}, {X: pts[0].X - w, Y: run[0].MinV}}
+		}
+		poly, err := plotter.NewPolygon(pts)
+		if err != nil {
+			continue
+		}
+		poly.Color = colBand
+		poly.LineStyle.Color = colBlue
+		poly.LineStyle.Width = vg.Points(0.5)
+		pv.Add(poly)
+		bandThumb = poly
+	}
+	return bandThumb
+}
+
+// lightPanel is the light level under the day's voltage (nil with fewer than 2 points).
+func lightPanel(r *analysis.Result, xmax, div float64, o *Options) (*plot.Plot, []legendItem) {
+	if len(r.Light) < 2 {
+		return nil, nil
+	}
+	var item []legendItem
+	pl := newPlot("", "light (relative)")
+	pl.Y.Tick.Marker = niceTicks{N: 3}
+	pl.X.Min, pl.X.Max, pl.Y.Min, pl.Y.Max = 0, xmax, 0, 1.05
+	var lx, ly []float64
+	for _, p := range r.Light {
+		lx = append(lx, p.TS/div)
+		ly = append(ly, p.Level)
+	}
+	lx, ly = MinMax(lx, ly, o.maxPoints())
+	if l, err := line(lx, ly, colOrange, 1.2, nil); err == nil {
+		pl.Add(l)
+		item = append(item, legendItem{"light level (1 = brightest stretch)", []plot.Thumbnailer{l}})
+	}
+	return pl, item
+}
+
+// firesPanel is the full fires per hour under the day's voltage (nil without fires).
+func firesPanel(r *analysis.Result, span, xmax, div float64) (*plot.Plot, []legendItem) {
+	fph := firesPerHour(r.Cycles, r.Segments, span)
+	if len(fph) == 0 {
+		return nil, nil
+	}
+	var item []legendItem
+	pf := newPlot("", "full fires per hour")
+	pf.Y.Tick.Marker = niceTicks{N: 3}
+	pf.X.Min, pf.X.Max, pf.Y.Min = 0, xmax, 0
+	var ymax float64
+	var barThumb plot.Thumbnailer
+	for _, b := range fph {
+		ymax = math.Max(ymax, b.rate)
+		if b.rate == 0 {
+			continue
+		}
+		bar, err := rect(b.t0/div, b.t1/div, 0, b.rate, colPurple)
+		if err != nil {
+			continue
+		}
+		bar.LineStyle.Color = colInk
+		bar.LineStyle.Width = vg.Points(0.4)
+		pf.Add(bar)
+		barThumb = bar
+	}
+	pf.Y.Max = math.Max(1, ymax*1.1)
+	if barThumb != nil {
+		item = append(item, legendItem{"full fires per hour", []plot.Thumbnailer{barThumb}})
+	}
+	return pf, item
 }
 
 // envelopeRuns splits the envelope where bins are not neighbours: a step longer than brk,

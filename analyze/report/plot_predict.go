@@ -58,17 +58,7 @@ func predictFigure(r *analysis.Result, o *Options) (figure, string) {
 	if len(pts) == 0 {
 		return figure{}, "The analysis carries no per-cycle prediction, so measured and predicted cycles cannot be compared."
 	}
-	// Keep the plot light: an even spread of cycles plus the worst-predicted ones.
-	const maxShown, worst = 400, 20
-	order := make([]int, len(pts))
-	for i := range order {
-		order[i] = i
-	}
-	worstErr := func(p predPoint) float64 {
-		return math.Max(nanAbs(p.nomErr), nanAbs(p.fitErr))
-	}
-	sort.SliceStable(order, func(a, b int) bool { return worstErr(pts[order[a]]) > worstErr(pts[order[b]]) })
-	shown := thin(len(pts), maxShown, order[:min(worst, len(order))])
+	shown := shownPoints(pts)
 
 	var mx, nx, ny, fx, fy []float64
 	var tNom, eNom, tFit, eFit []float64
@@ -113,19 +103,7 @@ func predictFigure(r *analysis.Result, o *Options) (figure, string) {
 			a.Tick.Marker = ticks125{}
 		}
 	}
-	var legend []legendItem
-	if l, err := line([]float64{lo / div, hi / div}, []float64{lo / div, hi / div}, colInk, 0.9, nil); err == nil {
-		sc.Add(l)
-		legend = append(legend, legendItem{"prediction = measurement", []plot.Thumbnailer{l}})
-	}
-	for _, k := range []float64{0.9, 1.1} {
-		if l, err := line([]float64{lo / div, hi / div}, []float64{k * lo / div, k * hi / div}, colMuted, 0.6, dashDotted); err == nil {
-			sc.Add(l)
-			if k > 1 {
-				legend = append(legend, legendItem{"±10 %", []plot.Thumbnailer{l}})
-			}
-		}
-	}
+	legend := addOneToOne(sc, lo/div, hi/div)
 	var nomThumb, fitThumb plot.Thumbnailer
 	if len(nx) > 0 {
 		if s, err := scatter(scaled(nx, div), scaled(ny, div), draw.RingGlyph{}, colOrange, 2.4); err == nil {
@@ -148,15 +126,7 @@ func predictFigure(r *analysis.Result, o *Options) (figure, string) {
 	res := newPlot("time since the capture started ("+ttu+")", "charge-time error (%)")
 	res.Y.Min, res.Y.Max = -lim, lim
 	res.X.Min, res.X.Max = 0, math.Max(r.DurationS, 1)/td
-	for _, k := range []float64{-10, 0, 10} {
-		w, d := 0.6, dashDotted
-		if k == 0 {
-			w, d = 0.9, nil
-		}
-		if l, err := line([]float64{res.X.Min, res.X.Max}, []float64{k, k}, colInk, w, d); err == nil {
-			res.Add(l)
-		}
-	}
+	addErrorGuides(res)
 	if nomThumb != nil && len(tNom) > 0 {
 		if s, err := scatter(scaled(tNom, td), eNom, draw.RingGlyph{}, colOrange, 2.4); err == nil {
 			res.Add(s)
@@ -168,12 +138,12 @@ func predictFigure(r *analysis.Result, o *Options) (figure, string) {
 		}
 	}
 
-	caption := "Left: each cycle's charge time as measured and as the two models predict it. Right: the prediction error, (predicted − measured) / measured, over the day."
+	caption := "Top: each cycle's charge time as measured and as the two models predict it. Below: the prediction error, (predicted − measured) / measured, over the day."
 	if len(shown) < len(pts) {
-		caption += fmt.Sprintf(" %d of %d cycles are drawn: an even spread, plus the %d with the largest errors.", len(shown), len(pts), min(worst, len(pts)))
+		caption += fmt.Sprintf(" %d of %d cycles are drawn: an even spread, plus the %d with the largest errors.", len(shown), len(pts), min(worstShown, len(pts)))
 	}
 	alt := "Measured against predicted charge time, and the prediction error over time"
-	svg, err := renderSVG("predict", figW, vg.Points(250), alt, func(dc draw.Canvas) error {
+	svg, err := renderSVG("predict", figW, vg.Points(380), alt, func(dc draw.Canvas) error {
 		side(legendRows(dc, legend), []*plot.Plot{sc, res}, vg.Points(18))
 		return nil
 	})
@@ -189,6 +159,57 @@ func nanAbs(v float64) float64 {
 	}
 	return math.Abs(v)
 }
+
+// addOneToOne draws the line where prediction equals measurement, from lo to hi on both
+// axes, and the ±10 % lines beside it; it returns their legend items.
+func addOneToOne(sc *plot.Plot, lo, hi float64) []legendItem {
+	var legend []legendItem
+	if l, err := line([]float64{lo, hi}, []float64{lo, hi}, colInk, 0.9, nil); err == nil {
+		sc.Add(l)
+		legend = append(legend, legendItem{"prediction = measurement", []plot.Thumbnailer{l}})
+	}
+	for _, k := range []float64{0.9, 1.1} {
+		if l, err := line([]float64{lo, hi}, []float64{k * lo, k * hi}, colMuted, 0.6, dashDotted); err == nil {
+			sc.Add(l)
+			if k > 1 {
+				legend = append(legend, legendItem{"±10 %", []plot.Thumbnailer{l}})
+			}
+		}
+	}
+	return legend
+}
+
+// addErrorGuides draws the zero line and the ±10 % lines across the error plot (its X
+// range set).
+func addErrorGuides(res *plot.Plot) {
+	for _, k := range []float64{-10, 0, 10} {
+		w, d := 0.6, dashDotted
+		if k == 0 {
+			w, d = 0.9, nil
+		}
+		if l, err := line([]float64{res.X.Min, res.X.Max}, []float64{k, k}, colInk, w, d); err == nil {
+			res.Add(l)
+		}
+	}
+}
+
+// shownPoints keeps the plot light: an even spread of at most 400 cycles plus the 20
+// worst-predicted ones.
+func shownPoints(pts []predPoint) []int {
+	const maxShown = 400
+	order := make([]int, len(pts))
+	for i := range order {
+		order[i] = i
+	}
+	worstErr := func(p predPoint) float64 {
+		return math.Max(nanAbs(p.nomErr), nanAbs(p.fitErr))
+	}
+	sort.SliceStable(order, func(a, b int) bool { return worstErr(pts[order[a]]) > worstErr(pts[order[b]]) })
+	return thin(len(pts), maxShown, order[:min(worstShown, len(order))])
+}
+
+// worstShown is the number of worst-predicted cycles the plot always shows.
+const worstShown = 20
 
 // ticks125 marks a log axis at 1, 2 and 5 times each power of ten, with minor ticks
 // between.
@@ -211,7 +232,7 @@ func (ticks125) Ticks(lo, hi float64) []plot.Tick {
 			}
 			t := plot.Tick{Value: v}
 			if labelled[m] {
-				t.Label = strconv.FormatFloat(v, 'g', -1, 64)
+				t.Label = strconv.FormatFloat(v, 'g', 6, 64) // 6 digits: 3 × 0.1 is not 0.30000000000000004
 			}
 			out = append(out, t)
 		}

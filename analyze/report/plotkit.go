@@ -31,11 +31,15 @@ var (
 	colMuted   = color.RGBA{0x77, 0x77, 0x77, 0xff}
 )
 
-// Plot sizes: the text column is about 17 cm on A4 and Letter after margins.
+// Plot sizes. A plot is drawn for a phone's column (about 340 px at 390 px wide, after
+// the page's margins) with text of 10 and 11 points, so that at one pixel per point the
+// smallest text stays at least 9 px; wider screens scale it up (the stylesheet caps the
+// width) and paper prints it 12 cm wide. Panels that would sit side by side on paper
+// are stacked instead (see side).
 const (
-	figW      = 17 * vg.Centimeter
-	fontTick  = 8
-	fontLabel = 9
+	figW      = 340
+	fontTick  = 10
+	fontLabel = 11
 )
 
 // sansFont is the face every plot uses. Its metrics match Arial and Helvetica, which the
@@ -146,7 +150,7 @@ func legendRows(dc draw.Canvas, items []legendItem) draw.Canvas {
 		return dc
 	}
 	sty := textStyle(fontTick, colInk, draw.XLeft, draw.YCenter)
-	const thumbW, gapAfterThumb, gapAfterItem, rowH = 20.0, 4.0, 12.0, 13.0
+	const thumbW, gapAfterThumb, gapAfterItem, rowH = 20.0, 4.0, 12.0, 15.0
 	x0 := float64(dc.Min.X) + 4
 	x := x0
 	y := float64(dc.Max.Y) - rowH/2
@@ -201,13 +205,14 @@ func stack(dc draw.Canvas, plots []*plot.Plot, weights []float64, gap vg.Length)
 	}
 }
 
-// side draws plots side by side in dc with their data areas the same size.
+// side draws companion plots in dc: one above the other with their data areas lined up
+// (a phone's column is too narrow to set them side by side), of equal heights.
 func side(dc draw.Canvas, plots []*plot.Plot, gap vg.Length) {
-	row := [][]*plot.Plot{plots}
-	cs := plot.Align(row, draw.Tiles{Rows: 1, Cols: len(plots), PadX: gap}, dc)
-	for i, p := range plots {
-		p.Draw(cs[0][i])
+	w := make([]float64, len(plots))
+	for i := range w {
+		w[i] = 1
 	}
+	stack(dc, plots, w, gap)
 }
 
 // timeAxis picks the unit for a time axis from the span it covers.

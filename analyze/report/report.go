@@ -19,7 +19,7 @@ type Options struct {
 	// default) leaves it out, which keeps a report byte-identical when rebuilt.
 	Generated time.Time
 	// CycleRows is how many rows of the cycle table the page shows; the rest live in
-	// the CSV. Default 20; a negative value shows every cycle.
+	// the CSV. Default 12; a negative value shows every cycle.
 	CycleRows int
 	// CSVHref and JSONHref are the links, relative to the HTML file, to the cycle CSV and
 	// the analysis JSON written beside it. Empty (the default) names no file.
@@ -39,7 +39,7 @@ type Options struct {
 
 func (o *Options) cycleRows() int {
 	if o == nil || o.CycleRows == 0 {
-		return 20
+		return 12
 	}
 	return o.CycleRows
 }
@@ -75,7 +75,7 @@ var ErrNoResult = errors.New("report: no analysis result")
 // Write writes the report of one analysed capture to w as one self-contained HTML page:
 // the stylesheet and every plot (as SVG) are inline, there are no scripts, and nothing
 // is fetched from anywhere, so the file reads the same offline, in years, and on paper
-// (A4 or Letter: each section starts a page).
+// (A4 or Letter).
 //
 // The page is built from r alone, so a saved analysis JSON rebuilds the same report.
 // A part of r that is null gives its section a plain statement that the data is absent
@@ -118,6 +118,7 @@ func singlePage(r *analysis.Result, o *Options) *page {
 	p.Links = bundleLinks(o)
 
 	p.add(daySection(r, o))
+	p.add(stallSection(r))
 	p.add(cyclesSection(r, o))
 	p.add(predictSection(r, o))
 	p.add(cellSection(r, o))

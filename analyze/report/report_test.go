@@ -20,7 +20,7 @@ func TestWriteIsHTMLWithXMLPlots(t *testing.T) {
 	for name, r := range fixtures() {
 		pages[name] = renderPage(t, r, nil)
 	}
-	wantSVG := map[string]int{"wren": 5, "fern": 3, "sparse": 0, "compare": 2}
+	wantSVG := map[string]int{"wren": 5, "fern": 4, "sparse": 0, "compare": 4} // compare: the two days, the cycles, the energies
 	for name, page := range pages {
 		t.Run(name, func(t *testing.T) {
 			doc := parseHTML(t, page)

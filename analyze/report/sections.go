@@ -66,8 +66,8 @@ func findingViews(fs []analysis.Finding) []findingView {
 		}
 		sort.Strings(keys)
 		for _, k := range keys {
-			name, unit := unitOfKey(k)
-			v.Numbers = append(v.Numbers, fact{strings.ReplaceAll(name, "_", " "), quantity(f.Numbers[k], unit)})
+			label, value := numberLabel(k, f.Numbers[k])
+			v.Numbers = append(v.Numbers, fact{label, value})
 		}
 		out = append(out, v)
 	}
@@ -90,7 +90,7 @@ func bundleLinks(o *Options) []link {
 
 func daySection(r *analysis.Result, o *Options) *section {
 	s := &section{ID: "day", Title: "The day at a glance"}
-	fig, absent := dayFigure(r, o)
+	fig, absent := dayFigure("day", r, o)
 	s.addFigure(fig, absent)
 	if t := segmentTable(r); t != nil {
 		s.Tables = append(s.Tables, t)
@@ -100,7 +100,11 @@ func daySection(r *analysis.Result, o *Options) *section {
 	case n == 0:
 		s.Absent = append(s.Absent, "The analysis carries no light-level trace.")
 	case n == 1:
-		s.Absent = append(s.Absent, "The light-level trace has a single point, too few to draw.")
+		msg := "The light was measured on one charging stretch only (a circuit that never fires charges once), too few points for a trace"
+		if isc := r.Fit.Cell.IscA; isc != nil && r.Declared != nil && r.Declared.IscA > 0 {
+			msg += fmt.Sprintf(": the cell gave %s, %s of its rated short-circuit current", num(isc.Value, "A"), num(100*isc.Value/r.Declared.IscA, "%"))
+		}
+		s.Absent = append(s.Absent, msg+".")
 	}
 	return s
 }
@@ -153,8 +157,26 @@ func contains(list []string, s string) bool {
 	return false
 }
 
+// stallSection shows, for a circuit that never fires, how much light it takes to fire.
+func stallSection(r *analysis.Result) *section {
+	if len(r.Cycles) > 0 || r.EquilibriumV == nil {
+		return nil
+	}
+	s := &section{ID: "stall", Title: "How much light it takes to fire"}
+	s.addFigure(stallFigure(r))
+	s.Notes = append(s.Notes, note{Text: "The analysis result carries no simulation of the declared parts over the day, so the measured day is not set against one here; the parameter table compares the declared parts with what the capture found."})
+	return s
+}
+
 func cyclesSection(r *analysis.Result, o *Options) *section {
 	s := &section{ID: "cycles", Title: "Every cycle, aligned at the fire"}
+	if hasDensity(r) {
+		s.addFigure(densityFigure("cycles", []densitySet{{d: r.CycleDensity, model: r.ModelTrace, col: colBlue}}))
+		if t := loadTable(r); t != nil {
+			s.Tables = append(s.Tables, t)
+		}
+		return s
+	}
 	set := traceSet{traces: r.Traces, model: r.ModelTrace, col: colBlue}
 	fig, absent := cyclesFigure("cycles", []traceSet{set}, pulseOf(r), o)
 	if r.ModelTrace == nil && absent == "" {
@@ -427,14 +449,14 @@ func optNumOr(v *float64, unit, none string) string {
 }
 
 func methodsSection() *section {
-	s := &section{ID: "methods", Title: "Methods and references"}
+	s := &section{ID: "methods", Title: "Methods and references", Collapsed: true}
 	s.Intro = []string{"What the numbers in this report rest on. Standard errors come from the covariance of each least-squares fit and assume independent, normally distributed noise; read them as a lower bound on the real uncertainty."}
 	s.Items = methods
 	return s
 }
 
 func safetySection() *section {
-	s := &section{ID: "safety", Title: "Safety"}
+	s := &section{ID: "safety", Title: "Safety", Collapsed: true}
 	s.Intro = []string{"These circuits are small, but the parts in them can still hurt you or burn. The notes below are the usual cautions, not a substitute for the part makers' ratings and your local rules: follow those first."}
 	s.Items = cautions
 	return s

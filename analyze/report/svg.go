@@ -56,6 +56,7 @@ var (
 //   - the font declarations on every <text> go: vgsvg names "Liberation Sans", and the
 //     page's stylesheet names it with its metric-compatible stand-ins (Arial, Helvetica)
 //     and a generic family, so text renders wherever the file is opened;
+//   - an image's data gets a plain href (no xlink namespace) and its true type (PNG);
 //   - any id (vgsvg emits none today) gets the plot's prefix, with its references, so two
 //     plots on one page can never collide.
 func sanitiseSVG(s, id, alt string) string {
@@ -73,6 +74,10 @@ func sanitiseSVG(s, id, alt string) string {
 	s = reHrefRef.ReplaceAllString(s, `href="#`+id+`-$1"`)
 	s = reSVGOpen.ReplaceAllLiteralString(s, open)
 	s = reFontDecl.ReplaceAllString(s, "")
+	// Images (the density plot's grid): the plain SVG 2 href needs no xlink namespace,
+	// and vgsvg's PNG data is labelled as what it is.
+	// It fills its box, which is the data's, not its own aspect ratio.
+	s = strings.ReplaceAll(s, `xlink:href="data:image/jpg;`, `preserveAspectRatio="none" href="data:image/png;`)
 	s = strings.ReplaceAll(s, ` style=""`, "")
 	s = strings.ReplaceAll(s, "\n\tstyle=", " style=")
 	return strings.TrimSpace(s)
