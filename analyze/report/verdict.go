@@ -85,9 +85,9 @@ func verdict(r *analysis.Result, where string) Sentence {
 	faults, warns := 0, 0
 	for _, f := range r.Findings {
 		switch f.Severity {
-		case "fault":
+		case analysis.Fault:
 			faults++
-		case "warn":
+		case analysis.Warn:
 			warns++
 		}
 	}
@@ -96,38 +96,7 @@ func verdict(r *analysis.Result, where string) Sentence {
 		s.text("No data: the capture holds no samples.")
 		return Sentence{s.parts}
 	case len(r.Cycles) == 0:
-		s.text("Stalls: no fire in ")
-		s.num("duration_s", r.DurationS, dur(r.DurationS))
-		if r.EquilibriumV != nil {
-			eq := r.EquilibriumV.Value
-			on, origin, haveOn := triggerOn(r)
-			// Enough digits that a settling level just short of the trigger does not
-			// print as the trigger's own value.
-			sig := 3
-			for haveOn && sig < 6 && eq != on && numSig(eq, "V", sig) == numSig(on, "V", sig) {
-				sig++
-			}
-			s.text("; the voltage settles at ")
-			s.num("equilibrium_v.value", eq, numSig(eq, "V", sig))
-			if haveOn {
-				path := "fit.trigger.on_v.value"
-				if origin == "declared" {
-					path = "declared.on_v"
-				}
-				if r.EquilibriumV.Value < on {
-					s.text(", below the ")
-				} else {
-					s.text(", though the ")
-				}
-				s.num(path, on, numSig(on, "V", sig))
-				s.text(" trigger (" + origin + ")")
-				if r.EquilibriumV.Value >= on {
-					s.text(" is lower")
-				}
-			}
-		} else {
-			s.text(", and where the voltage settles could not be determined")
-		}
+		s.stalls(r)
 	case full == 0:
 		s.text("Chatters: ")
 		s.count("len(cycles)", len(r.Cycles))
@@ -135,63 +104,112 @@ func verdict(r *analysis.Result, where string) Sentence {
 		s.num("duration_s", r.DurationS, dur(r.DurationS))
 		s.text(", none of them a full cycle")
 	default:
-		switch {
-		case faults > 0:
-			s.text("Fires, with faults: ")
-		case warns > 0:
-			s.text("Works, with warnings: ")
-		default:
-			s.text("Works: ")
-		}
-		s.count("count(cycles.kind=full)", full)
-		s.text(plural(full, " full cycle", " full cycles") + " in ")
-		s.num("duration_s", r.DurationS, dur(r.DurationS))
-		if chatter > 0 {
-			s.text(" (and ")
-			s.count("count(cycles.kind=chatter)", chatter)
-			s.text(" chatter)")
-		}
-		if e := r.Fit.Trigger.PeriodS; e != nil {
-			s.text(", one every ")
-			s.num("fit.trigger.period_s.value", e.Value, dur(e.Value))
-			s.text(" on average")
-		}
-		on, off := r.Fit.Trigger.OnV, r.Fit.Trigger.OffV
-		if on != nil {
-			s.text(", firing at ")
-			s.num("fit.trigger.on_v.value", on.Value, num(on.Value, "V"))
-		}
-		if off != nil {
-			if on != nil {
-				s.text(" and resetting at ")
-			} else {
-				s.text(", resetting at ")
-			}
-			s.num("fit.trigger.off_v.value", off.Value, num(off.Value, "V"))
-		}
-		if p := r.Prediction; p != nil && p.Fitted != nil && p.Fitted.MAPEPct != nil {
-			s.text("; the fitted model predicts the charge time to within ")
-			s.num("prediction.fitted.mape_pct", *p.Fitted.MAPEPct, num(*p.Fitted.MAPEPct, "%"))
-			s.text(" on average")
-		}
+		s.works(r, full, chatter, faults, warns)
 	}
-	if faults+warns > 0 {
-		s.text("; see ")
-		if faults > 0 {
-			s.count("count(findings.severity=fault)", faults)
-			s.text(plural(faults, " fault", " faults"))
-		}
-		if faults > 0 && warns > 0 {
-			s.text(" and ")
-		}
-		if warns > 0 {
-			s.count("count(findings.severity=warn)", warns)
-			s.text(plural(warns, " warning", " warnings"))
-		}
-		s.text(where)
-	}
+	s.seeFindings(faults, warns, where)
 	s.text(".")
 	return Sentence{s.parts}
+}
+
+// stalls words a capture without a fire: how long, and where the voltage settles against
+// the trigger, with enough digits that a level just short of the trigger does not print
+// as the trigger's own value.
+func (s *sentence) stalls(r *analysis.Result) {
+	s.text("Stalls: no fire in ")
+	s.num("duration_s", r.DurationS, dur(r.DurationS))
+	if r.EquilibriumV == nil {
+		s.text(", and where the voltage settles could not be determined")
+		return
+	}
+	eq := r.EquilibriumV.Value
+	on, origin, haveOn := triggerOn(r)
+	sig := 3
+	for haveOn && sig < 6 && eq != on && numSig(eq, "V", sig) == numSig(on, "V", sig) {
+		sig++
+	}
+	s.text("; the voltage settles at ")
+	s.num("equilibrium_v.value", eq, numSig(eq, "V", sig))
+	if !haveOn {
+		return
+	}
+	path := "fit.trigger.on_v.value"
+	if origin == "declared" {
+		path = "declared.on_v"
+	}
+	if eq < on {
+		s.text(", below the ")
+	} else {
+		s.text(", though the ")
+	}
+	s.num(path, on, numSig(on, "V", sig))
+	s.text(" trigger (" + origin + ")")
+	if eq >= on {
+		s.text(" is lower")
+	}
+}
+
+// works words a capture with full cycles: the word a builder acts on, the count, the
+// period, the trigger's voltages and how well the fitted model predicts the charge.
+func (s *sentence) works(r *analysis.Result, full, chatter, faults, warns int) {
+	switch {
+	case faults > 0:
+		s.text("Fires, with faults: ")
+	case warns > 0:
+		s.text("Works, with warnings: ")
+	default:
+		s.text("Works: ")
+	}
+	s.count("count(cycles.kind=full)", full)
+	s.text(plural(full, " full cycle", " full cycles") + " in ")
+	s.num("duration_s", r.DurationS, dur(r.DurationS))
+	if chatter > 0 {
+		s.text(" (and ")
+		s.count("count(cycles.kind=chatter)", chatter)
+		s.text(" chatter)")
+	}
+	if e := r.Fit.Trigger.PeriodS; e != nil {
+		s.text(", one every ")
+		s.num("fit.trigger.period_s.value", e.Value, dur(e.Value))
+		s.text(" on average")
+	}
+	on, off := r.Fit.Trigger.OnV, r.Fit.Trigger.OffV
+	if on != nil {
+		s.text(", firing at ")
+		s.num("fit.trigger.on_v.value", on.Value, num(on.Value, "V"))
+	}
+	if off != nil {
+		if on != nil {
+			s.text(" and resetting at ")
+		} else {
+			s.text(", resetting at ")
+		}
+		s.num("fit.trigger.off_v.value", off.Value, num(off.Value, "V"))
+	}
+	if p := r.Prediction; p != nil && p.Fitted != nil && p.Fitted.MAPEPct != nil {
+		s.text("; the fitted model predicts the charge time to within ")
+		s.num("prediction.fitted.mape_pct", *p.Fitted.MAPEPct, num(*p.Fitted.MAPEPct, "%"))
+		s.text(" on average")
+	}
+}
+
+// seeFindings points to the faults and warnings (where: " below", " in the report").
+func (s *sentence) seeFindings(faults, warns int, where string) {
+	if faults+warns == 0 {
+		return
+	}
+	s.text("; see ")
+	if faults > 0 {
+		s.count("count(findings.severity=fault)", faults)
+		s.text(plural(faults, " fault", " faults"))
+	}
+	if faults > 0 && warns > 0 {
+		s.text(" and ")
+	}
+	if warns > 0 {
+		s.count("count(findings.severity=warn)", warns)
+		s.text(plural(warns, " warning", " warnings"))
+	}
+	s.text(where)
 }
 
 func plural(n int, one, many string) string {
