@@ -23,8 +23,11 @@ type Result struct {
 	Equilibrium  *Settling `json:"equilibrium,omitempty"`
 	Capacitance  *Capacity `json:"capacitance,omitempty"`
 	Noise        *Noise    `json:"noise,omitempty"`
-	Light        []LightPt `json:"light,omitempty"`
-	Findings     []Finding `json:"findings"`
+	// Screen says what was taken out of the samples before the analysis (wild values,
+	// held repeats); nil when nothing was.
+	Screen   *Screen   `json:"screen,omitempty"`
+	Light    []LightPt `json:"light,omitempty"`
+	Findings []Finding `json:"findings"`
 	// Attribution compares each declared part the capture measured with its declared
 	// value, against the part's tolerance; the largest contradiction first.
 	Attribution []Attribution `json:"attribution,omitempty"`
@@ -179,6 +182,27 @@ type Noise struct {
 	// reference / 2^bits / divider), "declared" (Options.StepV), "estimated" (from the
 	// samples), or "" when no step shows.
 	StepOrigin StepOrigin `json:"step_origin,omitempty"`
+}
+
+// Screen is what was taken out of the samples before event detection (package
+// analyze/screen).
+type Screen struct {
+	Rows int `json:"rows"` // samples read
+	// Wild samples (not a finite number, or an absurd jump that came straight back) were
+	// dropped; FirstWildS is the time of the first.
+	Wild       int      `json:"wild"`
+	FirstWildS *float64 `json:"first_wild_s,omitempty"`
+	Held       *Held    `json:"held,omitempty"`
+}
+
+// Held describes a held-value staircase: a board that repeats its last value, or a link
+// too slow for its rate. Only the first sample of each value was analysed.
+type Held struct {
+	Repeat            float64 `json:"repeat"`              // median repeats of one value in a fast move
+	FastRuns          int     `json:"fast_runs"`           // the runs that rests on
+	LoggedSpacingS    float64 `json:"logged_spacing_s"`    // median spacing of the rows
+	EffectiveSpacingS float64 `json:"effective_spacing_s"` // median time between new values
+	Dropped           int     `json:"dropped"`             // repeats not analysed
 }
 
 // LightPt is one point of the light-level trace.

@@ -15,6 +15,8 @@ const (
 	CodeGaps           = "capture-gaps"          // info or warn: stretches with no samples
 	CodeLost           = "lost-samples"          // warn: samples the recorder counted as lost
 	CodeNoisy          = "noisy-capture"         // warn: noise comparable with the steps the analysis needs
+	CodeWild           = "wild-samples"          // warn: absurd samples dropped before the analysis
+	CodeHeld           = "held-samples"          // warn: a held-value staircase; analysed at its effective rate
 	CodeCapOffNominal  = "capacitance-off-nominal"
 	CodeTrigOffNominal = "trigger-off-nominal"
 )
@@ -34,6 +36,8 @@ var Codes = map[string]string{
 	CodeGaps:           "stretches of the capture with no samples",
 	CodeLost:           "samples the recorder counted as lost",
 	CodeNoisy:          "noise comparable with the voltage steps the analysis needs",
+	CodeWild:           "samples that are not a number, or absurd jumps that come straight back (one cell of 1e300 V), were dropped before the analysis",
+	CodeHeld:           "the board repeated its last value (or the link was too slow for its rate): only the first of each was analysed, at the effective sample rate",
 	CodeCapOffNominal:  "the measured capacitance is outside its tolerance",
 	CodeTrigOffNominal: "the measured trigger voltage is outside the part's stated accuracy",
 }
