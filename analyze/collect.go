@@ -60,6 +60,8 @@ type swingInfo struct {
 	iv                                   []ivPt  // rises: traced points
 	trace                                []tvPt  // compact copy for the overlay plot
 	capF                                 float64 // falls, with a current channel: C from the pulse's charge (0: none)
+	// rises that level off: the approach fitted to their end (see endSlope)
+	end endApproach
 }
 
 type ivPt struct{ t, v, dvdt float64 }
@@ -123,6 +125,7 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 		return
 	}
 	c.riseSlope, c.riseIdx = s.EndSlopeVPerS, i
+	inf.end = endSlope(pts, s)
 	// A rise that starts on a flat stretch (the bottom of a dark decay, held at 0 V until
 	// the light returns) is taken from the last point still at its starting level: the
 	// flat part is no charging, neither for the I-V tracing nor for the approach's fit.

@@ -38,6 +38,7 @@ func (s *session) finish(r *capture.Reader) *analysis.Result {
 	res.Cycles = cyclesOf(sum)
 	res.Segments, res.Source.GapsS = segmentsOf(sum, r)
 	res.Fit.Trigger = measureTrigger(sum.Trigger, w.full())
+	checkTriggerKind(&res.Fit.Trigger, &sum.Evidence, d.TriggerKind)
 	decay := measureDecay(w, &n)
 	res.Capacitance = measureCapacitance(w, d, decay, &n)
 	capF := 0.0
@@ -45,6 +46,7 @@ func (s *session) finish(r *capture.Reader) *analysis.Result {
 		capF = res.Capacitance.F.Value
 	}
 	setEnergy(res.Cycles, capF)
+	plateauThreshold(&res.Fit.Trigger, res.Cycles, w, capF)
 	res.Fit.Load = measureLoad(w, capF, decay, &n)
 	res.Fit.Leak = measureLeak(decay, capF, d.ProbeOhm, &n)
 	if res.Fit.Leak.TauS != nil {

@@ -92,6 +92,10 @@ type Cycle struct {
 	// Isc is the cell's short-circuit current (or, without C, Isc/C in V/s) fitted from this
 	// cycle's charging segment: a light-level trace.
 	LightA *float64 `json:"light_a,omitempty"`
+	// For a plateau trigger: the net charging slope at the fire (the current over C at
+	// which it fired), and that current when the capacitance is known.
+	FireSlopeVPerS *float64 `json:"fire_slope_v_per_s,omitempty"`
+	FireA          *float64 `json:"fire_a,omitempty"`
 }
 
 // Segment is a stretch of the capture of one kind.
@@ -120,6 +124,19 @@ type TriggerFit struct {
 	OnDriftVPerH *Estimate `json:"on_drift_v_per_h,omitempty"`
 	PeriodS      *Estimate `json:"period_s,omitempty"` // mean interval between fires
 	PulseS       *Estimate `json:"pulse_s,omitempty"`
+	// DeclaredKind is the bench profile's trigger kind ("" without one), and KindCheck
+	// whether the cycles agree with it. When they agree, Kind is the declared kind even
+	// where the voltage alone could not tell (under steady light a voltage trigger and a
+	// timer look alike). KindBasis says in words how Kind was reached, for example
+	// "voltage, as declared; the data agree".
+	DeclaredKind TriggerKind `json:"declared_kind,omitempty"`
+	KindCheck    KindCheck   `json:"kind_check,omitempty"`
+	KindBasis    string      `json:"kind_basis,omitempty"`
+	// For a plateau trigger: ThresholdVPerS is the net charging current over C at which
+	// it fires (the mean charging slope at the end of each rise, with its cycle-to-cycle
+	// SD), and ThresholdA the current itself when the capacitance is known.
+	ThresholdVPerS *Estimate `json:"threshold_v_per_s,omitempty"`
+	ThresholdA     *Estimate `json:"threshold_a,omitempty"`
 }
 
 // LoadFit describes the discharge through the load.
@@ -255,16 +272,18 @@ type Declared struct {
 	CapTol string  `json:"cap_tolerance_code,omitempty"` // its tolerance letter (IEC 60062)
 	// CapOrigin says where CapF comes from: OriginDeclared (the profile, the default)
 	// or OriginFlag (the command line).
-	CapOrigin  Origin  `json:"cap_origin,omitempty"`
-	OnV        float64 `json:"on_v,omitempty"`        // trigger threshold, V
-	OffV       float64 `json:"off_v,omitempty"`       // trigger release, V
-	LoadOhm    float64 `json:"load_ohm,omitempty"`    // load resistance (a motor's armature), Ω
-	ProbeOhm   float64 `json:"probe_ohm,omitempty"`   // what the probe divider puts across the capacitor, Ω
-	QuiescentA float64 `json:"quiescent_a,omitempty"` // the trigger's quiescent current, A
-	VocV       float64 `json:"voc_v,omitempty"`       // cell open-circuit voltage at its rating, V
-	IscA       float64 `json:"isc_a,omitempty"`       // cell short-circuit current at its rating, A
-	CellSeries int     `json:"cell_series,omitempty"` // cells in series in the panel (0: 1)
-	CellTempK  float64 `json:"cell_temp_k,omitempty"` // cell temperature, K (0: 298.15 K)
+	CapOrigin Origin `json:"cap_origin,omitempty"`
+	// TriggerKind is the profile's trigger.kind ("" when not declared).
+	TriggerKind TriggerKind `json:"trigger_kind,omitempty"`
+	OnV         float64     `json:"on_v,omitempty"`        // trigger threshold, V
+	OffV        float64     `json:"off_v,omitempty"`       // trigger release, V
+	LoadOhm     float64     `json:"load_ohm,omitempty"`    // load resistance (a motor's armature), Ω
+	ProbeOhm    float64     `json:"probe_ohm,omitempty"`   // what the probe divider puts across the capacitor, Ω
+	QuiescentA  float64     `json:"quiescent_a,omitempty"` // the trigger's quiescent current, A
+	VocV        float64     `json:"voc_v,omitempty"`       // cell open-circuit voltage at its rating, V
+	IscA        float64     `json:"isc_a,omitempty"`       // cell short-circuit current at its rating, A
+	CellSeries  int         `json:"cell_series,omitempty"` // cells in series in the panel (0: 1)
+	CellTempK   float64     `json:"cell_temp_k,omitempty"` // cell temperature, K (0: 298.15 K)
 	// FullScaleV is the ADC's full scale referred to the storage node: samples there are
 	// saturated.
 	FullScaleV float64 `json:"full_scale_v,omitempty"`

@@ -1,7 +1,6 @@
 package detect
 
 import (
-	"capcycle/analyze/stats"
 	"math"
 	"slices"
 	"sort"
@@ -60,7 +59,8 @@ type Summary struct {
 	Swings        []Swing
 	Cycles        []Cycle
 	Segments      []Segment
-	Trigger       string
+	Trigger       string   // the kind the cycles show (Evidence.Kind)
+	Evidence      Evidence // each trigger kind's test on the cycles
 }
 
 // Finish closes the stream and decides which falls are fires.
@@ -96,7 +96,8 @@ func (d *Detector) Finish() *Summary {
 	d.classify(s)
 	s.Cycles = d.cycles(s)
 	s.Segments = d.segments(s)
-	s.Trigger = InferTrigger(s.Cycles, s.Swings, s.NoiseV, s.StepV, s.SpacingS)
+	s.Evidence = TriggerEvidence(s.Cycles, s.Swings, s.NoiseV, s.StepV, s.SpacingS)
+	s.Trigger = s.Evidence.Kind()
 	return s
 }
 
@@ -272,72 +273,4 @@ func Carve(base, events []Segment) []Segment {
 	}
 	sort.SliceStable(out, func(i, j int) bool { return out[i].StartS < out[j].StartS })
 	return out
-}
-
-// InferTrigger says what kind of trigger the full cycles show:
-//   - "plateau" when the charging had all but stopped at most fires (the slope over the
-//     end of the charge is under a quarter of the slope over its first fifth);
-//   - "voltage" when the fire voltage is steady (SD within 3 noise SDs plus one ADC step)
-//     while the intervals vary (SD above 2 sample spacings);
-//   - "timer" when the intervals are steady while the fire voltage varies;
-//   - "unknown" otherwise, including when both are steady (then the two cannot be told
-//     apart from the voltage alone) or there are fewer than 3 full cycles.
-func InferTrigger(cycles []Cycle, swings []Swing, noiseV, stepV, spacingS float64) string {
-	var fv, iv, flat, riseStep []float64
-	prevFire := math.NaN()
-	for _, c := range cycles {
-		if c.Chatter {
-			continue
-		}
-		fv = append(fv, c.FireV)
-		if !math.IsNaN(prevFire) {
-			iv = append(iv, c.FireS-prevFire)
-		}
-		prevFire = c.FireS
-		if c.Swing > 0 {
-			r := swings[c.Swing-1]
-			if r.Up && r.StartSlopeVPerS > 0 && !math.IsNaN(r.EndSlopeVPerS) {
-				flat = append(flat, r.EndSlopeVPerS/r.StartSlopeVPerS)
-				riseStep = append(riseStep, math.Abs(r.EndSlopeVPerS)*spacingS)
-			}
-		}
-	}
-	if len(fv) < 3 {
-		return TriggerUnknown
-	}
-	if len(flat) >= 3 {
-		sort.Float64s(flat)
-		if flat[len(flat)/2] < 0.25 {
-			return TriggerPlateau
-		}
-	}
-	// The fire voltage is steady when its SD is within what noise and sampling explain
-	// (3 noise SDs, an ADC step, the rise between two samples at the fire), or is far
-	// smaller, relative to the swing, than the intervals' SD relative to their mean.
-	sdV, sdT := stats.SD(fv), stats.SD(iv)
-	rise := 0.0
-	if len(riseStep) > 0 {
-		sort.Float64s(riseStep)
-		rise = riseStep[len(riseStep)/2]
-	}
-	var height float64
-	for _, c := range cycles {
-		if !c.Chatter {
-			height += (c.FireV - c.ResetV) / float64(len(fv))
-		}
-	}
-	cvV := sdV / math.Max(height, 1e-12)
-	cvT := math.Inf(1)
-	if len(iv) >= 2 {
-		cvT = sdT / math.Max(stats.Mean(iv), 1e-12)
-	}
-	steadyV := sdV <= 3*math.Max(noiseV, stepV/math.Sqrt(12))+stepV+rise || cvV < 0.2*cvT
-	steadyT := len(iv) >= 2 && (sdT <= 2*spacingS || cvT < 0.2*cvV)
-	switch {
-	case steadyV && !steadyT:
-		return TriggerVoltage
-	case steadyT && !steadyV:
-		return TriggerTimer
-	}
-	return TriggerUnknown
 }

@@ -17,6 +17,7 @@ const (
 	CodeNoisy          = "noisy-capture"         // warn: noise comparable with the steps the analysis needs
 	CodeWild           = "wild-samples"          // warn: absurd samples dropped before the analysis
 	CodeHeld           = "held-samples"          // warn: a held-value staircase; analysed at its effective rate
+	CodeKindDiffers    = "trigger-kind-differs"  // warn: the cycles do not look as the declared trigger kind makes them
 	CodeCapOffNominal  = "capacitance-off-nominal"
 	CodeTrigOffNominal = "trigger-off-nominal"
 )
@@ -38,6 +39,7 @@ var Codes = map[string]string{
 	CodeNoisy:          "noise comparable with the voltage steps the analysis needs",
 	CodeWild:           "samples that are not a number, or absurd jumps that come straight back (one cell of 1e300 V), were dropped before the analysis",
 	CodeHeld:           "the board repeated its last value (or the link was too slow for its rate): only the first of each was analysed, at the effective sample rate",
+	CodeKindDiffers:    "the cycles do not look as the declared trigger kind makes them (a voltage trigger's steady fire voltage, a timer's steady intervals, a plateau trigger's levelled charge)",
 	CodeCapOffNominal:  "the measured capacitance is outside its tolerance",
 	CodeTrigOffNominal: "the measured trigger voltage is outside the part's stated accuracy",
 }
