@@ -47,7 +47,9 @@ func (s *session) finish(r *capture.Reader) *analysis.Result {
 	}
 	setEnergy(res.Cycles, capF)
 	plateauThreshold(&res.Fit.Trigger, res.Cycles, w, capF)
-	res.Fit.Load = measureLoad(w, capF, decay, &n)
+	motion := classifyPulses(w)
+	res.Fit.Load = measureLoad(w, capF, decay, motion.skip(), &n)
+	motion.apply(res.Cycles, w, &res.Fit.Load)
 	res.Fit.Leak = measureLeak(decay, capF, d.ProbeOhm, &n)
 	if res.Fit.Leak.TauS != nil {
 		res.LeakTrace, res.LeakModel = leakPlot(w)

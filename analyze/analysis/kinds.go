@@ -46,6 +46,14 @@ const (
 	KindTooFew     KindCheck = "too-few-cycles" // fewer than 3 full cycles: no check
 )
 
+// Motion says whether a motor load turned during a pulse.
+type Motion string
+
+const (
+	MotionRunning Motion = "running" // bent by back-EMF: the motor turned
+	MotionStalled Motion = "stalled" // a plain R-C discharge through the armature
+)
+
 // Origin says where a value comes from.
 type Origin string
 

@@ -96,6 +96,9 @@ type Cycle struct {
 	// which it fired), and that current when the capacitance is known.
 	FireSlopeVPerS *float64 `json:"fire_slope_v_per_s,omitempty"`
 	FireA          *float64 `json:"fire_a,omitempty"`
+	// Motion, when the pulses show a motor's back-EMF: "running" when the motor turned
+	// during this pulse, "stalled" when it did not.
+	Motion Motion `json:"motion,omitempty"`
 }
 
 // Segment is a stretch of the capture of one kind.
@@ -148,6 +151,17 @@ type LoadFit struct {
 	StartOhm  *Estimate `json:"start_ohm,omitempty"` // effective resistance early in the pulse
 	EndOhm    *Estimate `json:"end_ohm,omitempty"`   // and late in it
 	RMSResidV *float64  `json:"rms_resid_v,omitempty"`
+	// BackEMF is set when pulses are bent by a motor's back-EMF (they last several times
+	// the R-C discharge their onset implies). RunningPulses and StalledPulses count the
+	// pulses during which the motor turned and those during which it did not (a stalled
+	// motor is its armature resistance), with their lengths. With stalled pulses, TauS,
+	// Ohm and ArmatureOhm come from them alone.
+	BackEMF       *bool     `json:"back_emf,omitempty"`
+	RunningPulses int       `json:"running_pulses,omitempty"`
+	StalledPulses int       `json:"stalled_pulses,omitempty"`
+	RunningPulseS *Estimate `json:"running_pulse_s,omitempty"`
+	StalledPulseS *Estimate `json:"stalled_pulse_s,omitempty"`
+	ArmatureOhm   *Estimate `json:"armature_ohm,omitempty"`
 }
 
 // LeakFit describes the slow drains of the storage node without light.

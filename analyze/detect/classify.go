@@ -67,11 +67,13 @@ type Summary struct {
 //
 // Falls whose surrounding levels (the medians of a few samples before and after) differ
 // by less than half the minimum swing are noise, neither fire nor decay. A fall is a fire
-// when it is fast: its implied time constant, fall time * V / dV,
-// sits in the lower of two groups that differ by at least a factor of 8 (when the falls
-// form two such groups: fires through the load and slow decays through the leakage), and
-// it falls at least 3 times faster than the charging before it rose, and takes less time
-// than that charging did. Fires that fall by under 10 % of their voltage, or by under a
+// when it is fast: its implied time constant (fall time * V / dV, or V over the rate at
+// which it leaves its onset when that is shorter: a motor's back-EMF bends the rest of a
+// pulse into a slow tail) sits in the lower of two groups that differ by at least a
+// factor of 8 (when the falls form two such groups: fires through the load and slow
+// decays through the leakage), and it falls at least 3 times faster than the charging
+// before it rose, and takes less time than that charging did (or leaves its onset 30
+// times faster than the charging). Fires that fall by under 10 % of their voltage, or by under a
 // quarter of the typical fire (the 75th percentile) and under 30 % of their voltage, are
 // chatter.
 func (d *Detector) Finish() *Summary {
@@ -119,6 +121,11 @@ func (d *Detector) classify(s *Summary) {
 			continue
 		}
 		tau[i] = d.fallTime(&sw[i]) * math.Max(math.Abs(sw[i].StartV), sw[i].AmplitudeV()) / sw[i].AmplitudeV()
+		if r := sw[i].OnsetRateVPerS; r > 0 {
+			// From the rate at the onset: a pulse bent into a slow tail (a motor's
+			// back-EMF) is still a fire.
+			tau[i] = math.Min(tau[i], math.Max(math.Abs(sw[i].StartV), sw[i].AmplitudeV())/r)
+		}
 		logs = append(logs, math.Log(tau[i]))
 	}
 	if len(logs) == 0 {
@@ -139,7 +146,7 @@ func (d *Detector) classify(s *Summary) {
 		if tau[i] == 0 || math.Log(tau[i]) > cut {
 			continue
 		}
-		rate := sw[i].AmplitudeV() / d.fallTime(&sw[i])
+		rate := math.Max(sw[i].AmplitudeV()/d.fallTime(&sw[i]), sw[i].OnsetRateVPerS)
 		ref := -1
 		if i > 0 && sw[i-1].Up && !sw[i-1].Gap {
 			ref = i - 1
@@ -152,7 +159,7 @@ func (d *Detector) classify(s *Summary) {
 		}
 		r := &sw[ref]
 		rr := r.AmplitudeV() / math.Max(r.DurationS(), 1e-12)
-		sw[i].Fire = rate > 3*rr && sw[i].FallS() < r.DurationS()
+		sw[i].Fire = rate > 3*rr && (sw[i].FallS() < r.DurationS() || rate > 30*rr)
 	}
 }
 

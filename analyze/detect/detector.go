@@ -60,6 +60,9 @@ type Swing struct {
 	// Fire is set by Finish for falls taken to be fires, and Noise for falls between a
 	// high and a low of the noise (the levels around them equal): neither fire nor decay.
 	Fire, Noise bool
+	// OnsetRateVPerS, for falls, is how fast the voltage leaves the onset: the drop to a
+	// tenth of the amplitude below it over the time it takes (see Finish).
+	OnsetRateVPerS float64
 	// OnsetIndex and ResetIndex locate the onset and the end of the fall among the
 	// swing's points as passed to Config.OnSwing.
 	OnsetIndex, ResetIndex int
