@@ -17,10 +17,11 @@ import (
 // noise of noiseV and rounded to a 10-bit ADC over 5 V (4.88 mV steps). The truth is
 // the switch's on and off times, from the armature current.
 type spiceCapture struct {
-	t, v          []float64
-	fireS, resetS []float64
-	fireV, resetV []float64
-	running       []bool // the motor turned during the pulse (its speed passed 100 rad/s)
+	t, v           []float64
+	spiceT, spiceV []float64 // ngspice's own points, noise-free
+	fireS, resetS  []float64
+	fireV, resetV  []float64
+	running        []bool // the motor turned during the pulse (its speed passed 100 rad/s)
 }
 
 const adcStep = 5.0 / 1024
@@ -34,7 +35,7 @@ func readMotorSpice(t *testing.T, netlist string, dtS, noiseV float64, seed uint
 		t.Fatalf("ngspice output: %d rows, %v", len(ts), err)
 	}
 	vc, ia, w := cols[0], cols[1], cols[2]
-	sc := &spiceCapture{}
+	sc := &spiceCapture{spiceT: ts, spiceV: vc}
 	on, wmax := false, 0.0
 	for k := range ts {
 		switch {

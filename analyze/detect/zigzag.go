@@ -173,7 +173,7 @@ func (d *Detector) confirm() {
 	}
 	d.prov = false
 	d.ptsBuf = d.provSeg.points(d.ptsBuf)
-	refineReset(&d.provSwing, d.ptsBuf, d.seg.pts)
+	refineReset(&d.provSwing, d.ptsBuf, d.seg.pts, math.Max(3*d.sdEff(), d.step))
 	d.emit(&d.provSwing, d.ptsBuf)
 	d.provSeg.reset()
 }
@@ -187,24 +187,46 @@ const resetFitN = 8
 // where a line through the tail's last points meets a line through the first points of
 // the rise after it: the true minimum, where the switch let go. The first sample within
 // the noise band of the trough comes early on a slow tail, and the lowest sample is
-// noise; the two lines (robust: Theil-Sen) average both out. Nothing changes when the
+// noise; the two lines (robust: Theil-Sen) average both out. When the voltage steps up
+// as the switch opens (a series resistance, see ReleaseStepV), the release is placed
+// halfway between the last sample on the tail and the first after the step, at the
+// tail's line. Nothing changes when the
 // lines do not meet between their points (falling into the trough, rising out of it).
 // ResetIndex stays where it was: the pulse's fits keep their points.
-func refineReset(sw *Swing, fall, rise []Point) {
+func refineReset(sw *Swing, fall, rise []Point, band float64) {
 	r := sw.ResetIndex
-	if r-sw.OnsetIndex < 3*resetFitN || len(fall) < 2 || len(rise) < resetFitN+1 {
+	if r-sw.OnsetIndex < 3*resetFitN || len(fall) < 2 || len(rise) < resetFitN+3 {
 		return
 	}
 	tail := fall[max(sw.OnsetIndex+1, r-resetFitN) : len(fall)-1]
-	up := rise[1 : resetFitN+1]
 	a1, b1, ok1 := lineOf(tail)
-	a2, b2, ok2 := lineOf(up)
+	a2, b2, ok2 := lineOf(rise[3 : resetFitN+3])
 	if !ok1 || !ok2 || !(b1 < 0) || !(b2 > 0) {
 		return
 	}
+	// The median of 3 can hide the last sample or two of the tail before a step up:
+	// they follow the tail's line and lie well below the rise's.
+	j := 1
+	for j < 3 && math.Abs(rise[j].V-(a1+b1*rise[j].T)) <= band && a2+b2*rise[j].T-rise[j].V > band {
+		j++
+	}
+	if a, b, ok := lineOf(rise[j : j+resetFitN]); ok && b > 0 {
+		a2, b2 = a, b
+	}
 	ts := (a1 - a2) / (b2 - b1)
-	if !(ts >= tail[0].T && ts <= up[len(up)-1].T) {
+	if !(ts >= tail[0].T && ts <= rise[j+resetFitN-1].T) {
 		return
+	}
+	// A step up when the switch opens (a supercapacitor's ESR: the drop across it goes
+	// with the current) makes the lines meet before the last sample on the tail, and
+	// puts the rise's line above that sample by more than the noise and the tail's fall
+	// over one spacing. The release is then between that sample and the first after the
+	// step.
+	last, next := rise[j-1].T, rise[j].T
+	gap := a2 + b2*last - rise[j-1].V // the rise's line over the last sample on the tail
+	if ts < last-0.5*(next-last) && gap > math.Max(band, -b1*(next-last)) {
+		ts = 0.5 * (last + next)
+		sw.ReleaseStepV = a2 + b2*ts - (a1 + b1*ts)
 	}
 	sw.EndS, sw.EndV = ts, a1+b1*ts
 }
