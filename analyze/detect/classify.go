@@ -67,13 +67,12 @@ type Summary struct {
 //
 // Falls whose surrounding levels (the medians of a few samples before and after) differ
 // by less than half the minimum swing are noise, neither fire nor decay. A fall is a fire
-// when it is fast: its implied time constant (fall time * V / dV, or V over the rate at
-// which it leaves its onset when that is shorter: a motor's back-EMF bends the rest of a
-// pulse into a slow tail) sits in the lower of two groups that differ by at least a
+// when it is fast: its implied time constant (fall time * V / dV, or, for a pulse bent
+// into a slow tail by a motor's back-EMF, V over the rate at which it leaves its onset) sits in the lower of two groups that differ by at least a
 // factor of 8 (when the falls form two such groups: fires through the load and slow
 // decays through the leakage), and it falls at least 3 times faster than the charging
-// before it rose, and takes less time than that charging did (or leaves its onset 30
-// times faster than the charging). Fires that fall by under 10 % of their voltage, or by under a
+// before it rose (at its onset, for a bent pulse or one cut while still falling), and takes less time than that charging did (or, bent, leaves its onset
+// 30 times faster than the charging). Fires that fall by under 10 % of their voltage, or by under a
 // quarter of the typical fire (the 75th percentile) and under 30 % of their voltage, are
 // chatter.
 func (d *Detector) Finish() *Summary {
@@ -121,10 +120,10 @@ func (d *Detector) classify(s *Summary) {
 			continue
 		}
 		tau[i] = d.fallTime(&sw[i]) * math.Max(math.Abs(sw[i].StartV), sw[i].AmplitudeV()) / sw[i].AmplitudeV()
-		if r := sw[i].OnsetRateVPerS; r > 0 {
+		if bent(&sw[i], d.fallTime(&sw[i])) {
 			// From the rate at the onset: a pulse bent into a slow tail (a motor's
 			// back-EMF) is still a fire.
-			tau[i] = math.Min(tau[i], math.Max(math.Abs(sw[i].StartV), sw[i].AmplitudeV())/r)
+			tau[i] = math.Min(tau[i], math.Max(math.Abs(sw[i].StartV), sw[i].AmplitudeV())/sw[i].OnsetRateVPerS)
 		}
 		logs = append(logs, math.Log(tau[i]))
 	}
@@ -146,7 +145,10 @@ func (d *Detector) classify(s *Summary) {
 		if tau[i] == 0 || math.Log(tau[i]) > cut {
 			continue
 		}
-		rate := math.Max(sw[i].AmplitudeV()/d.fallTime(&sw[i]), sw[i].OnsetRateVPerS)
+		rate := sw[i].AmplitudeV() / d.fallTime(&sw[i])
+		if bent(&sw[i], d.fallTime(&sw[i])) || released(&sw[i]) {
+			rate = math.Max(rate, sw[i].OnsetRateVPerS)
+		}
 		ref := -1
 		if i > 0 && sw[i-1].Up && !sw[i-1].Gap {
 			ref = i - 1
@@ -161,6 +163,25 @@ func (d *Detector) classify(s *Summary) {
 		rr := r.AmplitudeV() / math.Max(r.DurationS(), 1e-12)
 		sw[i].Fire = rate > 3*rr && (sw[i].FallS() < r.DurationS() || rate > 30*rr)
 	}
+}
+
+// bentRatio: a fall that leaves its onset this many times faster than it falls on
+// average is a pulse bent into a slow tail (a turning motor's back-EMF: about 30 in
+// testdata/spice/motor-engine.cir). An exponential decay that settles reaches the noise
+// band of its floor after ln(V/band) time constants, some 4 to 8: its ratio stays below.
+const bentRatio = 10
+
+// bent reports whether a fall is a pulse bent into a slow tail (see bentRatio).
+func bent(s *Swing, fallS float64) bool {
+	return s.OnsetRateVPerS > bentRatio*s.AmplitudeV()/fallS
+}
+
+// released reports whether a fall was cut while still falling (at the end at least a
+// tenth of the rate it left its onset with), as when a switch lets go: then its onset
+// rate, not its mean rate, is compared with the charging (a supercapacitor's pulse, a
+// step at the onset from its ESR, then slow). A decay that settles has all but stopped.
+func released(s *Swing) bool {
+	return s.OnsetRateVPerS > 0 && s.EndRateVPerS >= 0.1*s.OnsetRateVPerS
 }
 
 func (d *Detector) cycles(s *Summary) []Cycle {

@@ -63,6 +63,9 @@ type Swing struct {
 	// OnsetRateVPerS, for falls, is how fast the voltage leaves the onset: the drop to a
 	// tenth of the amplitude below it over the time it takes (see Finish).
 	OnsetRateVPerS float64
+	// EndRateVPerS, for falls, is how fast it still falls as it ends (over the last tenth
+	// of it): a switch that lets go cuts a fall that is still falling.
+	EndRateVPerS float64
 	// ReleaseStepV, for falls with a slow tail, is the step up when the switch opened
 	// (the drop across a supercapacitor's ESR); 0 when none shows.
 	ReleaseStepV float64

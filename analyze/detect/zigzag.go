@@ -356,7 +356,22 @@ func (d *Detector) makeSwing(up, open, gap bool) Swing {
 		sw.FlatS = pts[j].T - sw.StartS
 	}
 	sw.OnsetRateVPerS = onsetRate(pts, k, sw.OnsetV, sw.AmplitudeV(), d.dtTyp)
+	sw.EndRateVPerS = endRate(pts, k, sw.ResetIndex)
 	return sw
+}
+
+// endRate is how fast a fall still falls as it ends: the slope over the last tenth of
+// the points from the onset to the reset (at least one step). A switch that lets go
+// cuts a fall that is still falling; a decay that settles has all but stopped.
+func endRate(pts []Point, k, r int) float64 {
+	if r <= k || r >= len(pts) {
+		return 0
+	}
+	a := r - max(1, (r-k)/10)
+	if dt := pts[r].T - pts[a].T; dt > 0 {
+		return (pts[a].V - pts[r].V) / dt
+	}
+	return 0
 }
 
 // onsetRate is how fast a fall leaves its onset (point k at level v0): the drop to the
