@@ -50,6 +50,7 @@ func (s *session) finish(r *capture.Reader) *analysis.Result {
 	motion := classifyPulses(w)
 	res.Fit.Load = measureLoad(w, capF, decay, motion.skip(), &n)
 	motion.apply(res.Cycles, w, &res.Fit.Load)
+	measureESR(w, res.Cycles, &res.Fit.Load)
 	res.Fit.Leak = measureLeak(decay, capF, d.ProbeOhm, &n)
 	if res.Fit.Leak.TauS != nil {
 		res.LeakTrace, res.LeakModel = leakPlot(w)

@@ -25,7 +25,7 @@ func supercapNetlist(t *testing.T) string {
 // switch's, on and off voltages within 3 ADC steps of its 2.8 V and 1.6 V thresholds
 // (the release at the true minimum, before the +27 mV step of the ESR as the current
 // stops), the load's time constant within 5 % of an exponential fitted to ngspice's own
-// noise-free pulses, and no leak, plateau or settling voltage read into a circuit that
+// noise-free pulses, the ESR from the step, and no leak, plateau or settling voltage read into a circuit that
 // fires, nor any warning.
 func TestNgspiceSupercap(t *testing.T) {
 	const dt = 0.1
@@ -58,6 +58,9 @@ func TestNgspiceSupercap(t *testing.T) {
 		taus = append(taus, f.Tau.Value)
 	}
 	within(t, "supercap tau_load", res.Fit.Load.TauS, stats.Mean(taus), 0.05)
+	// The ESR from the step at each release: 0.5 Ω in the netlist, within 20 % (the step
+	// of 27 mV is some 5 ADC steps, each read to a few millivolts).
+	within(t, "supercap ESR", res.Fit.Load.ESROhm, 0.5, 0.2)
 	if res.Fit.Leak.TauS != nil || res.EquilibriumV != nil {
 		t.Errorf("leak %+v, settles at %v, for a circuit that fires", res.Fit.Leak, res.EquilibriumV)
 	}
@@ -66,5 +69,5 @@ func TestNgspiceSupercap(t *testing.T) {
 			t.Errorf("false %s finding: %s", f.Code, f.Message)
 		}
 	}
-	t.Logf("tau_load %.4g s, ngspice's pulses %.4g s; R(C1+C2) = %.4g s", res.Fit.Load.TauS.Value, stats.Mean(taus), 30.51*0.31)
+	t.Logf("tau_load %.4g s, ngspice's pulses %.4g s; R(C1+C2) = %.4g s; ESR %.3g ± %.2g Ω", res.Fit.Load.TauS.Value, stats.Mean(taus), 30.51*0.31, res.Fit.Load.ESROhm.Value, *res.Fit.Load.ESROhm.SD)
 }

@@ -162,6 +162,11 @@ type LoadFit struct {
 	RunningPulseS *Estimate `json:"running_pulse_s,omitempty"`
 	StalledPulseS *Estimate `json:"stalled_pulse_s,omitempty"`
 	ArmatureOhm   *Estimate `json:"armature_ohm,omitempty"`
+	// ReleaseStepV is the step up the terminals make when the switch lets go (the drop
+	// across a supercapacitor's series resistance as the current stops), and ESROhm that
+	// resistance (needs the capacitance).
+	ReleaseStepV *Estimate `json:"release_step_v,omitempty"`
+	ESROhm       *Estimate `json:"esr_ohm,omitempty"`
 }
 
 // LeakFit describes the slow drains of the storage node without light.
