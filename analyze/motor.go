@@ -2,8 +2,10 @@ package analyze
 
 import (
 	"math"
+	"sort"
 
 	"capcycle/analyze/analysis"
+	"capcycle/analyze/stats"
 )
 
 // runningRatio: a pulse lasting more than this many times the R-C discharge its onset
@@ -19,8 +21,8 @@ const runningRatio = 6
 // tau0 = (V_fire − V∞) / (the rate at which the voltage leaves the onset), and reaches
 // the release after tau0 ln((V_fire − V∞)/(V_reset − V∞)).
 // A motor that turns builds back-EMF: the current, and the fall, slow down, and the
-// pulse lasts several times longer. Running maps each full cycle's fall (its swing
-// index) to whether it ran. BackEMF is set when some pulses ran and others did not (a
+// pulse lasts several times longer (see runningPulses). Running maps each full cycle's
+// fall (its swing index) to whether it ran. BackEMF is set when some pulses ran and others did not (a
 // motor that stalls for a while), or when all ran: then the load is a motor.
 type pulseMotion struct {
 	running      map[int]bool
@@ -31,29 +33,72 @@ type pulseMotion struct {
 
 func classifyPulses(w *swings) pulseMotion {
 	pm := pulseMotion{running: map[int]bool{}}
+	var idx []int
+	var ratio, logLen []float64
 	for _, c := range w.full() {
 		s, inf := w.at(c.Swing)
 		vinf := 0.0 // where an R-C discharge heads: the cell keeps charging through it
 		if inf.exp.ok && inf.exp.vinf < c.ResetV {
 			vinf = math.Max(inf.exp.vinf, 0)
 		}
-		if !(s.OnsetRateVPerS > 0) || !(c.ResetV > vinf) || !(c.FireV > c.ResetV) {
+		if !(s.OnsetRateVPerS > 0) || !(c.ResetV > vinf) || !(c.FireV > c.ResetV) || !(c.PulseS() > 0) {
 			continue
 		}
 		tau0 := (c.FireV - vinf) / s.OnsetRateVPerS
 		rc := tau0 * math.Log((c.FireV-vinf)/(c.ResetV-vinf))
-		run := c.PulseS() > runningRatio*math.Max(rc, w.sum.SpacingS)
-		pm.running[c.Swing] = run
-		if run {
+		idx = append(idx, c.Swing)
+		ratio = append(ratio, c.PulseS()/math.Max(rc, w.sum.SpacingS))
+		logLen = append(logLen, math.Log(c.PulseS()))
+	}
+	run := runningPulses(ratio, logLen)
+	for k, sw := range idx {
+		pm.running[sw] = run[k]
+		if run[k] {
 			pm.nRun++
-			pm.runS = append(pm.runS, c.PulseS())
+			pm.runS = append(pm.runS, math.Exp(logLen[k]))
 		} else {
 			pm.nStall++
-			pm.stallS = append(pm.stallS, c.PulseS())
+			pm.stallS = append(pm.stallS, math.Exp(logLen[k]))
 		}
 	}
 	pm.backEMF = pm.nRun > 0
 	return pm
+}
+
+// runningPulses decides which pulses ran. The lengths first: when they form two groups
+// at least a factor of 4 apart (a motor that stalls for a while), the longer ran if their
+// median ratio (pulse over its onset's R-C time) passes runningRatio. One group ran, or
+// not, as a whole, by its median ratio: the onset rate of a single pulse is only known
+// to a sample spacing, the group's is steadier.
+func runningPulses(ratio, logLen []float64) []bool {
+	out := make([]bool, len(ratio))
+	if len(ratio) == 0 {
+		return out
+	}
+	sorted := append([]float64(nil), logLen...)
+	sort.Float64s(sorted)
+	cutAt, gap := math.Inf(1), 0.0
+	for k := 1; k < len(sorted); k++ {
+		if g := sorted[k] - sorted[k-1]; g > gap {
+			gap = g
+			if g >= math.Log(4) {
+				cutAt = (sorted[k] + sorted[k-1]) / 2
+			}
+		}
+	}
+	var long []float64
+	for k := range ratio {
+		if logLen[k] > cutAt || math.IsInf(cutAt, 1) {
+			long = append(long, ratio[k])
+		}
+	}
+	if stats.Median(long) <= runningRatio {
+		return out
+	}
+	for k := range out {
+		out[k] = logLen[k] > cutAt || math.IsInf(cutAt, 1)
+	}
+	return out
 }
 
 // skip returns the pulses the load's exponential fit leaves out: with a motor that

@@ -71,7 +71,7 @@ type Summary struct {
 // into a slow tail by a motor's back-EMF, V over the rate at which it leaves its onset) sits in the lower of two groups that differ by at least a
 // factor of 8 (when the falls form two such groups: fires through the load and slow
 // decays through the leakage), and it falls at least 3 times faster than the charging
-// before it rose (at its onset, for a bent pulse or one cut while still falling), and takes less time than that charging did (or, bent, leaves its onset
+// before it rose (at its onset, for a fall cut while still falling, as by a switch), and takes less time than that charging did (or, bent, leaves its onset
 // 30 times faster than the charging). Fires that fall by under 10 % of their voltage, or by under a
 // quarter of the typical fire (the 75th percentile) and under 30 % of their voltage, are
 // chatter.
@@ -146,7 +146,7 @@ func (d *Detector) classify(s *Summary) {
 			continue
 		}
 		rate := sw[i].AmplitudeV() / d.fallTime(&sw[i])
-		if bent(&sw[i], d.fallTime(&sw[i])) || released(&sw[i]) {
+		if stillFalling(&sw[i], d.fallTime(&sw[i])) {
 			rate = math.Max(rate, sw[i].OnsetRateVPerS)
 		}
 		ref := -1
@@ -161,27 +161,28 @@ func (d *Detector) classify(s *Summary) {
 		}
 		r := &sw[ref]
 		rr := r.AmplitudeV() / math.Max(r.DurationS(), 1e-12)
-		sw[i].Fire = rate > 3*rr && (sw[i].FallS() < r.DurationS() || rate > 30*rr)
+		sw[i].Fire = rate > 3*rr && (sw[i].FallS() < r.DurationS() || (bent(&sw[i], d.fallTime(&sw[i])) && rate > 30*rr))
 	}
 }
 
-// bentRatio: a fall that leaves its onset this many times faster than it falls on
-// average is a pulse bent into a slow tail (a turning motor's back-EMF: about 30 in
-// testdata/spice/motor-engine.cir). An exponential decay that settles reaches the noise
-// band of its floor after ln(V/band) time constants, some 4 to 8: its ratio stays below.
-const bentRatio = 10
+// bentRatio: a fall cut while still falling (see stillFalling) that leaves its onset
+// this many times faster than it falls on average is a pulse bent into a slow tail (a
+// turning motor's back-EMF: 6 to 30 in testdata/spice/motor-engine.cir, depending on
+// where the samples fall; a resistor's pulse about 1.3, a supercapacitor's with its ESR
+// step 3.5).
+const bentRatio = 4
+
+// stillFalling reports whether a fall ended while still falling: at its end at least a
+// quarter of its mean rate (a switch that lets go: about 0.75 for a resistor's pulse,
+// 0.5 for a motor's tail). A decay that settles has all but stopped when it reaches the
+// noise band of its floor.
+func stillFalling(s *Swing, fallS float64) bool {
+	return s.EndRateVPerS >= 0.25*s.AmplitudeV()/fallS
+}
 
 // bent reports whether a fall is a pulse bent into a slow tail (see bentRatio).
 func bent(s *Swing, fallS float64) bool {
-	return s.OnsetRateVPerS > bentRatio*s.AmplitudeV()/fallS
-}
-
-// released reports whether a fall was cut while still falling (at the end at least a
-// tenth of the rate it left its onset with), as when a switch lets go: then its onset
-// rate, not its mean rate, is compared with the charging (a supercapacitor's pulse, a
-// step at the onset from its ESR, then slow). A decay that settles has all but stopped.
-func released(s *Swing) bool {
-	return s.OnsetRateVPerS > 0 && s.EndRateVPerS >= 0.1*s.OnsetRateVPerS
+	return stillFalling(s, fallS) && s.OnsetRateVPerS > bentRatio*s.AmplitudeV()/fallS
 }
 
 func (d *Detector) cycles(s *Summary) []Cycle {

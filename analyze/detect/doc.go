@@ -36,8 +36,8 @@
 //     meet: the true minimum, where the switch let go.
 //  5. At Finish, a fall is a fire when it is fast: its implied time constant
 //     (fall time * V / dV, or V over the rate at which it leaves its onset when it leaves
-//     it 10 times faster than it falls on average, so that a pulse bent into a slow tail
-//     by a motor's back-EMF still counts)
+//     it 4 times faster than it falls on average and is still falling at its end, so that
+//     a pulse bent into a slow tail by a motor's back-EMF still counts)
 //     sits in the lower of two groups a factor of 8 apart when the falls form two groups
 //     (pulses through the load, slow decays through the leak), it falls at least 3 times
 //     faster than the charging before it rose, and it takes less time than that charging
