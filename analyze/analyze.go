@@ -9,6 +9,7 @@ import (
 
 	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect"
+	"capcycle/analyze/screen"
 	"capcycle/logger/capture"
 )
 
@@ -68,7 +69,7 @@ func (s *session) read(ctx context.Context, r *capture.Reader) error {
 		if b.hasI {
 			cur = b.i[:b.n]
 		}
-		s.push(b.t[:b.n], b.v[:b.n], cur)
+		s.scr.Push(b.t[:b.n], b.v[:b.n], cur)
 		if s.opts.Progress != nil {
 			s.opts.Progress(b.rows, b.bytes)
 		}
@@ -140,7 +141,7 @@ func RunSamplesCurrent(t, v, iload []float64, opts *Options) *analysis.Result {
 		opts = &Options{}
 	}
 	s := newSession(opts)
-	s.push(t, v, iload)
+	s.scr.Push(t, v, iload)
 	res := s.finish(nil)
 	if err := laterStages(res, opts); err != nil {
 		res.Notes = append(res.Notes, "no prediction: "+err.Error())
@@ -151,6 +152,7 @@ func RunSamplesCurrent(t, v, iload []float64, opts *Options) *analysis.Result {
 // session is the state of one run.
 type session struct {
 	opts *Options
+	scr  *screen.Screen // wild values and held repeats out, before detection
 	det  *detect.Detector
 	env  *detect.Envelope
 	col  *collector
@@ -171,6 +173,7 @@ func newSession(opts *Options) *session {
 		OnSwing:    a.col.onSwing,
 	})
 	a.col.det = a.det
+	a.scr = screen.New(opts.StepV, a.push)
 	if opts.StepV > 0 {
 		a.det.SetStepV(opts.StepV)
 		a.stepOrigin = analysis.StepDeclared
@@ -181,8 +184,8 @@ func newSession(opts *Options) *session {
 	return a
 }
 
-// push hands samples to the detector and the other accumulators; i is the load current
-// (nil without a current channel). The charge log goes first: the detector's callbacks
+// push hands the samples the screen kept to the detector and the other accumulators; i
+// is the load current (nil without a current channel). The charge log goes first: the detector's callbacks
 // look the samples up in it.
 func (a *session) push(t, v, i []float64) {
 	if i != nil {
@@ -209,6 +212,7 @@ func (a *session) useMeta(meta []capture.Field) {
 	}
 	if lsb := metaStep(meta); lsb > 0 {
 		a.det.SetStepV(lsb)
+		a.scr.SetStepV(lsb)
 		a.stepOrigin = analysis.StepMetadata
 	}
 }

@@ -70,6 +70,8 @@ type swingInfo struct {
 	fire, reset located
 	end         [endPoints]detect.Point
 	nEnd        int
+	// rises that level off: the approach fitted to their end (see endSlope)
+	approach endApproach
 }
 
 // endPoints is the number of a fall's last points kept for placing its reset.
@@ -152,6 +154,7 @@ func (c *collector) onSwing(i int, s *detect.Swing, pts []detect.Point) {
 	for _, p := range pts[max(0, len(pts)-sidePoints):] {
 		c.tailT, c.tailV = append(c.tailT, p.T), append(c.tailV, p.V)
 	}
+	inf.approach = endSlope(pts, s)
 	// A rise that starts on a flat stretch (the bottom of a dark decay, held at 0 V until
 	// the light returns) is taken from the last point still at its starting level: the
 	// flat part is no charging, neither for the I-V tracing nor for the approach's fit.

@@ -11,20 +11,27 @@
 //
 //  1. read: the capture package parses rows on one goroutine and hands batches to the
 //     analysis on another (Run); the metadata give the ADC step at the storage node.
-//  2. detect: package detect follows the voltage sample by sample and confirms each
+//  2. screen: package screen drops wild samples (not a number, or an absurd jump that
+//     comes straight back) and, for a held-value staircase (a board that repeats its last
+//     value), passes on only the first of each value, so that detection works at the
+//     effective sample rate; both are counted in Result.Screen and raise a warning.
+//  3. detect: package detect follows the voltage sample by sample and confirms each
 //     rise and fall (a swing); the collector (collect.go) keeps what the later fits need
 //     from each swing (an exponential fit of every fall, the traced I-V points of every
 //     rise, a few points for the plots), never the samples themselves.
-//  3. measure (measure.go): first every fire and reset is placed between samples, where
+//  4. measure (measure.go): first every fire and reset is placed between samples, where
 //     the curves on its two sides meet (events.go); then one function per quantity, each
 //     taking what it rests on and returning its estimate, in the order of the data:
-//     measureTrigger (fires and resets) → measureDecay (the slow falls: every drain
-//     together, no capacitance needed) → measureCapacitance (declared, or measured
-//     through a calibration resistor or a load-current channel) → measureLoad (the
-//     pulses) and measureLeak (the decay in ohms and amperes) → measureEquilibrium (a
-//     rise that levels off) → measureCell (I = C dV/dt + drains on each rise; the
-//     single-diode fit; the light level of every cycle).
-//  4. predict and diagnose (stages.go): with a profile, package predict predicts every
+//     measureTrigger (fires and resets; checkTriggerKind against the declared kind) →
+//     measureDecay (the slow falls: every drain together, no capacitance needed) →
+//     measureCapacitance (declared, or measured through a calibration resistor or a
+//     load-current channel) → classifyPulses (a motor that turned or stalled in each
+//     pulse) → measureLoad (the pulses; with a motor that stalled at times, the stalled
+//     ones: its armature) and measureLeak (the decay in ohms and amperes) →
+//     measureEquilibrium (a rise that levels off) → measureCell (I = C dV/dt + drains on
+//     each rise; the single-diode fit; the light level of every cycle). For a plateau
+//     trigger, plateauThreshold gives the current over C at which it fires.
+//  5. predict and diagnose (stages.go): with a profile, package predict predicts every
 //     measured cycle from the declared and from the fitted circuit at the light that
 //     cycle saw, and File adds the held-out check (fit on the first half, predict the
 //     second); package diagnose then turns the numbers into findings with what to try,

@@ -49,10 +49,23 @@ func measureDecay(w *swings, n *notes) decayFit {
 		out.drift, out.driftSD = stats.Combine(drifts, dsds)
 		return out
 	}
-	// No dark decay: the approach to a plateau.
+	// No dark decay: the approach to a plateau. A rise that ends in a fire, or heads for
+	// the voltage the circuit fires at, approaches no plateau: its levelling off is the
+	// cell's own slope (a plateau trigger) or a supercapacitor's slow branch relaxing.
+	onV := math.Inf(1)
+	if full := w.full(); len(full) > 0 {
+		var fv []float64
+		for _, c := range full {
+			fv = append(fv, c.FireV)
+		}
+		onV = stats.Mean(fv)
+	}
 	for i := range w.sum.Swings {
 		s, inf := w.at(i)
 		if !s.Up || !inf.exp.ok || inf.exp.n < 8 || inf.exp.vinf <= s.StartV || w.inCalibration(s) {
+			continue
+		}
+		if (i+1 < len(w.sum.Swings) && w.sum.Swings[i+1].Fire) || inf.exp.vinf >= onV {
 			continue
 		}
 		taus = append(taus, inf.exp.tau)

@@ -16,12 +16,12 @@ type pulseFits struct {
 	swings         map[int]bool
 }
 
-// measureLoad: the pulse's exponential approach, per full cycle, combined in logarithms
+// measureLoad: the pulse's exponential approach, per full cycle (but those in skip), combined in logarithms
 // (stats.CombineScale); the joint fit of all the pulses over a shared time constant gives
 // the value. With the capacitance, ohms with the slow drains taken out.
-func measureLoad(w *swings, capF float64, decay decayFit, n *notes) analysis.LoadFit {
+func measureLoad(w *swings, capF float64, decay decayFit, skip map[int]bool, n *notes) analysis.LoadFit {
 	var lf analysis.LoadFit
-	pf := gatherPulses(w, capF)
+	pf := gatherPulses(w, capF, skip)
 	if pf.n == 0 {
 		if len(w.full()) > 0 {
 			n.add("the pulses have too few samples (fewer than 5) for the load's time constant")
@@ -70,9 +70,12 @@ func measureLoad(w *swings, capF float64, decay decayFit, n *notes) analysis.Loa
 // R = V / I with C dV/dt = I_cell − I takes the cell's current (and the slow drains) as
 // they were just before the fire, from the charging slope there: it needs no model of
 // the load, but it needs the capacitance.
-func gatherPulses(w *swings, capF float64) pulseFits {
+func gatherPulses(w *swings, capF float64, skip map[int]bool) pulseFits {
 	pf := pulseFits{swings: map[int]bool{}}
 	for _, c := range w.full() {
+		if skip[c.Swing] {
+			continue
+		}
 		pf.swings[c.Swing] = true
 		_, inf := w.at(c.Swing)
 		if !inf.exp.ok {

@@ -1,10 +1,12 @@
 package analyze
 
 import (
+	"fmt"
 	"math"
 
 	"capcycle/analyze/analysis"
 	"capcycle/analyze/detect"
+	"capcycle/analyze/screen"
 	"capcycle/logger/capture"
 )
 
@@ -16,6 +18,7 @@ import (
 // turns time constants into ohms and currents over C into amperes for the load, the leak
 // and the cell. r may be nil (samples in memory).
 func (s *session) finish(r *capture.Reader) *analysis.Result {
+	scr := s.scr.Finish()
 	sum := s.det.Finish()
 	placeEvents(sum, s.col.info)
 	w := &swings{sum: sum, info: s.col.info, col: s.col, cal: &s.cal, chg: s.chg, opts: s.opts}
@@ -32,9 +35,11 @@ func (s *session) finish(r *capture.Reader) *analysis.Result {
 	d := &s.opts.Declared
 	res.Source = sourceOf(s.opts, r)
 	res.Noise = noiseOf(sum, s.stepOrigin)
+	res.Screen = screenOf(scr, &n)
 	res.Cycles = cyclesOf(sum)
 	res.Segments, res.Source.GapsS = segmentsOf(sum, r)
 	res.Fit.Trigger = measureTrigger(sum.Trigger, w.full(), s.col.info, sum.SpacingS)
+	checkTriggerKind(&res.Fit.Trigger, &sum.Evidence, d.TriggerKind)
 	decay := measureDecay(w, &n)
 	res.Capacitance = measureCapacitance(w, d, decay, &n)
 	capF := 0.0
@@ -42,7 +47,11 @@ func (s *session) finish(r *capture.Reader) *analysis.Result {
 		capF = res.Capacitance.F.Value
 	}
 	setEnergy(res.Cycles, capF)
-	res.Fit.Load = measureLoad(w, capF, decay, &n)
+	plateauThreshold(&res.Fit.Trigger, res.Cycles, w, capF)
+	motion := classifyPulses(w)
+	res.Fit.Load = measureLoad(w, capF, decay, motion.skip(), &n)
+	motion.apply(res.Cycles, w, &res.Fit.Load)
+	measureESR(w, res.Cycles, &res.Fit.Load)
 	res.Fit.Leak = measureLeak(decay, capF, d.ProbeOhm, &n)
 	if res.Fit.Leak.TauS != nil {
 		res.LeakTrace, res.LeakModel = leakPlot(w)
@@ -105,6 +114,24 @@ func (w *swings) full() []detect.Cycle {
 func (w *swings) inCalibration(s *detect.Swing) bool {
 	c := w.opts.Declared.Calibration
 	return w.cal.on && c != nil && s.EndS > c.StartS && s.StartS < c.EndS
+}
+
+// screenOf reports what the screen took out before detection (nil when nothing).
+func screenOf(s screen.Summary, n *notes) *analysis.Screen {
+	if s.Wild == 0 && s.Held == nil {
+		return nil
+	}
+	out := &analysis.Screen{Rows: s.Samples, Wild: s.Wild}
+	if s.Wild > 0 {
+		out.FirstWildS = ptr(s.FirstWildS)
+		n.add(fmt.Sprintf("%d wild sample(s) (not a number, or an absurd jump that came straight back) were dropped before the analysis", s.Wild))
+	}
+	if h := s.Held; h != nil {
+		out.Held = &analysis.Held{Repeat: h.Repeat, FastRuns: h.FastRuns, LoggedSpacingS: h.LoggedSpacingS,
+			EffectiveSpacingS: h.EffectiveSpacingS, Dropped: h.Dropped}
+		n.add(fmt.Sprintf("the samples are a held-value staircase (each value about %.3g times): only the first of each was analysed, at the effective spacing of %.3g s", h.Repeat, h.EffectiveSpacingS))
+	}
+	return out
 }
 
 // notes collect, in words, what the capture could and could not determine.

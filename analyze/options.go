@@ -53,7 +53,8 @@ func Declare(p *profile.Profile) analysis.Declared {
 	}
 	d := analysis.Declared{
 		CapF: p.Storage.CapF, CapTol: p.Storage.Tolerance.Code, CapOrigin: analysis.OriginDeclared,
-		OnV: p.Trigger.OnV, OffV: p.Trigger.OffV, QuiescentA: p.Trigger.QuiescentA,
+		TriggerKind: analysis.TriggerKind(p.Trigger.Kind),
+		OnV:         p.Trigger.OnV, OffV: p.Trigger.OffV, QuiescentA: p.Trigger.QuiescentA,
 		LoadOhm: p.Load.Ohm,
 		VocV:    p.Cell.VocV, IscA: p.Cell.IscA, CellSeries: p.Cell.SeriesCells, CellTempK: p.Cell.TempK,
 	}

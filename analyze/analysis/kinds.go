@@ -37,6 +37,23 @@ const (
 	TriggerUnknown TriggerKind = "unknown" // the capture cannot tell
 )
 
+// KindCheck says whether the cycles agree with the declared trigger kind.
+type KindCheck string
+
+const (
+	KindAgree      KindCheck = "agree"          // the cycles look as the declared kind makes them
+	KindContradict KindCheck = "contradict"     // they do not (a finding says how)
+	KindTooFew     KindCheck = "too-few-cycles" // fewer than 3 full cycles: no check
+)
+
+// Motion says whether a motor load turned during a pulse.
+type Motion string
+
+const (
+	MotionRunning Motion = "running" // bent by back-EMF: the motor turned
+	MotionStalled Motion = "stalled" // a plain R-C discharge through the armature
+)
+
 // Origin says where a value comes from.
 type Origin string
 

@@ -23,8 +23,11 @@ type Result struct {
 	Equilibrium  *Settling `json:"equilibrium,omitempty"`
 	Capacitance  *Capacity `json:"capacitance,omitempty"`
 	Noise        *Noise    `json:"noise,omitempty"`
-	Light        []LightPt `json:"light,omitempty"`
-	Findings     []Finding `json:"findings"`
+	// Screen says what was taken out of the samples before the analysis (wild values,
+	// held repeats); nil when nothing was.
+	Screen   *Screen   `json:"screen,omitempty"`
+	Light    []LightPt `json:"light,omitempty"`
+	Findings []Finding `json:"findings"`
 	// Attribution compares each declared part the capture measured with its declared
 	// value, against the part's tolerance; the largest contradiction first.
 	Attribution []Attribution `json:"attribution,omitempty"`
@@ -147,6 +150,13 @@ type Cycle struct {
 	// Isc is the cell's short-circuit current (or, without C, Isc/C in V/s) fitted from this
 	// cycle's charging segment: a light-level trace.
 	LightA *float64 `json:"light_a,omitempty"`
+	// For a plateau trigger: the net charging slope at the fire (the current over C at
+	// which it fired), and that current when the capacitance is known.
+	FireSlopeVPerS *float64 `json:"fire_slope_v_per_s,omitempty"`
+	FireA          *float64 `json:"fire_a,omitempty"`
+	// Motion, when the pulses show a motor's back-EMF: "running" when the motor turned
+	// during this pulse, "stalled" when it did not.
+	Motion Motion `json:"motion,omitempty"`
 }
 
 // Segment is a stretch of the capture of one kind.
@@ -175,6 +185,19 @@ type TriggerFit struct {
 	OnDriftVPerH *Estimate `json:"on_drift_v_per_h,omitempty"`
 	PeriodS      *Estimate `json:"period_s,omitempty"` // mean interval between fires
 	PulseS       *Estimate `json:"pulse_s,omitempty"`
+	// DeclaredKind is the bench profile's trigger kind ("" without one), and KindCheck
+	// whether the cycles agree with it. When they agree, Kind is the declared kind even
+	// where the voltage alone could not tell (under steady light a voltage trigger and a
+	// timer look alike). KindBasis says in words how Kind was reached, for example
+	// "voltage, as declared; the data agree".
+	DeclaredKind TriggerKind `json:"declared_kind,omitempty"`
+	KindCheck    KindCheck   `json:"kind_check,omitempty"`
+	KindBasis    string      `json:"kind_basis,omitempty"`
+	// For a plateau trigger: ThresholdVPerS is the net charging current over C at which
+	// it fires (the mean charging slope at the end of each rise, with its cycle-to-cycle
+	// SD), and ThresholdA the current itself when the capacitance is known.
+	ThresholdVPerS *Estimate `json:"threshold_v_per_s,omitempty"`
+	ThresholdA     *Estimate `json:"threshold_a,omitempty"`
 }
 
 // LoadFit describes the discharge through the load.
@@ -186,6 +209,22 @@ type LoadFit struct {
 	StartOhm  *Estimate `json:"start_ohm,omitempty"` // effective resistance early in the pulse
 	EndOhm    *Estimate `json:"end_ohm,omitempty"`   // and late in it
 	RMSResidV *float64  `json:"rms_resid_v,omitempty"`
+	// BackEMF is set when pulses are bent by a motor's back-EMF (they last several times
+	// the R-C discharge their onset implies). RunningPulses and StalledPulses count the
+	// pulses during which the motor turned and those during which it did not (a stalled
+	// motor is its armature resistance), with their lengths. With stalled pulses, TauS,
+	// Ohm and ArmatureOhm come from them alone.
+	BackEMF       *bool     `json:"back_emf,omitempty"`
+	RunningPulses int       `json:"running_pulses,omitempty"`
+	StalledPulses int       `json:"stalled_pulses,omitempty"`
+	RunningPulseS *Estimate `json:"running_pulse_s,omitempty"`
+	StalledPulseS *Estimate `json:"stalled_pulse_s,omitempty"`
+	ArmatureOhm   *Estimate `json:"armature_ohm,omitempty"`
+	// ReleaseStepV is the step up the terminals make when the switch lets go (the drop
+	// across a supercapacitor's series resistance as the current stops), and ESROhm that
+	// resistance (needs the capacitance).
+	ReleaseStepV *Estimate `json:"release_step_v,omitempty"`
+	ESROhm       *Estimate `json:"esr_ohm,omitempty"`
 }
 
 // LeakFit describes the slow drains of the storage node without light.
@@ -239,6 +278,27 @@ type Noise struct {
 	StepOrigin StepOrigin `json:"step_origin,omitempty"`
 }
 
+// Screen is what was taken out of the samples before event detection (package
+// analyze/screen).
+type Screen struct {
+	Rows int `json:"rows"` // samples read
+	// Wild samples (not a finite number, or an absurd jump that came straight back) were
+	// dropped; FirstWildS is the time of the first.
+	Wild       int      `json:"wild"`
+	FirstWildS *float64 `json:"first_wild_s,omitempty"`
+	Held       *Held    `json:"held,omitempty"`
+}
+
+// Held describes a held-value staircase: a board that repeats its last value, or a link
+// too slow for its rate. Only the first sample of each value was analysed.
+type Held struct {
+	Repeat            float64 `json:"repeat"`              // median repeats of one value in a fast move
+	FastRuns          int     `json:"fast_runs"`           // the runs that rests on
+	LoggedSpacingS    float64 `json:"logged_spacing_s"`    // median spacing of the rows
+	EffectiveSpacingS float64 `json:"effective_spacing_s"` // median time between new values
+	Dropped           int     `json:"dropped"`             // repeats not analysed
+}
+
 // LightPt is one point of the light-level trace.
 type LightPt struct {
 	TS     float64 `json:"t_s"`
@@ -289,16 +349,18 @@ type Declared struct {
 	CapTol string  `json:"cap_tolerance_code,omitempty"` // its tolerance letter (IEC 60062)
 	// CapOrigin says where CapF comes from: OriginDeclared (the profile, the default)
 	// or OriginFlag (the command line).
-	CapOrigin  Origin  `json:"cap_origin,omitempty"`
-	OnV        float64 `json:"on_v,omitempty"`        // trigger threshold, V
-	OffV       float64 `json:"off_v,omitempty"`       // trigger release, V
-	LoadOhm    float64 `json:"load_ohm,omitempty"`    // load resistance (a motor's armature), Ω
-	ProbeOhm   float64 `json:"probe_ohm,omitempty"`   // what the probe divider puts across the capacitor, Ω
-	QuiescentA float64 `json:"quiescent_a,omitempty"` // the trigger's quiescent current, A
-	VocV       float64 `json:"voc_v,omitempty"`       // cell open-circuit voltage at its rating, V
-	IscA       float64 `json:"isc_a,omitempty"`       // cell short-circuit current at its rating, A
-	CellSeries int     `json:"cell_series,omitempty"` // cells in series in the panel (0: 1)
-	CellTempK  float64 `json:"cell_temp_k,omitempty"` // cell temperature, K (0: 298.15 K)
+	CapOrigin Origin `json:"cap_origin,omitempty"`
+	// TriggerKind is the profile's trigger.kind ("" when not declared).
+	TriggerKind TriggerKind `json:"trigger_kind,omitempty"`
+	OnV         float64     `json:"on_v,omitempty"`        // trigger threshold, V
+	OffV        float64     `json:"off_v,omitempty"`       // trigger release, V
+	LoadOhm     float64     `json:"load_ohm,omitempty"`    // load resistance (a motor's armature), Ω
+	ProbeOhm    float64     `json:"probe_ohm,omitempty"`   // what the probe divider puts across the capacitor, Ω
+	QuiescentA  float64     `json:"quiescent_a,omitempty"` // the trigger's quiescent current, A
+	VocV        float64     `json:"voc_v,omitempty"`       // cell open-circuit voltage at its rating, V
+	IscA        float64     `json:"isc_a,omitempty"`       // cell short-circuit current at its rating, A
+	CellSeries  int         `json:"cell_series,omitempty"` // cells in series in the panel (0: 1)
+	CellTempK   float64     `json:"cell_temp_k,omitempty"` // cell temperature, K (0: 298.15 K)
 	// FullScaleV is the ADC's full scale referred to the storage node: samples there are
 	// saturated.
 	FullScaleV float64 `json:"full_scale_v,omitempty"`

@@ -1,7 +1,6 @@
 package detect
 
 import (
-	"capcycle/analyze/stats"
 	"math"
 	"slices"
 	"sort"
@@ -60,18 +59,20 @@ type Summary struct {
 	Swings        []Swing
 	Cycles        []Cycle
 	Segments      []Segment
-	Trigger       string
+	Trigger       string   // the kind the cycles show (Evidence.Kind)
+	Evidence      Evidence // each trigger kind's test on the cycles
 }
 
 // Finish closes the stream and decides which falls are fires.
 //
 // Falls whose surrounding levels (the medians of a few samples before and after) differ
 // by less than half the minimum swing are noise, neither fire nor decay. A fall is a fire
-// when it is fast: its implied time constant, fall time * V / dV,
-// sits in the lower of two groups that differ by at least a factor of 8 (when the falls
-// form two such groups: fires through the load and slow decays through the leakage), and
-// it falls at least 3 times faster than the charging before it rose, and takes less time
-// than that charging did. Fires that fall by under 10 % of their voltage, or by under a
+// when it is fast: its implied time constant (fall time * V / dV, or, for a pulse bent
+// into a slow tail by a motor's back-EMF, V over the rate at which it leaves its onset) sits in the lower of two groups that differ by at least a
+// factor of 8 (when the falls form two such groups: fires through the load and slow
+// decays through the leakage), and it falls at least 3 times faster than the charging
+// before it rose (at its onset, for a fall cut while still falling, as by a switch), and takes less time than that charging did (or, bent, leaves its onset
+// 30 times faster than the charging). Fires that fall by under 10 % of their voltage, or by under a
 // quarter of the typical fire (the 75th percentile) and under 30 % of their voltage, are
 // chatter.
 func (d *Detector) Finish() *Summary {
@@ -96,7 +97,8 @@ func (d *Detector) Finish() *Summary {
 	d.classify(s)
 	s.Cycles = d.cycles(s)
 	s.Segments = d.segments(s)
-	s.Trigger = InferTrigger(s.Cycles, s.Swings, s.NoiseV, s.StepV, s.SpacingS)
+	s.Evidence = TriggerEvidence(s.Cycles, s.Swings, s.NoiseV, s.StepV, s.SpacingS)
+	s.Trigger = s.Evidence.Kind()
 	return s
 }
 
@@ -118,6 +120,11 @@ func (d *Detector) classify(s *Summary) {
 			continue
 		}
 		tau[i] = d.fallTime(&sw[i]) * math.Max(math.Abs(sw[i].StartV), sw[i].AmplitudeV()) / sw[i].AmplitudeV()
+		if bent(&sw[i], d.fallTime(&sw[i])) {
+			// From the rate at the onset: a pulse bent into a slow tail (a motor's
+			// back-EMF) is still a fire.
+			tau[i] = math.Min(tau[i], math.Max(math.Abs(sw[i].StartV), sw[i].AmplitudeV())/sw[i].OnsetRateVPerS)
+		}
 		logs = append(logs, math.Log(tau[i]))
 	}
 	if len(logs) == 0 {
@@ -139,6 +146,9 @@ func (d *Detector) classify(s *Summary) {
 			continue
 		}
 		rate := sw[i].AmplitudeV() / d.fallTime(&sw[i])
+		if stillFalling(&sw[i], d.fallTime(&sw[i])) {
+			rate = math.Max(rate, sw[i].OnsetRateVPerS)
+		}
 		ref := -1
 		if i > 0 && sw[i-1].Up && !sw[i-1].Gap {
 			ref = i - 1
@@ -151,8 +161,28 @@ func (d *Detector) classify(s *Summary) {
 		}
 		r := &sw[ref]
 		rr := r.AmplitudeV() / math.Max(r.DurationS(), 1e-12)
-		sw[i].Fire = rate > 3*rr && sw[i].FallS() < r.DurationS()
+		sw[i].Fire = rate > 3*rr && (sw[i].FallS() < r.DurationS() || (bent(&sw[i], d.fallTime(&sw[i])) && rate > 30*rr))
 	}
+}
+
+// bentRatio: a fall cut while still falling (see stillFalling) that leaves its onset
+// this many times faster than it falls on average is a pulse bent into a slow tail (a
+// turning motor's back-EMF: 6 to 30 in testdata/spice/motor-engine.cir, depending on
+// where the samples fall; a resistor's pulse about 1.3, a supercapacitor's with its ESR
+// step 3.5).
+const bentRatio = 4
+
+// stillFalling reports whether a fall ended while still falling: at its end at least a
+// quarter of its mean rate (a switch that lets go: about 0.75 for a resistor's pulse,
+// 0.5 for a motor's tail). A decay that settles has all but stopped when it reaches the
+// noise band of its floor.
+func stillFalling(s *Swing, fallS float64) bool {
+	return s.EndRateVPerS >= 0.25*s.AmplitudeV()/fallS
+}
+
+// bent reports whether a fall is a pulse bent into a slow tail (see bentRatio).
+func bent(s *Swing, fallS float64) bool {
+	return stillFalling(s, fallS) && s.OnsetRateVPerS > bentRatio*s.AmplitudeV()/fallS
 }
 
 func (d *Detector) cycles(s *Summary) []Cycle {
@@ -272,72 +302,4 @@ func Carve(base, events []Segment) []Segment {
 	}
 	sort.SliceStable(out, func(i, j int) bool { return out[i].StartS < out[j].StartS })
 	return out
-}
-
-// InferTrigger says what kind of trigger the full cycles show:
-//   - "plateau" when the charging had all but stopped at most fires (the slope over the
-//     end of the charge is under a quarter of the slope over its first fifth);
-//   - "voltage" when the fire voltage is steady (SD within 3 noise SDs plus one ADC step)
-//     while the intervals vary (SD above 2 sample spacings);
-//   - "timer" when the intervals are steady while the fire voltage varies;
-//   - "unknown" otherwise, including when both are steady (then the two cannot be told
-//     apart from the voltage alone) or there are fewer than 3 full cycles.
-func InferTrigger(cycles []Cycle, swings []Swing, noiseV, stepV, spacingS float64) string {
-	var fv, iv, flat, riseStep []float64
-	prevFire := math.NaN()
-	for _, c := range cycles {
-		if c.Chatter {
-			continue
-		}
-		fv = append(fv, c.FireV)
-		if !math.IsNaN(prevFire) {
-			iv = append(iv, c.FireS-prevFire)
-		}
-		prevFire = c.FireS
-		if c.Swing > 0 {
-			r := swings[c.Swing-1]
-			if r.Up && r.StartSlopeVPerS > 0 && !math.IsNaN(r.EndSlopeVPerS) {
-				flat = append(flat, r.EndSlopeVPerS/r.StartSlopeVPerS)
-				riseStep = append(riseStep, math.Abs(r.EndSlopeVPerS)*spacingS)
-			}
-		}
-	}
-	if len(fv) < 3 {
-		return TriggerUnknown
-	}
-	if len(flat) >= 3 {
-		sort.Float64s(flat)
-		if flat[len(flat)/2] < 0.25 {
-			return TriggerPlateau
-		}
-	}
-	// The fire voltage is steady when its SD is within what noise and sampling explain
-	// (3 noise SDs, an ADC step, the rise between two samples at the fire), or is far
-	// smaller, relative to the swing, than the intervals' SD relative to their mean.
-	sdV, sdT := stats.SD(fv), stats.SD(iv)
-	rise := 0.0
-	if len(riseStep) > 0 {
-		sort.Float64s(riseStep)
-		rise = riseStep[len(riseStep)/2]
-	}
-	var height float64
-	for _, c := range cycles {
-		if !c.Chatter {
-			height += (c.FireV - c.ResetV) / float64(len(fv))
-		}
-	}
-	cvV := sdV / math.Max(height, 1e-12)
-	cvT := math.Inf(1)
-	if len(iv) >= 2 {
-		cvT = sdT / math.Max(stats.Mean(iv), 1e-12)
-	}
-	steadyV := sdV <= 3*math.Max(noiseV, stepV/math.Sqrt(12))+stepV+rise || cvV < 0.2*cvT
-	steadyT := len(iv) >= 2 && (sdT <= 2*spacingS || cvT < 0.2*cvV)
-	switch {
-	case steadyV && !steadyT:
-		return TriggerVoltage
-	case steadyT && !steadyV:
-		return TriggerTimer
-	}
-	return TriggerUnknown
 }

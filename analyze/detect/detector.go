@@ -60,6 +60,15 @@ type Swing struct {
 	// Fire is set by Finish for falls taken to be fires, and Noise for falls between a
 	// high and a low of the noise (the levels around them equal): neither fire nor decay.
 	Fire, Noise bool
+	// OnsetRateVPerS, for falls, is how fast the voltage leaves the onset: the drop to a
+	// tenth of the amplitude below it over the time it takes (see Finish).
+	OnsetRateVPerS float64
+	// EndRateVPerS, for falls, is how fast it still falls as it ends (over the last tenth
+	// of it): a switch that lets go cuts a fall that is still falling.
+	EndRateVPerS float64
+	// ReleaseStepV, for falls with a slow tail, is the step up when the switch opened
+	// (the drop across a supercapacitor's ESR); 0 when none shows.
+	ReleaseStepV float64
 	// OnsetIndex and ResetIndex locate the onset and the end of the fall among the
 	// swing's points as passed to Config.OnSwing.
 	OnsetIndex, ResetIndex int

@@ -1,7 +1,8 @@
 // Package detect finds the events of a storage capacitor's voltage: every fire (the
 // onset of a fast fall, far faster than any leakage) and reset (the fall ends and
 // charging resumes), and the stretches between them: charging, firing, dark decay,
-// plateau, saturated, gap. It also infers what kind of trigger made the fires.
+// plateau, saturated, gap. It also infers what kind of trigger made the fires
+// (TriggerEvidence runs each kind's test, so that a declared kind can be checked).
 //
 // # Streaming
 //
@@ -30,11 +31,17 @@
 //     The fire voltage is a straight line through the samples at that level, at the
 //     onset (their mean on a flat top, the last one's level on a steep charge). Reset:
 //     the first sample (median of 3) within that band of the trough.
+//     A fall with a slow tail (a motor's back-EMF, a supercapacitor's slow branch) ends
+//     where robust lines through the tail's last points and the rise's first points
+//     meet: the true minimum, where the switch let go.
 //  5. At Finish, a fall is a fire when it is fast: its implied time constant
-//     (fall time * V / dV) sits in the lower of two groups a factor of 8 apart when the
-//     falls form two groups (pulses through the load, slow decays through the leak), it
-//     falls at least 3 times faster than the charging before it rose, and it takes less
-//     time than that charging. Tiny fires are chatter.
+//     (fall time * V / dV, or V over the rate at which it leaves its onset when it leaves
+//     it 4 times faster than it falls on average and is still falling at its end, so that
+//     a pulse bent into a slow tail by a motor's back-EMF still counts)
+//     sits in the lower of two groups a factor of 8 apart when the falls form two groups
+//     (pulses through the load, slow decays through the leak), it falls at least 3 times
+//     faster than the charging before it rose, and it takes less time than that charging
+//     (or leaves its onset 30 times faster). Tiny fires are chatter.
 //
 // # Smoothing and slopes
 //

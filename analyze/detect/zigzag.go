@@ -173,8 +173,90 @@ func (d *Detector) confirm() {
 	}
 	d.prov = false
 	d.ptsBuf = d.provSeg.points(d.ptsBuf)
+	refineReset(&d.provSwing, d.ptsBuf, d.seg.pts, math.Max(3*d.sdEff(), d.step))
 	d.emit(&d.provSwing, d.ptsBuf)
 	d.provSeg.reset()
+}
+
+// resetFitN is the number of points on each side of a slow fall's trough that
+// refineReset fits.
+const resetFitN = 8
+
+// refineReset places the end of a fall with a slow tail (at least 3 resetFitN points
+// from the onset to the reset: a motor's back-EMF tail, a supercapacitor's slow branch)
+// where a line through the tail's last points meets a line through the first points of
+// the rise after it: the true minimum, where the switch let go. The first sample within
+// the noise band of the trough comes early on a slow tail, and the lowest sample is
+// noise; the two lines (robust: Theil-Sen) average both out. When the voltage steps up
+// as the switch opens (a series resistance, see ReleaseStepV), the release is placed
+// halfway between the last sample on the tail and the first after the step, at the
+// tail's line. Nothing changes when the
+// lines do not meet between their points (falling into the trough, rising out of it).
+// ResetIndex stays where it was: the pulse's fits keep their points.
+func refineReset(sw *Swing, fall, rise []Point, band float64) {
+	r := sw.ResetIndex
+	if r-sw.OnsetIndex < 3*resetFitN || len(fall) < 2 || len(rise) < resetFitN+3 {
+		return
+	}
+	tail := fall[max(sw.OnsetIndex+1, r-resetFitN) : len(fall)-1]
+	a1, b1, ok1 := lineOf(tail)
+	a2, b2, ok2 := lineOf(rise[3 : resetFitN+3])
+	if !ok1 || !ok2 || !(b1 < 0) || !(b2 > 0) {
+		return
+	}
+	// The median of 3 can hide the last sample or two of the tail before a step up:
+	// they follow the tail's line and lie well below the rise's.
+	j := 1
+	for j < 3 && math.Abs(rise[j].V-(a1+b1*rise[j].T)) <= band && a2+b2*rise[j].T-rise[j].V > band {
+		j++
+	}
+	if a, b, ok := lineOf(rise[j : j+resetFitN]); ok && b > 0 {
+		a2, b2 = a, b
+	}
+	ts := (a1 - a2) / (b2 - b1)
+	if !(ts >= tail[0].T && ts <= rise[j+resetFitN-1].T) {
+		return
+	}
+	// A step up when the switch opens (a supercapacitor's ESR: the drop across it goes
+	// with the current) makes the lines meet before the last sample on the tail, and
+	// puts the rise's line above that sample by more than the noise and the tail's fall
+	// over one spacing. The release is then between that sample and the first after the
+	// step.
+	last, next := rise[j-1].T, rise[j].T
+	gap := a2 + b2*last - rise[j-1].V // the rise's line over the last sample on the tail
+	if ts < last-0.5*(next-last) && gap > math.Max(band, -b1*(next-last)) {
+		ts = 0.5 * (last + next)
+		sw.ReleaseStepV = a2 + b2*ts - (a1 + b1*ts)
+	}
+	sw.EndS, sw.EndV = ts, a1+b1*ts
+}
+
+// lineOf fits v = a + b·t to points robustly (ok false for fewer than 3): b is the
+// median of the slopes between every pair (Theil and Sen), a the median of v − b·t, so
+// that a commutation spike among the points moves neither.
+func lineOf(pts []Point) (a, b float64, ok bool) {
+	if len(pts) < 3 || len(pts) > 2*resetFitN {
+		return 0, 0, false
+	}
+	var sl [2 * resetFitN * resetFitN]float64
+	n := 0
+	for i := range pts {
+		for j := i + 1; j < len(pts); j++ {
+			if dt := pts[j].T - pts[i].T; dt > 0 {
+				sl[n] = (pts[j].V - pts[i].V) / dt
+				n++
+			}
+		}
+	}
+	if n == 0 {
+		return 0, 0, false
+	}
+	b = stats.MedianInPlace(sl[:n])
+	var rs [2 * resetFitN]float64
+	for i, p := range pts {
+		rs[i] = p.V - b*p.T
+	}
+	return stats.MedianInPlace(rs[:len(pts)]), b, true
 }
 
 // revert takes back a provisional fall's end: the rebound was part of the pulse.
@@ -273,7 +355,36 @@ func (d *Detector) makeSwing(up, open, gap bool) Swing {
 	if len(pts) > 0 {
 		sw.FlatS = pts[j].T - sw.StartS
 	}
+	sw.OnsetRateVPerS = onsetRate(pts, k, sw.OnsetV, sw.AmplitudeV(), d.dtTyp)
+	sw.EndRateVPerS = endRate(pts, k, sw.ResetIndex)
 	return sw
+}
+
+// endRate is how fast a fall still falls as it ends: the slope over the last tenth of
+// the points from the onset to the reset (at least one step). A switch that lets go
+// cuts a fall that is still falling; a decay that settles has all but stopped.
+func endRate(pts []Point, k, r int) float64 {
+	if r <= k || r >= len(pts) {
+		return 0
+	}
+	a := r - max(1, (r-k)/10)
+	if dt := pts[r].T - pts[a].T; dt > 0 {
+		return (pts[a].V - pts[r].V) / dt
+	}
+	return 0
+}
+
+// onsetRate is how fast a fall leaves its onset (point k at level v0): the drop to the
+// first point a tenth of the fall's amplitude below, over the time to it (at least one
+// sample spacing). A fire drops at once, whatever follows (a motor's back-EMF bends the
+// rest of its pulse into a slow tail); a leak's decay or a fading light starts slowly.
+func onsetRate(pts []Point, k int, v0, amp, dt float64) float64 {
+	for r := k + 1; r < len(pts); r++ {
+		if dv := v0 - pts[r].V; dv >= 0.1*amp {
+			return dv / math.Max(pts[r].T-pts[k].T, math.Max(dt, 1e-12))
+		}
+	}
+	return 0
 }
 
 // slopeAtEnd is the slope at the last point of a local quadratic through the points

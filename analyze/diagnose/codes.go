@@ -15,6 +15,10 @@ const (
 	CodeGaps           = "capture-gaps"          // info or warn: stretches with no samples
 	CodeLost           = "lost-samples"          // warn: samples the recorder counted as lost
 	CodeNoisy          = "noisy-capture"         // warn: noise comparable with the steps the analysis needs
+	CodeWild           = "wild-samples"          // warn: absurd samples dropped before the analysis
+	CodeHeld           = "held-samples"          // warn: a held-value staircase; analysed at its effective rate
+	CodeKindDiffers    = "trigger-kind-differs"  // warn: the cycles do not look as the declared trigger kind makes them
+	CodeMotorStalled   = "motor-stalled"         // warn: some pulses did not turn the motor
 	CodeCapOffNominal  = "capacitance-off-nominal"
 	CodeTrigOffNominal = "trigger-off-nominal"
 )
@@ -34,6 +38,10 @@ var Codes = map[string]string{
 	CodeGaps:           "stretches of the capture with no samples",
 	CodeLost:           "samples the recorder counted as lost",
 	CodeNoisy:          "noise comparable with the voltage steps the analysis needs",
+	CodeWild:           "samples that are not a number, or absurd jumps that come straight back (one cell of 1e300 V), were dropped before the analysis",
+	CodeHeld:           "the board repeated its last value (or the link was too slow for its rate): only the first of each was analysed, at the effective sample rate",
+	CodeKindDiffers:    "the cycles do not look as the declared trigger kind makes them (a voltage trigger's steady fire voltage, a timer's steady intervals, a plateau trigger's levelled charge)",
+	CodeMotorStalled:   "some pulses did not turn the motor (plain R-C discharges through the armature, far shorter than when it turns): something held it, or the pulse was too weak to start it",
 	CodeCapOffNominal:  "the measured capacitance is outside its tolerance",
 	CodeTrigOffNominal: "the measured trigger voltage is outside the part's stated accuracy",
 }

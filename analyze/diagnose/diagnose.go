@@ -48,6 +48,8 @@ func Diagnose(in *Input) []analysis.Finding {
 		d.pulse()
 	}
 	d.drains()
+	d.triggerKind()
+	d.motorStalled()
 	d.nominal()
 	sort.SliceStable(d.out, func(i, j int) bool { return rank(d.out[i].Severity) > rank(d.out[j].Severity) })
 	if d.out == nil {

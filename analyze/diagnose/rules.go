@@ -55,6 +55,7 @@ func (d *diag) capture() {
 			"Lower the burst rate or the number of channels, or use a faster baud rate; close other programs that use the port.",
 			map[string]float64{"lost_samples": float64(r.Source.Lost), "share": share})
 	}
+	d.screened()
 	if r.Noise != nil {
 		need := d.neededStepV()
 		// Noise within one ADC step is the converter's own rounding (a step q alone reads
@@ -66,6 +67,31 @@ func (d *diag) capture() {
 				"Keep the probe leads short and twisted with their ground, add 100 nF from the ADC pin to ground, and let the board average more conversions (a lower slow rate).",
 				map[string]float64{"noise_rms_v": r.Noise.RMSV, "needed_step_v": need, "adc_step_v": r.Noise.StepV})
 		}
+	}
+}
+
+// screened reports what was taken out of the samples before the analysis: wild values
+// and a held-value staircase.
+func (d *diag) screened() {
+	sc := d.r.Screen
+	if sc == nil {
+		return
+	}
+	if sc.Wild > 0 {
+		first := 0.0
+		if sc.FirstWildS != nil {
+			first = *sc.FirstWildS
+		}
+		d.add(CodeWild, analysis.Warn,
+			fmt.Sprintf("%d sample(s) were not a voltage (not a number, or an absurd jump that came straight back), the first at %s; they were dropped and the rest analysed.", sc.Wild, fmtS(first)),
+			"Look at the capture file around that time: a damaged line, a board that sent a bad frame or an overflowed count. Check the probe's ground and the USB cable.",
+			map[string]float64{"wild_samples": float64(sc.Wild), "first_wild_s": first, "rows": float64(sc.Rows)})
+	}
+	if h := sc.Held; h != nil {
+		d.add(CodeHeld, analysis.Warn,
+			fmt.Sprintf("The board repeated each value about %.3g times: new values came every %s although rows were logged every %s. Only the first of each was analysed; pulses shorter than %s are not resolved.", h.Repeat, fmtS(h.EffectiveSpacingS), fmtS(h.LoggedSpacingS), fmtS(h.EffectiveSpacingS)),
+			"Set the recording rate no faster than the board converts (or the link carries), or raise the baud rate.",
+			map[string]float64{"repeat": h.Repeat, "effective_spacing_s": h.EffectiveSpacingS, "logged_spacing_s": h.LoggedSpacingS, "dropped_samples": float64(h.Dropped)})
 	}
 }
 

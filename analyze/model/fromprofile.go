@@ -19,9 +19,11 @@ const (
 	// AssumedDiodeV is the hold diode's drop when the profile does not state it (a small
 	// Schottky diode at microamps; common practice, no source).
 	AssumedDiodeV = 0.3
-	// AssumedArmFraction: a plateau trigger without an on_v is armed above this share of the
-	// cell's rated open-circuit voltage (our own choice).
-	AssumedArmFraction = 0.5
+	// AssumedArmFraction and AssumedArmMarginV: a plateau trigger without an on_v is armed
+	// above this share of the cell's rated open-circuit voltage, or this far above its
+	// release voltage when that is higher (our own choices; see PlateauArmV).
+	AssumedArmFraction = profile.AssumedPlateauArmFraction
+	AssumedArmMarginV  = profile.AssumedPlateauArmMarginV
 )
 
 // Clouds of a windowsill day with a cloud seed (our own numbers for a day of fair-weather
@@ -155,11 +157,7 @@ func triggerFromProfile(pt *profile.Trigger, pc *profile.Cell) Trigger {
 	case profile.Timer:
 		return Trigger{Kind: TriggerTimer, PeriodS: pt.PeriodS, PulseS: pt.PulseS}
 	case profile.Plateau:
-		arm := pt.OnV
-		if arm == 0 {
-			arm = AssumedArmFraction * pc.VocV
-		}
-		t := Trigger{Kind: TriggerPlateau, PlateauA: pt.ThresholdA, ArmV: arm, OffV: pt.OffV}
+		t := Trigger{Kind: TriggerPlateau, PlateauA: pt.ThresholdA, ArmV: PlateauArmV(pt, pc.VocV), OffV: pt.OffV}
 		if pt.OffV == 0 {
 			t.PulseS = pt.PulseS
 		}
@@ -167,6 +165,12 @@ func triggerFromProfile(pt *profile.Trigger, pc *profile.Cell) Trigger {
 	}
 	return Trigger{}
 }
+
+// PlateauArmV is the storage voltage at or above which a plateau trigger may fire (it is
+// armed): the profile's on_v when given (the profile requires it above off_v); otherwise
+// the larger of AssumedArmFraction of the cell's rated Voc and off_v + AssumedArmMarginV,
+// so that the trigger is always armed above its release.
+func PlateauArmV(pt *profile.Trigger, vocV float64) float64 { return profile.PlateauArmV(pt, vocV) }
 
 func loadFromProfile(pl *profile.LoadSpec) Load {
 	if pl.Kind == profile.Motor {

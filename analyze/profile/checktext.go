@@ -36,7 +36,7 @@ func WriteCheck(w io.Writer, file string, p *Profile, d Derived, peak *Peak) err
 	if s.BranchF > 0 {
 		row("second branch", "%s through %s (τ %s)", F(s.BranchF, "F"), F(s.BranchOhm, units.Ohm), duration(s.BranchF*s.BranchOhm))
 	}
-	row("trigger", "%s", describeTrigger(t))
+	row("trigger", "%s", describeTrigger(t, p.Cell.VocV))
 	row("load", "%s", describeLoad(p.Load))
 	row("cell", "Voc %s, Isc %s, %d cell(s) in series, at %g W/m²", F(p.Cell.VocV, "V"), F(p.Cell.IscA, "A"),
 		p.Cell.SeriesCells, p.Cell.RefWm2)
@@ -89,7 +89,7 @@ func WriteCheck(w io.Writer, file string, p *Profile, d Derived, peak *Peak) err
 	return nil
 }
 
-func describeTrigger(t Trigger) string {
+func describeTrigger(t Trigger, vocV float64) string {
 	F := units.Format
 	var b strings.Builder
 	switch t.Kind {
@@ -107,6 +107,11 @@ func describeTrigger(t Trigger) string {
 		fmt.Fprintf(&b, "timer, every %s for %s", duration(t.PeriodS), duration(t.PulseS))
 	case Plateau:
 		fmt.Fprintf(&b, "plateau, fires when the charging current falls below %s", F(t.ThresholdA, "A"))
+		if t.OnV > 0 {
+			fmt.Fprintf(&b, " at or above %s (on_v)", F(t.OnV, "V"))
+		} else {
+			fmt.Fprintf(&b, " at or above %s (half voc_v, or 50 mV above off_v)", F(PlateauArmV(&t, vocV), "V"))
+		}
 		if t.OffV > 0 {
 			fmt.Fprintf(&b, ", releases at %s", F(t.OffV, "V"))
 		} else {

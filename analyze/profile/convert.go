@@ -80,13 +80,8 @@ func (c *conv) cross(p *Profile, r *rawProfile) {
 	if c.err != nil || r.Trigger == nil || r.Cell == nil {
 		return
 	}
-	t := p.Trigger
-	if t.Kind == Plateau && t.OnV == 0 && t.OffV > 0 {
-		arm := AssumedPlateauArmFraction * p.Cell.VocV
-		c.check(t.OffV < arm, "trigger.off_v",
-			"off_v %s must be below the voltage at which the trigger arms: with no on_v that is %g × the cell's voc_v = %s (give on_v)",
-			fv(t.OffV, "V"), AssumedPlateauArmFraction, fv(arm, "V"))
-	}
+	// A plateau trigger with no on_v arms above its release whatever off_v is (see
+	// PlateauArmV): nothing to refuse here yet.
 }
 
 func (c *conv) requireTable(name string, ok bool) {

@@ -1,6 +1,7 @@
 package profile
 
 import (
+	"math"
 	"regexp"
 	"strings"
 )
@@ -104,6 +105,24 @@ const AssumedHoldDiodeV = 0.3
 // AssumedPlateauArmFraction is the share of the cell's rated open-circuit voltage above
 // which the model arms a plateau trigger that has no on_v (the model's AssumedArmFraction).
 const AssumedPlateauArmFraction = 0.5
+
+// AssumedPlateauArmMarginV is how far above its release a plateau trigger with no on_v
+// arms at least, volts (our own choice), so that it is always armed above its release.
+const AssumedPlateauArmMarginV = 0.05
+
+// PlateauArmV is the storage voltage at or above which a plateau trigger may fire (it is
+// armed): on_v when given (the profile requires it above off_v); otherwise the larger of
+// AssumedPlateauArmFraction of the cell's rated Voc and off_v + AssumedPlateauArmMarginV.
+func PlateauArmV(t *Trigger, vocV float64) float64 {
+	if t.OnV > 0 {
+		return t.OnV
+	}
+	arm := AssumedPlateauArmFraction * vocV
+	if t.OffV > 0 {
+		arm = math.Max(arm, t.OffV+AssumedPlateauArmMarginV)
+	}
+	return arm
+}
 
 // AssumedIdeality is the per-cell diode ideality the model takes when the profile gives
 // none (the model's AssumedIdeality; common practice, no source).

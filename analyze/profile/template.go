@@ -46,7 +46,8 @@ threshold_a = "200u"        # fires when the charging current falls below this, 
 pulse_s = "80m"             # fixed on time, s; give either pulse_s or off_v
 # off_v = 1.6               # release when the storage voltage falls to this, V
 quiescent_a = "3u"          # detector supply current, A (optional)
-# on_v = 2.7                # nominal storage voltage at the fire, V (optional; gives the energy per pulse)
+# on_v = 2.7                # arming voltage: fires only at or above it, V (optional; gives the
+                            #   energy per pulse; default the larger of half voc_v and off_v + 50 mV)
 `,
 }
 
