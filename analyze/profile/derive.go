@@ -172,6 +172,15 @@ func Derive(p *Profile) Derived {
 		warn("the cell's open-circuit voltage %s is above the capacitor's rated %s and a %s trigger does not stop the charge at a voltage",
 			units.Format(p.Cell.VocV, units.Volt), units.Format(s.RatedV, units.Volt), t.Kind)
 	}
+	d.channelWarnings(p, warn)
+	d.light(p, warn)
+	return d
+}
+
+// channelWarnings warns of each channel's risks: readings that clip (and a pin driven
+// beyond its rails), a source impedance too high for the converter without a pin
+// capacitor, and a pin capacitor that smooths the fire's drop.
+func (d *Derived) channelWarnings(p *Profile, warn func(string, ...any)) {
 	for i, f := range d.Channels {
 		if f.ExpectedV > f.FullScaleV {
 			warn("channel[%d] (%s): the node may reach %s but the ADC full scale is %s: readings clip, and the pin may go above the ADC reference (never let it exceed the reference or the supply, or go below 0 V)",
@@ -189,13 +198,11 @@ func Derive(p *Profile) Derived {
 			warn("channel[%d] (%s): pin_f %s is small against the converter's sampling capacitor (about %s): at least %s keeps the charge it takes below half a count",
 				i, f.Node, units.Format(p.Channels[i].PinF, units.Farad), units.Format(adcSampleF, units.Farad), units.Format(f.PinMinF, units.Farad))
 		}
-		if pulse := pulseS(p, d); f.PinTauS > 0 && pulse > 0 && f.PinTauS > 0.1*pulse {
+		if pulse := pulseS(p, *d); f.PinTauS > 0 && pulse > 0 && f.PinTauS > 0.1*pulse {
 			warn("channel[%d] (%s): the pin follows the node with τ = %s (source %s × pin_f %s), not fast against the %s pulse: the reading smooths the fire's drop",
 				i, f.Node, units.Format(f.PinTauS, units.Second), units.Format(f.SourceOhm, units.Ohm), units.Format(p.Channels[i].PinF, units.Farad), units.Format(pulse, units.Second))
 		}
 	}
-	d.light(p, warn)
-	return d
 }
 
 // pulseS is the length of a fire as far as the profile says it (a timer's or plateau's

@@ -148,42 +148,19 @@ func Search(ctx context.Context, c *model.Circuit, g, sunHours float64, t Target
 		}
 		return t.of(f) - t.Value, nil
 	}
-	// Bracket: walk outwards from x0 by factors of two, first up, then down, until the
-	// sign of (figure − target) changes between two neighbouring points.
-	f0, err := eval(x0)
-	if err != nil {
-		return nil, err
-	}
-	lo, hi, flo, found := 0.0, 0.0, 0.0, false
-	fired := !math.IsNaN(f0)
-	for _, dir := range []float64{+1, -1} {
-		px, pf := math.Log(x0), f0
-		for k := 1; k <= 14 && !found; k++ { // 2^14 ≈ 1.6e4: four decades
-			x := math.Log(x0) + dir*float64(k)*math.Ln2
-			fx, err := eval(math.Exp(x))
-			if ctx.Err() != nil {
-				return nil, ctx.Err()
-			}
-			if err != nil || math.IsNaN(fx) {
-				continue
-			}
-			fired = true
-			if !math.IsNaN(pf) && fx*pf <= 0 {
-				lo, hi, flo, found = px, x, pf, true
-			}
-			px, pf = x, fx
-		}
-	}
-	if !found && !fired {
+	lo, hi, flo, err := bracket(ctx, eval, x0)
+	switch {
+	case errors.Is(err, ErrNeverFires):
 		why := ""
 		if f, err := predict.Steady(c, g, nil); err == nil && !math.IsNaN(f.EquilibriumV) {
 			why = fmt.Sprintf(": it settles at %s, below the trigger; more light, less drain or a lower trigger first", units.Format(f.EquilibriumV, units.Volt))
 		}
 		return nil, fmt.Errorf("%w at %.3g W/m² with any %s from %s to %s%s", ErrNeverFires, g, p.Name,
 			units.Format(x0/16384, p.Unit), units.Format(x0*16384, p.Unit), why)
-	}
-	if !found {
+	case errors.Is(err, ErrUnreachable):
 		return nil, fmt.Errorf("%w by %s within ×1/16000…×16000 of %s", ErrUnreachable, p.Name, units.Format(x0, p.Unit))
+	case err != nil:
+		return nil, err
 	}
 	// Bisection on log(x); lo and hi may be in either order.
 	for i := 0; i < 60 && math.Abs(hi-lo) > 1e-6; i++ {
@@ -198,7 +175,47 @@ func Search(ctx context.Context, c *model.Circuit, g, sunHours float64, t Target
 			lo, flo = m, fm
 		}
 	}
-	exact := math.Exp(0.5 * (lo + hi))
+	return proposals(c, g, sunHours, p, math.Exp(0.5*(lo+hi)))
+}
+
+// bracket walks outwards from x0 by factors of two, first up, then down (four decades
+// each way), until the sign of eval (figure − target, NaN where the circuit does not
+// fire) changes between two neighbouring points; it returns them as logarithms, and eval
+// at lo. ErrNeverFires when eval is NaN everywhere, ErrUnreachable when its sign never
+// changes.
+func bracket(ctx context.Context, eval func(float64) (float64, error), x0 float64) (lo, hi, flo float64, err error) {
+	f0, err := eval(x0)
+	if err != nil {
+		return 0, 0, 0, err
+	}
+	fired := !math.IsNaN(f0)
+	for _, dir := range []float64{+1, -1} {
+		px, pf := math.Log(x0), f0
+		for k := 1; k <= 14; k++ { // 2^14 ≈ 1.6e4: four decades
+			x := math.Log(x0) + dir*float64(k)*math.Ln2
+			fx, err := eval(math.Exp(x))
+			if ctx.Err() != nil {
+				return 0, 0, 0, ctx.Err()
+			}
+			if err != nil || math.IsNaN(fx) {
+				continue
+			}
+			fired = true
+			if !math.IsNaN(pf) && fx*pf <= 0 {
+				return px, x, pf, nil
+			}
+			px, pf = x, fx
+		}
+	}
+	if !fired {
+		return 0, 0, 0, ErrNeverFires
+	}
+	return 0, 0, 0, ErrUnreachable
+}
+
+// proposals predicts the exact value of part p and its standard neighbours below and
+// above (in the part's E-series, when it has one).
+func proposals(c *model.Circuit, g, sunHours float64, p *Part, exact float64) ([]Proposal, error) {
 	var out []Proposal
 	add := func(label string, x float64) error {
 		cc := *c
@@ -213,19 +230,20 @@ func Search(ctx context.Context, c *model.Circuit, g, sunHours float64, t Target
 	if err := add("exact", exact); err != nil {
 		return nil, err
 	}
-	if p.Series != "" {
-		s, err := eseries.Get(p.Series)
-		if err != nil {
+	if p.Series == "" {
+		return out, nil
+	}
+	s, err := eseries.Get(p.Series)
+	if err != nil {
+		return nil, err
+	}
+	below, above := s.Bracket(exact)
+	if err := add(p.Series+" below", below); err != nil {
+		return nil, err
+	}
+	if above != below {
+		if err := add(p.Series+" above", above); err != nil {
 			return nil, err
-		}
-		below, above := s.Bracket(exact)
-		if err := add(p.Series+" below", below); err != nil {
-			return nil, err
-		}
-		if above != below {
-			if err := add(p.Series+" above", above); err != nil {
-				return nil, err
-			}
 		}
 	}
 	return out, nil
