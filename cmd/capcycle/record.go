@@ -6,7 +6,6 @@ import (
 	"flag"
 	"fmt"
 	"io"
-	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -17,7 +16,6 @@ import (
 	"capcycle/analyze/profile"
 	"capcycle/analyze/units"
 	"capcycle/logger"
-	"capcycle/logger/capture"
 )
 
 // recordCommand is "capcycle record".
@@ -234,77 +232,20 @@ func recordConfig(f *recordFlags, set map[string]bool, prof *profile.Profile, no
 	return cfg, nil
 }
 
-// recordFromProfile takes the name, the channels (vcap on ADC0, further nodes on ADC1..),
-// their dividers and the ADC reference from the profile. A load-current channel (node
-// iload) is written as column iload_a in amperes: divider 1 and a scale of
-// 1/(shunt·gain) on the volts at its pin.
+// recordFromProfile takes the name, the channels, their dividers, scales and columns
+// and the ADC reference from the profile (profile.Recording).
 func recordFromProfile(cfg *logger.Config, p *profile.Profile, text bool) error {
+	r, err := p.Recording(cfg.Channels, text)
+	if err != nil {
+		return inputError(err)
+	}
 	cfg.Profile = p.Name
-	byADC := map[int]profile.Channel{}
-	maxADC := 0
-	for _, c := range p.Channels {
-		byADC[c.ADC] = c
-		maxADC = max(maxADC, c.ADC)
-	}
-	if c, ok := byADC[0]; !ok || c.Node != profile.NodeVcap {
-		return inputError(fmt.Errorf("profile %s: the board's ADC0 must read vcap (the recorder writes ADC0 as vcap_v)", p.Name))
-	}
-	if maxADC >= 4 {
-		return inputError(fmt.Errorf("profile %s: ADC%d: the board records ADC0..ADC3", p.Name, maxADC))
-	}
-	if cfg.Channels == 0 {
-		cfg.Channels = maxADC + 1
-	}
-	cfg.Dividers = make([]float64, cfg.Channels)
-	cfg.Scales = nil
-	cfg.Columns = nil
-	for k := 0; k < cfg.Channels; k++ {
-		c, ok := byADC[k]
-		if ok {
-			cfg.Dividers[k] = c.Ratio()
-		}
-		if ok && c.IsCurrent() {
-			// The load current: the amplifier's volts at the pin (no divider) over
-			// shunt·gain, in amperes, written as the column the analysis reads.
-			if text {
-				return inputError(fmt.Errorf("profile %s: ADC%d reads the load current: text input has one scale for every column, so record it with the capcycle firmware (frame input)", p.Name, k))
-			}
-			if cfg.Scales == nil {
-				cfg.Scales = make([]float64, cfg.Channels)
-			}
-			cfg.Dividers[k], cfg.Scales[k] = 1, 1/c.VoltsPerAmp()
-			cfg.Decimals = max(cfg.Decimals, recordDecimals(p.ADC, c))
-		}
-		if k > 0 {
-			name := fmt.Sprintf("ch%d_v", k)
-			switch {
-			case ok && c.IsCurrent():
-				name = capture.ColIload
-			case ok:
-				name = string(c.Node) + "_v"
-			}
-			cfg.Columns = append(cfg.Columns, name)
-		}
-	}
-	switch p.ADC.Reference {
-	case profile.RefAVCC:
-		cfg.Ref = "avcc"
-	case profile.RefInternal:
-		cfg.Ref = "int"
-	}
+	cfg.Channels, cfg.Dividers, cfg.Scales, cfg.Columns, cfg.Ref = r.Channels, r.Dividers, r.Scales, r.Columns, r.Ref
+	cfg.Decimals = max(cfg.Decimals, r.Decimals)
 	if text {
 		cfg.Text = logger.TextInput{Bits: p.ADC.Bits, VrefV: p.ADC.ReferenceV, Divider: cfg.Dividers[0], Columns: cfg.Channels}
 	}
 	return nil
-}
-
-// recordDecimals is the number of decimals that keeps the file's step at most a tenth of
-// a count of current channel c at the firmware's resolution (the profile's bits plus the
-// 2 of its default oversampling): at least the default 5, at most 12.
-func recordDecimals(a profile.ADC, c profile.Channel) int {
-	lsbA := a.ReferenceV / math.Ldexp(1, a.Bits+2) / c.VoltsPerAmp()
-	d := int(math.Ceil(-math.Log10(lsbA / 10)))
-	return min(max(d, 5), 12)
 }
 
 // recordUntil is the next time of day "HH:MM" after now, in now's location.
