@@ -3,7 +3,6 @@ package main
 import (
 	"bytes"
 	"context"
-	"encoding/json"
 	"errors"
 	"flag"
 	"fmt"
@@ -72,7 +71,8 @@ func runReport(ctx context.Context, args []string, e *env) error {
 	results := make([]*analysis.Result, len(inputs))
 	for i, in := range inputs {
 		if *fromJSON {
-			results[i], err = readSavedAnalysis(in)
+			results[i], err = analysis.ReadFile(in)
+			err = inputError(err)
 		} else {
 			results[i], err = analyseCapture(ctx, in, profiles.ForInput(i))
 		}
@@ -94,28 +94,6 @@ func parseInterleaved(fs *flag.FlagSet, args []string) ([]string, error) {
 		return nil, err
 	}
 	return fs.Args(), nil
-}
-
-// readSavedAnalysis reads a saved analysis JSON and checks its schema.
-func readSavedAnalysis(path string) (*analysis.Result, error) {
-	raw, err := os.ReadFile(path)
-	if err != nil {
-		return nil, inputError(fmt.Errorf("report: %w", err))
-	}
-	var r analysis.Result
-	dec := json.NewDecoder(bytes.NewReader(raw))
-	if err := dec.Decode(&r); err != nil {
-		var se *json.SyntaxError
-		if errors.As(err, &se) {
-			line := 1 + bytes.Count(raw[:min(int(se.Offset), len(raw))], []byte("\n"))
-			return nil, inputError(fmt.Errorf("report: %s:%d: not an analysis JSON: %w", path, line, err))
-		}
-		return nil, inputError(fmt.Errorf("report: %s: not an analysis JSON: %w", path, err))
-	}
-	if r.Schema != analysis.Schema {
-		return nil, inputError(fmt.Errorf("report: %s: schema is %q, want %q (is it a capcycle analysis?)", path, r.Schema, analysis.Schema))
-	}
-	return &r, nil
 }
 
 // writeOne writes the report bundle of one input.

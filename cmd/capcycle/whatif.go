@@ -5,7 +5,6 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
-	"os"
 	"strings"
 
 	"capcycle/analyze/analysis"
@@ -103,7 +102,7 @@ func runWhatif(ctx context.Context, args []string, e *env) error {
 func whatifQuestion(profPath, analysisPath string) (*whatif.Question, error) {
 	q := &whatif.Question{}
 	if analysisPath != "" {
-		r, err := readAnalysis(analysisPath)
+		r, err := analysis.ReadFile(analysisPath)
 		if err != nil {
 			return nil, inputError(err)
 		}
@@ -133,19 +132,4 @@ func whatifQuestion(profPath, analysisPath string) (*whatif.Question, error) {
 		q.Note = "the capacitance is not known: times and voltages are predicted, energies are per farad"
 	}
 	return q, nil
-}
-
-func readAnalysis(path string) (*analysis.Result, error) {
-	data, err := os.ReadFile(path)
-	if err != nil {
-		return nil, err
-	}
-	var r analysis.Result
-	if err := json.Unmarshal(data, &r); err != nil {
-		return nil, fmt.Errorf("%s: not an analysis JSON: %w", path, err)
-	}
-	if r.Schema != analysis.Schema {
-		return nil, fmt.Errorf("%s: schema %q, want %q", path, r.Schema, analysis.Schema)
-	}
-	return &r, nil
 }
