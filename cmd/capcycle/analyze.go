@@ -34,6 +34,7 @@ func analyzeCommand() *command {
 type analyzeFlags struct {
 	profile     string
 	json        bool
+	indent      bool
 	cyclesCSV   string
 	segmentsCSV string
 	timeCol     string
@@ -96,7 +97,8 @@ func newAnalyzeFlags(w io.Writer) (*flag.FlagSet, *analyzeFlags) {
 		"capcycle analyze logger.csv --time-col timestamp --time-format rfc3339 --volt-col ch1 --volt-unit mV --delim ';'",
 		"capcycle analyze fern.csv --profile fern.toml --cycles-csv cycles.csv --segments-csv segments.csv")
 	fs.StringVar(&f.profile, "profile", "", "bench profile (TOML) with the circuit's declared values")
-	fs.BoolVar(&f.json, "json", false, "write the analysis as JSON to standard output")
+	fs.BoolVar(&f.json, "json", false, "write the analysis as JSON to standard output (compact; --indent for a person)")
+	fs.BoolVar(&f.indent, "indent", false, "with --json: indent the JSON for reading")
 	fs.StringVar(&f.cyclesCSV, "cycles-csv", "", "also write the cycles to this CSV file")
 	fs.StringVar(&f.segmentsCSV, "segments-csv", "", "also write the segments to this CSV file")
 	fs.StringVar(&f.timeCol, "time-col", "", "time column: a name, or a position from 1 (default time_s)")
@@ -191,7 +193,9 @@ func runAnalyze(ctx context.Context, args []string, e *env) error {
 	}
 	if f.json {
 		enc := json.NewEncoder(e.stdout)
-		enc.SetIndent("", "  ")
+		if f.indent {
+			enc.SetIndent("", "  ")
+		}
 		if err := enc.Encode(res); err != nil {
 			return workErrorf("%w", err)
 		}
