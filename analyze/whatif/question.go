@@ -39,17 +39,22 @@ type Question struct {
 
 // Report is the answer to a Question, as "capcycle whatif --json" writes it.
 type Report struct {
-	Profile   string     `json:"profile"`
-	Note      string     `json:"note,omitempty"`
-	LightWm2  float64    `json:"light_wm2"`
-	LightFrom string     `json:"light_from"`
-	SunHours  float64    `json:"sun_hours"`
-	Base      Figures    `json:"base"`
-	Changes   []string   `json:"changes,omitempty"`
-	Changed   *Figures   `json:"changed,omitempty"`
-	Target    string     `json:"target,omitempty"`
-	Vary      string     `json:"vary,omitempty"`
-	Proposals []Proposed `json:"proposals,omitempty"`
+	Profile   string  `json:"profile"`
+	Note      string  `json:"note,omitempty"`
+	LightWm2  float64 `json:"light_wm2"`
+	LightFrom string  `json:"light_from"`
+	SunHours  float64 `json:"sun_hours"`
+	// EnergyPerDayFrom says where the energies per day come from: "model" (energy per
+	// pulse × fires per hour × sun hours at the one light), or "measured" (a day-long
+	// analysis: the energy its fires delivered per day, and for the changed circuit and
+	// the proposals that scaled by the model's ratio to the circuit as it is).
+	EnergyPerDayFrom string     `json:"energy_per_day_from"`
+	Base             Figures    `json:"base"`
+	Changes          []string   `json:"changes,omitempty"`
+	Changed          *Figures   `json:"changed,omitempty"`
+	Target           string     `json:"target,omitempty"`
+	Vary             string     `json:"vary,omitempty"`
+	Proposals        []Proposed `json:"proposals,omitempty"`
 }
 
 // Figures are one circuit's predicted figures; null where they do not apply (a circuit
@@ -118,7 +123,53 @@ func Ask(ctx context.Context, q *Question) (*Report, error) {
 			return nil, err
 		}
 	}
+	rep.EnergyPerDayFrom = "model"
+	if day, ok := measuredDayJ(q.Result); ok {
+		rep.scaleDay(day)
+	}
 	return rep, nil
+}
+
+// measuredDayJ is the energy the fires of a day-long analysis (20 h or more) delivered,
+// per day; ok is false without one or without the energies (an unknown capacitance).
+func measuredDayJ(r *analysis.Result) (float64, bool) {
+	if r == nil || r.DurationS < 20*3600 {
+		return 0, false
+	}
+	sum, n := 0.0, 0
+	for _, c := range r.Cycles {
+		if c.Kind == analysis.CycleFull && c.EnergyJ != nil {
+			sum += *c.EnergyJ
+			n++
+		}
+	}
+	if n == 0 {
+		return 0, false
+	}
+	return sum * 86400 / r.DurationS, true
+}
+
+// scaleDay puts the measured energy per day in the base column and scales the other
+// columns' model figures by their ratio to the base's, so that every column agrees with
+// what the capture measured (one light level cannot stand for a day's changing light).
+func (r *Report) scaleDay(dayJ float64) {
+	base := r.Base.EnergyPerDayJ
+	if base == nil || !(*base > 0) {
+		return
+	}
+	k := dayJ / *base
+	scale := func(f *Figures) {
+		if f != nil && f.EnergyPerDayJ != nil {
+			v := *f.EnergyPerDayJ * k
+			f.EnergyPerDayJ = &v
+		}
+	}
+	scale(&r.Base)
+	scale(r.Changed)
+	for i := range r.Proposals {
+		scale(&r.Proposals[i].Figures)
+	}
+	r.EnergyPerDayFrom = "measured"
 }
 
 func searchInto(ctx context.Context, rep *Report, q *Question, c *model.Circuit, g, hours float64) error {

@@ -39,6 +39,9 @@ func (r *Report) WriteText(w io.Writer) error {
 	if err := tw.Flush(); err != nil {
 		return err
 	}
+	if r.EnergyPerDayFrom == "measured" {
+		fmt.Fprintln(w, "\nenergy per day: what the capture's fires delivered a day, the other columns scaled by the model's ratio to it.")
+	}
 	if r.Target != "" {
 		fmt.Fprintf(w, "\ntarget %s by %s: the exact value and its neighbours in the standard series (IEC 60063).\n", r.Target, r.Vary)
 	}

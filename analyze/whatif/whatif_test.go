@@ -7,6 +7,7 @@ import (
 	"strings"
 	"testing"
 
+	"capcycle/analyze/analysis"
 	"capcycle/analyze/eseries"
 	"capcycle/analyze/model"
 )
@@ -164,5 +165,38 @@ func TestApplyKeepsHysteresis(t *testing.T) {
 	var ce *ChangeError
 	if !errors.As(err, &ce) || !strings.Contains(ce.Reason, "off (") || !strings.Contains(ce.Reason, "on (") {
 		t.Errorf("error %v: want the parts named", err)
+	}
+}
+
+// With a day-long analysis, the energy per day of the circuit as it is is what its fires
+// delivered, and a changed circuit's is that scaled by the model's ratio.
+func TestAskEnergyPerDayFromTheCapture(t *testing.T) {
+	c := rc()
+	e := 5e-3 // joules per pulse, as if measured
+	res := &analysis.Result{Schema: analysis.Schema, DurationS: 2 * 86400}
+	for i := 0; i < 1000; i++ {
+		res.Cycles = append(res.Cycles, analysis.Cycle{Index: i, Kind: analysis.CycleFull, EnergyJ: &e})
+	}
+	q := &Question{Circuit: c, Result: res, LightWm2: 100, SunHours: 8,
+		Changes: []Change{{Part: "cap", Value: 2 * c.Storage.CapF}}}
+	rep, err := Ask(context.Background(), q)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if rep.EnergyPerDayFrom != "measured" || rep.Base.EnergyPerDayJ == nil || math.Abs(*rep.Base.EnergyPerDayJ-2.5) > 1e-9 {
+		t.Fatalf("base energy per day %v from %q, want the measured 2.5 J (1000 × 5 mJ over 2 days)", rep.Base.EnergyPerDayJ, rep.EnergyPerDayFrom)
+	}
+	model, err := Evaluate(c, 100, 8)
+	if err != nil {
+		t.Fatal(err)
+	}
+	changed, _, _ := Apply(c, 100, q.Changes)
+	mc, err := Evaluate(changed, 100, 8)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := 2.5 * mc.EnergyPerDayJ / model.EnergyPerDayJ
+	if got := *rep.Changed.EnergyPerDayJ; math.Abs(got-want) > 1e-9*want {
+		t.Errorf("changed energy per day %v, want %v (the model's ratio on the measured day)", got, want)
 	}
 }
