@@ -3,6 +3,7 @@ package model
 import (
 	"fmt"
 	"math"
+	"strings"
 	"sync/atomic"
 	"time"
 
@@ -80,6 +81,20 @@ func RigFromScene(sc *Scene) *Rig {
 		Nodes: []Node{NodeVcap}, Div: []float64{scenarioDiv},
 		Bits: scenarioBits, RefV: scenarioRefV,
 	}
+}
+
+// ScenarioRig is the rig of a built-in scenario: its circuit and light, with the board
+// wired as its profile says (RigFromProfile of ScenarioProfile).
+func ScenarioRig(name string, channels int) (*Rig, error) {
+	b, err := ScenarioProfile(name)
+	if err != nil {
+		return nil, err
+	}
+	p, err := profile.Parse(strings.ToLower(name)+".toml", b)
+	if err != nil {
+		return nil, fmt.Errorf("model: built-in scenario %s: %w", name, err)
+	}
+	return RigFromProfile(p, channels)
 }
 
 // RigFromProfile builds the circuit and the light from a bench profile (for a board of

@@ -99,3 +99,16 @@ func currentDecimals(a ADC, c Channel) int {
 	d := int(math.Ceil(-math.Log10(lsbA / 10)))
 	return min(max(d, 5), 12)
 }
+
+// BurstThreshold is a burst threshold for the board, in counts at ebits of resolution:
+// half of on_v − off_v at the storage node, seen through a divider of ratio div on a
+// reference of refV volts, so that a fire starts a burst and the charging between two
+// slow rows does not; at least 8 counts (and 8 when the profile gives no swing).
+func (p *Profile) BurstThreshold(div, refV float64, ebits int) int {
+	swing := p.Trigger.OnV - p.Trigger.OffV
+	if !(swing > 0) || !(refV > 0) {
+		return 8
+	}
+	c := 0.5 * swing * div / refV * float64(int(1)<<ebits)
+	return max(8, int(c))
+}

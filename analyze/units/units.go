@@ -6,6 +6,7 @@ import (
 	"math"
 	"strconv"
 	"strings"
+	"time"
 	"unicode"
 	"unicode/utf8"
 )
@@ -367,4 +368,13 @@ func Duration(s float64) string {
 		return fmt.Sprintf("%.3g min", s/60)
 	}
 	return Format(s, Second)
+}
+
+// ParseClock reads a time of day "HH:MM" (24-hour clock) as seconds from midnight.
+func ParseClock(s string) (float64, error) {
+	t, err := time.Parse("15:04", strings.TrimSpace(s))
+	if err != nil {
+		return 0, fmt.Errorf("units: time of day %q: want HH:MM (24-hour clock)", s)
+	}
+	return float64(t.Hour()*3600 + t.Minute()*60), nil
 }

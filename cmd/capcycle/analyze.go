@@ -24,7 +24,6 @@ func analyzeCommand() *command {
 	return &command{
 		name:    "analyze",
 		summary: "find every fire and reset in a capture and fit the circuit",
-		built:   true,
 		run:     runAnalyze,
 	}
 }

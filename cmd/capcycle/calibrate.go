@@ -18,7 +18,6 @@ func calibrateCommand() *command {
 	return &command{
 		name:    "calibrate",
 		summary: "calibrate a board's channels against a multimeter reading",
-		built:   true,
 		run:     runCalibrate,
 	}
 }

@@ -1,10 +1,10 @@
 package main
 
 import (
+	"capcycle/cmd/internal/cli"
 	"context"
 	"fmt"
 	"io"
-	"strings"
 	"text/tabwriter"
 )
 
@@ -12,7 +12,6 @@ import (
 type command struct {
 	name    string
 	summary string
-	built   bool
 	run     func(ctx context.Context, args []string, e *env) error
 }
 
@@ -60,13 +59,7 @@ func find(name string) (*command, error) {
 	for _, c := range commands() {
 		names = append(names, c.name)
 	}
-	if strings.HasPrefix(name, "-") {
-		return nil, usageErrorf("%s before a command: flags go after it (run \"capcycle help\")", name)
-	}
-	if s := suggest(name, names); s != "" {
-		return nil, usageErrorf("unknown command %q; did you mean %q? (run \"capcycle help\")", name, s)
-	}
-	return nil, usageErrorf("unknown command %q (run \"capcycle help\")", name)
+	return nil, cli.UnknownCommand(name, names)
 }
 
 func printHelp(w io.Writer) {
@@ -77,22 +70,11 @@ func printHelp(w io.Writer) {
 	fmt.Fprintln(w, "commands:")
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	for _, c := range commands() {
-		s := c.summary
-		if !c.built {
-			s += " (not built yet)"
-		}
-		fmt.Fprintf(tw, "  %s\t%s\n", c.name, s)
+		fmt.Fprintf(tw, "  %s\t%s\n", c.name, c.summary)
 	}
 	tw.Flush()
 	fmt.Fprintln(w)
 	fmt.Fprintln(w, "Run \"capcycle COMMAND -h\" for a command's flags and examples; flags may come")
 	fmt.Fprintln(w, "before or after the arguments. \"capcycle --version\" prints the version.")
 	fmt.Fprintln(w, "Exit codes: 0 ok, 1 the work failed, 2 bad usage or bad input.")
-}
-
-// notBuilt is the body of a subcommand that does not exist yet: it says so and fails.
-func notBuilt(name string) func(context.Context, []string, *env) error {
-	return func(context.Context, []string, *env) error {
-		return workErrorf("%s is not built yet; nothing was done", name)
-	}
 }

@@ -16,6 +16,7 @@ import (
 	"capcycle/analyze/model"
 	"capcycle/analyze/profile"
 	htmlreport "capcycle/analyze/report"
+	"capcycle/analyze/units"
 	"capcycle/firmware-protocol/virtualboard"
 	"capcycle/firmware-protocol/wire"
 	"capcycle/logger"
@@ -26,7 +27,6 @@ func demoCommand() *command {
 	return &command{
 		name:    "demo",
 		summary: "record an accelerated windowsill day from the virtual robot, analyse it and write reports",
-		built:   true,
 		run:     runDemo,
 	}
 }
@@ -47,17 +47,6 @@ const (
 	// conversions per sample (AVR121), which keeps a simulated day quick.
 	demoExtraBits = 1
 )
-
-// demoThr is the burst threshold in counts at the board's oversampled resolution:
-// half of on_v - off_v at the storage node, through ADC0's divider; at least 8 counts.
-func demoThr(p *profile.Profile, rig *model.Rig, ebits int) int {
-	swing := p.Trigger.OnV - p.Trigger.OffV
-	if !(swing > 0) || !(rig.RefV > 0) {
-		return 8
-	}
-	c := 0.5 * swing * rig.Div[0] / rig.RefV * float64(int(1)<<ebits)
-	return max(8, int(c))
-}
 
 // demoOptions are the demo's settings from its flags.
 type demoOptions struct {
@@ -113,7 +102,7 @@ func runDemo(ctx context.Context, args []string, e *env) error {
 	case o.board != "virtual" && o.board != "emulated":
 		return usageErrorf("--board %q: want virtual or emulated", o.board)
 	}
-	startS, err := clockSeconds(o.start)
+	startS, err := units.ParseClock(o.start)
 	if err != nil {
 		return usageErrorf("--start: %w", err)
 	}
@@ -193,7 +182,7 @@ func printOutcome(w io.Writer, out *demoOutcome, keep bool) {
 		fmt.Fprintf(w, "  first finding: %s\n", out.finding)
 	}
 	fmt.Fprintf(w, "  %d samples over %s, %d cycles (%d full); recorded in %.1f s, analysed in %.1f s\n",
-		r.Samples, demoDuration(r.DurationS), len(r.Cycles), full, out.recordS, out.analyseS)
+		r.Samples, units.Duration(r.DurationS), len(r.Cycles), full, out.recordS, out.analyseS)
 	if s := out.summary; s != nil && (s.Stats.Lost > 0 || s.Stats.BadFrames > 0) {
 		fmt.Fprintf(w, "  the recorder lost %d samples and dropped %d bad frames\n", s.Stats.Lost, s.Stats.BadFrames)
 	}
@@ -243,7 +232,7 @@ func demoScenario(ctx context.Context, name string, o *demoOptions, capDir strin
 	}
 	title := fmt.Sprintf("capcycle demo: %s, a day on the windowsill (%s board)", p.Name, o.board)
 	if o.hours != 24 || o.startS != 0 {
-		title = fmt.Sprintf("capcycle demo: %s, %s on the windowsill from %s (%s board)", p.Name, demoDuration(o.hours*3600), o.start, o.board)
+		title = fmt.Sprintf("capcycle demo: %s, %s on the windowsill from %s (%s board)", p.Name, units.Duration(o.hours*3600), o.start, o.board)
 	}
 	out.bundle, err = htmlreport.WriteBundle(o.out, name, res, &htmlreport.Options{Title: title, Overwrite: true})
 	if err != nil {
@@ -280,7 +269,7 @@ func recordVirtual(ctx context.Context, rig *model.Rig, p *profile.Profile, o *d
 	fl.EBits = min(16, rig.Bits+demoExtraBits)
 	bcfg := boardConfig(rig, src, fl)
 	bcfg.Speed = o.speed
-	bcfg.SlowHz, bcfg.FastHz, bcfg.Thr, bcfg.Pre, bcfg.Post = demoSlowHz, demoFastHz, demoThr(p, rig, fl.EBits), demoPre, demoPost
+	bcfg.SlowHz, bcfg.FastHz, bcfg.Thr, bcfg.Pre, bcfg.Post = demoSlowHz, demoFastHz, p.BurstThreshold(rig.Div[0], rig.RefV, fl.EBits), demoPre, demoPost
 	bcfg.TxQueue = 4096
 	var written logger.ByteCounter
 	bcfg.Tap = &written
@@ -318,21 +307,4 @@ func recordUntilDrained(ctx context.Context, lcfg *logger.Config, name string, r
 		return nil, workErrorf("%s: %w", name, err)
 	}
 	return s, nil
-}
-
-// clockSeconds reads a time of day "HH:MM" as seconds from midnight.
-func clockSeconds(s string) (float64, error) {
-	t, err := time.Parse("15:04", s)
-	if err != nil {
-		return 0, fmt.Errorf("%q: want HH:MM (24-hour clock)", s)
-	}
-	return float64(t.Hour()*3600 + t.Minute()*60), nil
-}
-
-// demoDuration prints a span of model time in hours, or minutes below an hour.
-func demoDuration(s float64) string {
-	if s >= 3600 {
-		return fmt.Sprintf("%.3g h", s/3600)
-	}
-	return fmt.Sprintf("%.3g min", s/60)
 }

@@ -65,7 +65,7 @@ func recordEmulated(ctx context.Context, emu *emulatedBoards, rig *model.Rig, p 
 	var read logger.ByteCounter
 	lcfg := &logger.Config{
 		Port: board.Path, Open: logger.CountingOpen(nil, &read), Out: path, Force: true,
-		SlowHz: demoSlowHz, FastHz: demoFastHz, Burst: &logger.Burst{Thr: uint32(demoThr(p, rig, emulatedEBits)), Pre: demoPre, Post: demoPost},
+		SlowHz: demoSlowHz, FastHz: demoFastHz, Burst: &logger.Burst{Thr: uint32(p.BurstThreshold(rig.Div[0], rig.RefV, emulatedEBits)), Pre: demoPre, Post: demoPost},
 		Notes: []string{"demo: the board firmware in simavr, its ADC driven by the circuit model"},
 	}
 	if err := recordFromProfile(lcfg, p, false); err != nil {

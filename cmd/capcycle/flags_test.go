@@ -176,8 +176,9 @@ func TestOnePrefixOnErrors(t *testing.T) {
 	if strings.Count(errs, "analyze:") != 1 || !strings.HasPrefix(errs, "capcycle analyze: ") || !strings.Contains(errs, "no-such-capture.csv") {
 		t.Errorf("want one prefix and the file name: %q", errs)
 	}
-	if got := trimPrefix("analyze: analyze: open x", "analyze"); got != "open x" {
-		t.Errorf("trimPrefix: %q", got)
+	var b strings.Builder
+	if report(&env{stderr: &b}, "analyze", workErrorf("analyze: analyze: open x")) != exitWork || b.String() != "capcycle analyze: open x\n" {
+		t.Errorf("report: %q", b.String())
 	}
 }
 

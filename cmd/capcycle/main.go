@@ -11,12 +11,12 @@
 package main
 
 import (
+	"capcycle/cmd/internal/cli"
 	"context"
 	"fmt"
 	"io"
 	"os"
 	"os/signal"
-	"strings"
 )
 
 func main() {
@@ -64,25 +64,6 @@ func run(ctx context.Context, args []string, e *env) int {
 	return report(e, c.name, c.run(ctx, args[1:], e))
 }
 
-// report prints err as one line on stderr and returns the exit code it stands for.
-// The line starts "capcycle NAME: " once: a message that starts with the command's name
-// already (a package's own prefix, "analyze: ...") does not repeat it.
-func report(e *env, name string, err error) int {
-	if err == nil {
-		return exitOK
-	}
-	code := exitCode(err)
-	if code == exitOK { // -h / --help
-		return exitOK
-	}
-	fmt.Fprintf(e.stderr, "capcycle %s: %s\n", name, trimPrefix(err.Error(), name))
-	return code
-}
-
-// trimPrefix removes every leading "name: " from msg.
-func trimPrefix(msg, name string) string {
-	for strings.HasPrefix(msg, name+": ") {
-		msg = msg[len(name)+2:]
-	}
-	return msg
-}
+// report prints err as one line on stderr and returns the exit code it stands for
+// (cli.Report).
+func report(e *env, name string, err error) int { return cli.Report(e.stderr, name, err) }

@@ -13,7 +13,6 @@ func portsCommand() *command {
 	return &command{
 		name:    "ports",
 		summary: "list serial ports and the boards that speak capcycle's protocol",
-		built:   true,
 		run:     runPorts,
 	}
 }

@@ -18,7 +18,6 @@ func profileCommand() *command {
 	return &command{
 		name:    "profile",
 		summary: "write a commented bench profile template, or check one",
-		built:   true,
 		run:     runProfile,
 	}
 }

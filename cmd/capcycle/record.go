@@ -23,7 +23,6 @@ func recordCommand() *command {
 	return &command{
 		name:    "record",
 		summary: "log a board's capacitor voltage to a capture file",
-		built:   true,
 		run:     runRecord,
 	}
 }
@@ -250,11 +249,11 @@ func recordFromProfile(cfg *logger.Config, p *profile.Profile, text bool) error 
 
 // recordUntil is the next time of day "HH:MM" after now, in now's location.
 func recordUntil(s string, now time.Time) (time.Time, error) {
-	t, err := time.Parse("15:04", s)
+	sec, err := units.ParseClock(s)
 	if err != nil {
 		return time.Time{}, usageErrorf("--until %q: want HH:MM (24-hour clock)", s)
 	}
-	u := time.Date(now.Year(), now.Month(), now.Day(), t.Hour(), t.Minute(), 0, 0, now.Location())
+	u := time.Date(now.Year(), now.Month(), now.Day(), 0, 0, int(sec), 0, now.Location())
 	if !u.After(now) {
 		u = u.AddDate(0, 0, 1)
 	}

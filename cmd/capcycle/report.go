@@ -13,6 +13,7 @@ import (
 	"capcycle/analyze"
 	"capcycle/analyze/analysis"
 	htmlreport "capcycle/analyze/report"
+	"capcycle/cmd/internal/cli"
 )
 
 // reportCommand is "capcycle report".
@@ -20,7 +21,6 @@ func reportCommand() *command {
 	return &command{
 		name:    "report",
 		summary: "write a self-contained HTML report of a capture",
-		built:   true,
 		run:     runReport,
 	}
 }
@@ -103,7 +103,7 @@ func writeOne(e *env, input string, r *analysis.Result, out string, fromJSON boo
 		return err
 	}
 	b := htmlreport.BundlePaths(dir, base)
-	if fromJSON && samePath(b.JSON, input) {
+	if fromJSON && cli.SameFile(b.JSON, input) {
 		return usageErrorf("the analysis JSON would be written over its own input %s; choose another --out", input)
 	}
 	if b, err = htmlreport.WriteBundle(dir, base, r, opts); err != nil {
@@ -150,7 +150,7 @@ func writeComparison(e *env, inputs []string, rs []*analysis.Result, out string,
 		return usageErrorf("--out %s: the comparison's name must end in .html", out)
 	}
 	for i, in := range inputs {
-		if samePath(out, in) || samePath(out, rs[i].Source.Path) {
+		if cli.SameFile(out, in) || cli.SameFile(out, rs[i].Source.Path) {
 			return usageErrorf("--out %s would write over the input %s", out, in)
 		}
 	}
@@ -167,19 +167,4 @@ func writeComparison(e *env, inputs []string, rs []*analysis.Result, out string,
 	la, lb := opts.LabelA, opts.LabelB
 	fmt.Fprintf(e.stdout, "%s: %s\n%s: %s\ncomparison: %s\n", la, htmlreport.Summary(rs[0]), lb, htmlreport.Summary(rs[1]), out)
 	return nil
-}
-
-// samePath reports whether a and b name the same file (or the same path, if neither exists).
-func samePath(a, b string) bool {
-	if a == "" || b == "" {
-		return false
-	}
-	if sa, err := os.Stat(a); err == nil {
-		if sb, err := os.Stat(b); err == nil {
-			return os.SameFile(sa, sb)
-		}
-	}
-	aa, err1 := filepath.Abs(a)
-	ab, err2 := filepath.Abs(b)
-	return err1 == nil && err2 == nil && aa == ab
 }

@@ -6,8 +6,6 @@ import (
 	"flag"
 	"fmt"
 	"io"
-	"math"
-	"strconv"
 	"strings"
 	"time"
 
@@ -24,7 +22,6 @@ func robotCommand() *command {
 	return &command{
 		name:    "robot",
 		summary: "run the virtual robot: the circuit model behind a virtual board on a pseudo-terminal",
-		built:   true,
 		run:     runRobot,
 	}
 }
@@ -32,7 +29,7 @@ func robotCommand() *command {
 // robotFlags are the flags of "capcycle robot"; the demo fills the same struct.
 type robotFlags struct {
 	scenario, profile string
-	speed             speedValue
+	speed             virtualboard.Speed
 	hours             float64
 	baud              int
 	seed              uint64
@@ -52,7 +49,7 @@ func newRobotFlags(w io.Writer) (*flag.FlagSet, *robotFlags) {
 		"capcycle robot --scenario fern --hours 8 --start 08:00",
 		"capcycle robot --profile wren.toml --noise-v 5m --seed 4",
 		"capcycle robot --link /tmp/ttyWREN --start 10:00 &  capcycle record --port /tmp/ttyWREN --duration 5m")
-	f := &robotFlags{noiseV: units.NewValue(2e-3, units.Volt, units.NonNegative), speed: speedValue{auto: true}}
+	f := &robotFlags{noiseV: units.NewValue(2e-3, units.Volt, units.NonNegative), speed: virtualboard.Speed{Auto: true}}
 	fs.StringVar(&f.scenario, "scenario", "", "built-in scenario: "+strings.Join(model.ScenarioNames(), " or ")+" (default wren when no --profile)")
 	fs.StringVar(&f.profile, "profile", "", "bench profile (TOML) whose circuit, light, ADC and channels the robot takes")
 	fs.Var(&f.speed, "speed", "how many times faster than real time the model runs: auto is the fastest the serial link carries whatever the board sends; 0 runs as fast as the host reads (nothing is lost)")
@@ -93,23 +90,9 @@ func (f *robotFlags) rig() (*model.Rig, error) {
 	if name == "" {
 		name = "wren"
 	}
-	sc, err := model.Scenario(name)
+	rig, err := model.ScenarioRig(name, wire.MaxChannels)
 	if err != nil {
 		return nil, usageErrorf("--scenario: %w", err)
-	}
-	rig := model.RigFromScene(sc)
-	// The board is wired as in the scenario's demo profile (Wren's vcell input, Fern's
-	// divider), when there is one.
-	if raw, err := model.ScenarioProfile(strings.ToLower(name)); err == nil {
-		p, err := profile.Parse(strings.ToLower(name)+".toml", raw)
-		if err != nil {
-			return nil, workErrorf("built-in profile: %w", err)
-		}
-		w, err := model.RigFromProfile(p, wire.MaxChannels)
-		if err != nil {
-			return nil, workErrorf("built-in profile: %w", err)
-		}
-		rig.Nodes, rig.Div, rig.VPerA, rig.Bits, rig.RefInternal, rig.RefV = w.Nodes, w.Div, w.VPerA, w.Bits, w.RefInternal, w.RefV
 	}
 	return rig, nil
 }
@@ -163,8 +146,8 @@ func (f *robotFlags) open(rig *model.Rig) (*model.RigSource, *virtualboard.Board
 	if err != nil {
 		return nil, nil, 0, lb, usageErrorf("robot: %w", err)
 	}
-	cfg.Speed = f.speed.v
-	if f.speed.auto {
+	cfg.Speed = f.speed.X
+	if f.speed.Auto {
 		cfg.Speed = virtualboard.AutoSpeed(lb.MaxSpeed)
 	}
 	b, err := virtualboard.Open(cfg)
@@ -172,32 +155,6 @@ func (f *robotFlags) open(rig *model.Rig) (*model.RigSource, *virtualboard.Board
 		return nil, nil, 0, lb, usageErrorf("robot: %w", err)
 	}
 	return src, b, cfg.Speed, lb, nil
-}
-
-// speedValue is the --speed flag: "auto" or a factor of real time, 0 or more.
-type speedValue struct {
-	auto bool
-	v    float64
-}
-
-func (s *speedValue) String() string {
-	if s == nil || s.auto {
-		return "auto"
-	}
-	return strconv.FormatFloat(s.v, 'g', -1, 64)
-}
-
-func (s *speedValue) Set(x string) error {
-	if strings.EqualFold(x, "auto") {
-		*s = speedValue{auto: true}
-		return nil
-	}
-	v, err := strconv.ParseFloat(x, 64)
-	if err != nil || v < 0 || math.IsNaN(v) || math.IsInf(v, 0) {
-		return fmt.Errorf("want auto or a factor of real time, 0 or more")
-	}
-	*s = speedValue{v: v}
-	return nil
 }
 
 func runRobot(ctx context.Context, args []string, e *env) error {
@@ -215,7 +172,7 @@ func runRobot(ctx context.Context, args []string, e *env) error {
 	if err != nil {
 		return err
 	}
-	if rig.StartS, err = clockSeconds(f.start); err != nil {
+	if rig.StartS, err = units.ParseClock(f.start); err != nil {
 		return usageErrorf("--start: %w", err)
 	}
 	src, b, speed, lb, err := f.open(rig)
@@ -226,7 +183,7 @@ func runRobot(ctx context.Context, args []string, e *env) error {
 
 	// The path alone on stdout, so that a script can read one line.
 	fmt.Fprintln(e.stdout, b.Path())
-	pace := virtualboard.DescribePace(speed, f.speed.auto, f.baud, lb)
+	pace := virtualboard.DescribePace(speed, f.speed.Auto, f.baud, lb)
 	fmt.Fprintf(e.stderr, "capcycle robot: %s on %s, %s, %g h of model time from %s; Ctrl-C stops\n",
 		rig.Name, b.Path(), pace[0], f.hours, f.start)
 	for _, w := range pace[1:] {

@@ -265,8 +265,8 @@ func TestRobotSpeedAuto(t *testing.T) {
 	// slow. A burst's S frame is at most 41 bytes ("!S 4294967295 4294967295 4095
 	// 4095 *XXXX\n"), so 4100 bytes a model second from the bursts alone, and a
 	// 115200-baud 8N1 link carries 11520 bytes a second: below 2.81x real time.
-	if !f.speed.auto || lb.LinkBytesPerS != 11520 || lb.PeakBytesPerS < 4100 {
-		t.Fatalf("auto %v, budget %+v", f.speed.auto, lb)
+	if !f.speed.Auto || lb.LinkBytesPerS != 11520 || lb.PeakBytesPerS < 4100 {
+		t.Fatalf("auto %v, budget %+v", f.speed.Auto, lb)
 	}
 	if speed > lb.MaxSpeed || speed < 0.9*lb.MaxSpeed || lb.MaxSpeed > 11520.0/4100 {
 		t.Errorf("auto speed %g; the link carries up to %g", speed, lb.MaxSpeed)

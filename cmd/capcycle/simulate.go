@@ -3,7 +3,6 @@ package main
 import (
 	"context"
 	"errors"
-	"flag"
 	"fmt"
 	"io"
 	"io/fs"
@@ -16,6 +15,7 @@ import (
 	"capcycle/analyze/model"
 	"capcycle/analyze/profile"
 	"capcycle/analyze/units"
+	"capcycle/cmd/internal/cli"
 	"capcycle/logger/capture"
 )
 
@@ -24,7 +24,6 @@ func simulateCommand() *command {
 	return &command{
 		name:    "simulate",
 		summary: "simulate a profile's circuit and write a capture file",
-		built:   true,
 		run:     runSimulate,
 	}
 }
@@ -67,7 +66,7 @@ func runSimulate(ctx context.Context, args []string, e *env) error {
 	if !(*hours > 0) || math.IsInf(*hours, 0) {
 		return usageErrorf("--hours %g: want a positive number of hours", *hours)
 	}
-	if rateSet := isSet(fset, "rate"); rateSet && (!(*rate > 0) || *rate > 100e3 || math.IsInf(*rate, 0)) {
+	if rateSet := cli.IsSet(fset, "rate"); rateSet && (!(*rate > 0) || *rate > 100e3 || math.IsInf(*rate, 0)) {
 		return usageErrorf("--rate %g: want a rate above 0 and up to 100000 Hz", *rate)
 	}
 	var setup *simulateSetup
@@ -85,20 +84,13 @@ func runSimulate(ctx context.Context, args []string, e *env) error {
 		setup.source += " light=" + units.Format(light.V, "W/m²")
 	}
 	pulse, what := model.ExpectedPulse(setup.circuit)
-	if !isSet(fset, "rate") {
+	if !cli.IsSet(fset, "rate") {
 		*rate = model.RateFor(pulse)
 	} else if pulse > 0 && *rate*pulse < model.MinSamplesPerPulse {
 		fmt.Fprintf(e.stderr, "capcycle simulate: warning: --rate %g Hz gives %.1f samples per %s of %s: pulses will be missed or flattened; use --rate %g or more (or leave --rate out)\n",
 			*rate, *rate*pulse, what, units.Format(pulse, "s"), model.RateFor(pulse))
 	}
 	return simulateTo(ctx, setup, *hours*3600, *rate, *out, *force, *current, e)
-}
-
-// isSet reports whether the flag name was given on the command line.
-func isSet(fs *flag.FlagSet, name string) bool {
-	set := false
-	fs.Visit(func(fl *flag.Flag) { set = set || fl.Name == name })
-	return set
 }
 
 func scenarioSetup(name string) (*simulateSetup, error) {

@@ -14,7 +14,6 @@ func versionCommand() *command {
 	return &command{
 		name:    "version",
 		summary: "print the version of capcycle and of the Go toolchain that built it",
-		built:   true,
 		run: func(ctx context.Context, args []string, e *env) error {
 			fs := newFlags("version", "", e.stderr, "capcycle version")
 			if err := parseFlags(fs, args); err != nil {

@@ -20,7 +20,6 @@ func whatifCommand() *command {
 	return &command{
 		name:    "whatif",
 		summary: "predict the effect of changing parts, or search for parts that reach a target",
-		built:   true,
 		run:     runWhatif,
 	}
 }

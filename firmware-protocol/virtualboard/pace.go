@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"strconv"
+	"strings"
 )
 
 // AutoSpeed is the speed a board runs at when asked for the fastest its link carries:
@@ -45,4 +46,33 @@ func byteCount(n float64) string {
 		return fmt.Sprintf("%.3g kB", n/1000)
 	}
 	return fmt.Sprintf("%.3g bytes", n)
+}
+
+// Speed is a board's pace as a person gives it (a flag): "auto", the fastest its link
+// carries (AutoSpeed), or X, a factor of real time, 0 or more (0: as fast as the host
+// reads).
+type Speed struct {
+	Auto bool
+	X    float64
+}
+
+func (s *Speed) String() string {
+	if s == nil || s.Auto {
+		return "auto"
+	}
+	return strconv.FormatFloat(s.X, 'g', -1, 64)
+}
+
+// Set reads "auto" or a factor of real time.
+func (s *Speed) Set(x string) error {
+	if strings.EqualFold(x, "auto") {
+		*s = Speed{Auto: true}
+		return nil
+	}
+	v, err := strconv.ParseFloat(x, 64)
+	if err != nil || v < 0 || math.IsNaN(v) || math.IsInf(v, 0) {
+		return fmt.Errorf("want auto or a factor of real time, 0 or more")
+	}
+	*s = Speed{X: v}
+	return nil
 }

@@ -4,6 +4,8 @@ import (
 	"errors"
 	"flag"
 	"fmt"
+	"io"
+	"strings"
 )
 
 // Exit codes shared by every subcommand.
@@ -50,4 +52,35 @@ func ExitCode(err error) int {
 		return ee.Code
 	}
 	return ExitWork
+}
+
+// Report prints err as one line on w and returns the exit code it stands for (0 for nil
+// and for -h). The line starts "PROGRAM NAME: " once: a message that starts with the
+// command's name already (a package's own prefix, "analyze: ...") does not repeat it.
+func Report(w io.Writer, name string, err error) int {
+	if err == nil {
+		return ExitOK
+	}
+	code := ExitCode(err)
+	if code == ExitOK { // -h / --help
+		return ExitOK
+	}
+	msg := err.Error()
+	for strings.HasPrefix(msg, name+": ") {
+		msg = msg[len(name)+2:]
+	}
+	fmt.Fprintf(w, "%s %s: %s\n", Program, name, msg)
+	return code
+}
+
+// UnknownCommand is the usage error for a command name that is not one of names, with
+// the nearest one when there is a close one.
+func UnknownCommand(name string, names []string) error {
+	if strings.HasPrefix(name, "-") {
+		return UsageErrorf("%s before a command: flags go after it (run \"%s help\")", name, Program)
+	}
+	if s := Suggest(name, names); s != "" {
+		return UsageErrorf("unknown command %q; did you mean %q? (run \"%s help\")", name, s, Program)
+	}
+	return UsageErrorf("unknown command %q (run \"%s help\")", name, Program)
 }

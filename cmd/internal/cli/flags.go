@@ -340,3 +340,10 @@ func (p *PerInput) ForInput(i int) string {
 	}
 	return ""
 }
+
+// IsSet reports whether the flag name was given on the command line.
+func IsSet(fs *flag.FlagSet, name string) bool {
+	set := false
+	fs.Visit(func(fl *flag.Flag) { set = set || fl.Name == name })
+	return set
+}

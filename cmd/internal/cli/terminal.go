@@ -4,23 +4,27 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"path/filepath"
 	"strings"
 	"time"
 
 	"golang.org/x/term"
 )
 
-// SameFile reports whether the paths a and b name the same existing file.
+// SameFile reports whether the paths a and b name the same file: the same existing file,
+// or, when either does not exist, the same absolute path. An empty path is no file.
 func SameFile(a, b string) bool {
-	sa, err := os.Stat(a)
-	if err != nil {
+	if a == "" || b == "" {
 		return false
 	}
-	sb, err := os.Stat(b)
-	if err != nil {
-		return false
+	if sa, err := os.Stat(a); err == nil {
+		if sb, err := os.Stat(b); err == nil {
+			return os.SameFile(sa, sb)
+		}
 	}
-	return os.SameFile(sa, sb)
+	aa, err1 := filepath.Abs(a)
+	ab, err2 := filepath.Abs(b)
+	return err1 == nil && err2 == nil && aa == ab
 }
 
 // IsTerminal reports whether w is a terminal.
