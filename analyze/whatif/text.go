@@ -80,8 +80,11 @@ var textLines = []struct {
 }
 
 func opt(v *float64, unit string) string {
-	if v == nil {
+	switch {
+	case v == nil:
 		return "—"
+	case unit == units.Second:
+		return units.Duration(*v)
 	}
 	return units.Format(*v, unit)
 }
