@@ -238,7 +238,12 @@ func placeEvents(sum *detect.Summary, info []swingInfo) {
 			c.ChargeS += shift - prevShift
 		}
 		prevShift = 0
-		if reset.ok && reset.t > c.FireS {
+		// A fall with a step up as the switch opened (a series resistance, see
+		// detect.Swing.ReleaseStepV) was released at the true minimum, before the step:
+		// the recharge after it starts above that minimum by the step, so where the two
+		// curves meet is no reset; the detector's stays.
+		esrStep := c.Swing >= 0 && c.Swing < len(sum.Swings) && sum.Swings[c.Swing].ReleaseStepV > 0
+		if reset.ok && reset.t > c.FireS && !esrStep {
 			prevShift = reset.t - c.ResetS
 			c.ResetS, c.ResetV = reset.t, reset.v
 		}

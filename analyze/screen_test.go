@@ -42,8 +42,13 @@ func TestWildSampleDropped(t *testing.T) {
 		if f == nil || f.Severity != analysis.Warn || f.Numbers["wild_samples"] != 1 {
 			t.Fatalf("wild sample at %d: finding %+v", at, f)
 		}
-		if res.Fit.Trigger.OnV.Value != clean.Fit.Trigger.OnV.Value {
-			t.Errorf("wild sample at %d: on_v %g, clean %g", at, res.Fit.Trigger.OnV.Value, clean.Fit.Trigger.OnV.Value)
+		// Dropping one sample of 60,000 moves the detector's averaged points a little, and
+		// with them the fire located between samples (events.go), so on_v is not the same
+		// to the last bit; the wild value itself must not show: the change stays under a
+		// tenth of on_v's own standard uncertainty.
+		on, cleanOn := res.Fit.Trigger.OnV, clean.Fit.Trigger.OnV
+		if cleanOn.SD == nil || math.Abs(on.Value-cleanOn.Value) > 0.1**cleanOn.SD {
+			t.Errorf("wild sample at %d: on_v %g, clean %g ± %v", at, on.Value, cleanOn.Value, cleanOn.SD)
 		}
 	}
 }
