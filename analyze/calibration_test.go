@@ -81,10 +81,11 @@ func (c *coverage) check(t *testing.T, lo, hi float64) {
 	t.Log(b.String())
 }
 
-// realisations is the number of noise realisations per scenario: enough in -short for a
+// realisations is the number of noise realisations per scenario: enough in -short (and
+// under the race detector, which slows arithmetic tenfold and finds nothing in it) for a
 // coverage within a few per cent, more in the long run.
 func realisations() int {
-	if testing.Short() {
+	if testing.Short() || raceEnabled {
 		return 150
 	}
 	return 400
