@@ -85,7 +85,7 @@ func dayFigure(id string, r *analysis.Result, o *Options) (figure, string) {
 	plots[len(plots)-1].X.Label.Text = "time since the capture started (" + tu + ")"
 	caption += "."
 
-	h := vg.Points(190 + 80*float64(len(plots)-1))
+	h := vg.Points(190 + 110*float64(len(plots)-1))
 	alt := "Capacitor voltage over the capture with fires marked"
 	svg, err := renderSVG(id, figW, h, alt, func(dc draw.Canvas) error {
 		stack(legendRows(dc, legend), plots, weights, vg.Points(4))
@@ -210,7 +210,7 @@ func firesPanel(r *analysis.Result, span, xmax, div float64) (*plot.Plot, []lege
 		return nil, nil
 	}
 	var item []legendItem
-	pf := newPlot("", "full fires per hour")
+	pf := newPlot("", "fires per hour")
 	pf.Y.Tick.Marker = niceTicks{N: 3}
 	pf.X.Min, pf.X.Max, pf.Y.Min = 0, xmax, 0
 	var ymax float64
