@@ -1,6 +1,8 @@
 package report
 
 import (
+	"math"
+	"strconv"
 	"strings"
 )
 
@@ -48,7 +50,7 @@ func numberLabel(key string, v float64) (label, value string) {
 		case "ratio":
 			return w.label, plainSig(100*v, 2) + " %"
 		case "count":
-			return w.label, plainSig(v, 6)
+			return w.label, strconv.FormatFloat(math.Round(v), 'f', 0, 64)
 		case "×":
 			return w.label, plainSig(v, 2) + " ×"
 		case "W/m²":
