@@ -56,7 +56,7 @@ func File(ctx context.Context, path string, opts *Options) (*analysis.Result, er
 // heldOut fits the circuit on the first half of the capture f (by size) and predicts the
 // cycles after it. It needs at least eight full cycles in each half; nil without them.
 func heldOut(ctx context.Context, res *analysis.Result, f *os.File, opts *Options) (*analysis.ErrorSummary, error) {
-	if countFull(res.Cycles) < 16 {
+	if full, _ := analysis.CountCycles(res.Cycles); full < 16 {
 		return nil, nil
 	}
 	nominal, _, err := model.FromProfile(opts.Profile)
@@ -95,16 +95,6 @@ func heldOut(ctx context.Context, res *analysis.Result, f *os.File, opts *Option
 	}
 	fitted, _ := predict.Fitted(nominal, first)
 	return predict.HeldOut(res, fitted, split+1e-9), nil
-}
-
-func countFull(cs []analysis.Cycle) int {
-	n := 0
-	for _, c := range cs {
-		if c.Kind == analysis.CycleFull {
-			n++
-		}
-	}
-	return n
 }
 
 // halfAtLine returns the offset just after the first newline at or past the middle of f.

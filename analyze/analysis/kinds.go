@@ -120,3 +120,16 @@ const (
 	// SourceModel is the model's discrepancy: the fitted form is not the circuit's own.
 	SourceModel UncertaintySource = "model"
 )
+
+// CountCycles counts the full cycles and the chatter among cs.
+func CountCycles(cs []Cycle) (full, chatter int) {
+	for _, c := range cs {
+		switch c.Kind {
+		case CycleFull:
+			full++
+		case CycleChatter:
+			chatter++
+		}
+	}
+	return full, chatter
+}

@@ -86,22 +86,12 @@ func (d *diag) add(code string, sev analysis.Severity, msg, sugg string, nums ma
 }
 
 func (d *diag) chatterCycles() int {
-	n := 0
-	for _, c := range d.r.Cycles {
-		if c.Kind == analysis.CycleChatter {
-			n++
-		}
-	}
+	_, n := analysis.CountCycles(d.r.Cycles)
 	return n
 }
 
 func (d *diag) fullCycles() int {
-	n := 0
-	for _, c := range d.r.Cycles {
-		if c.Kind == analysis.CycleFull {
-			n++
-		}
-	}
+	n, _ := analysis.CountCycles(d.r.Cycles)
 	return n
 }
 

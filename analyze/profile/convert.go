@@ -63,9 +63,6 @@ func (c *conv) profile(r *rawProfile) *Profile {
 			c.fail("channel", ErrMissing, "no [[channel]] table: at least one ADC channel must read the storage capacitor (node = \"vcap\")")
 		}
 	})
-	if len(errs) == 0 {
-		part(func() { c.cross(p, r) })
-	}
 	c.err = nil
 	for _, e := range errs {
 		if c.err == nil || (e.Line > 0 && (c.err.Line == 0 || e.Line < c.err.Line)) {
@@ -73,15 +70,6 @@ func (c *conv) profile(r *rawProfile) *Profile {
 		}
 	}
 	return p
-}
-
-// cross checks what needs more than one table.
-func (c *conv) cross(p *Profile, r *rawProfile) {
-	if c.err != nil || r.Trigger == nil || r.Cell == nil {
-		return
-	}
-	// A plateau trigger with no on_v arms above its release whatever off_v is (see
-	// PlateauArmV): nothing to refuse here yet.
 }
 
 func (c *conv) requireTable(name string, ok bool) {

@@ -45,14 +45,7 @@ func writeVerdict(w io.Writer, res *analysis.Result) {
 }
 
 func writeMeasured(w io.Writer, res *analysis.Result) {
-	full, chatter := 0, 0
-	for _, c := range res.Cycles {
-		if c.Kind == analysis.CycleChatter {
-			chatter++
-		} else {
-			full++
-		}
-	}
+	full, chatter := analysis.CountCycles(res.Cycles)
 	fmt.Fprintf(w, "%s: %d samples over %s", res.Source.Path, res.Samples, units.Duration(res.DurationS))
 	if res.Noise != nil {
 		fmt.Fprintf(w, ", noise %s", units.Format(res.Noise.RMSV, units.Volt))

@@ -74,14 +74,7 @@ func Summary(r *analysis.Result) Sentence { return verdict(r, " in the report") 
 // report" on the comparison page, which does not list them).
 func verdict(r *analysis.Result, where string) Sentence {
 	var s sentence
-	full, chatter := 0, 0
-	for _, c := range r.Cycles {
-		if c.Kind == analysis.CycleChatter {
-			chatter++
-		} else {
-			full++
-		}
-	}
+	full, chatter := analysis.CountCycles(r.Cycles)
 	faults, warns := 0, 0
 	for _, f := range r.Findings {
 		switch f.Severity {

@@ -171,12 +171,7 @@ func demo(ctx context.Context, o *demoOptions, e *env) error {
 
 func printOutcome(w io.Writer, out *demoOutcome, keep bool) {
 	r := out.result
-	full := 0
-	for _, c := range r.Cycles {
-		if c.Kind == analysis.CycleFull {
-			full++
-		}
-	}
+	full, _ := analysis.CountCycles(r.Cycles)
 	fmt.Fprintf(w, "%s: %s\n", r.Source.Profile, out.verdict)
 	if out.finding != "" {
 		fmt.Fprintf(w, "  first finding: %s\n", out.finding)
